@@ -1,0 +1,25 @@
+"""derivpad: step-by-step, self-checked Laplace-transform derivations for engineering calc records.
+
+The supported names are listed in ``__all__``; everything else is internal.
+"""
+
+from . import forcing
+from .core.derivation import Derivation
+from .core.engine import derive
+from .core.problem import Problem
+from .core.rules import RULES
+from .core.steps import Line, Rule, Step
+from .core.verify import Check, Verification
+from .errors import (DerivpadError, EquationError, ForcingError, InitialConditionError,
+                     NonlinearTermError, ParameterError, ParseError, SolveError,
+                     UnknownNameError, UnsafeInputError, VariableCoefficientError,
+                     VerificationFailedError)
+
+__version__ = "0.1.0"
+
+__all__ = sorted([
+    "Check", "Derivation", "DerivpadError", "EquationError", "ForcingError",
+    "InitialConditionError", "Line", "NonlinearTermError", "ParameterError", "ParseError",
+    "Problem", "RULES", "Rule", "SolveError", "Step", "UnknownNameError", "UnsafeInputError",
+    "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "forcing",
+])

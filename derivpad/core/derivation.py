@@ -1,0 +1,122 @@
+"""The Derivation value object: the steps, the solved transform, the solution, its checks.
+
+It is plain data with one canonical JSON-safe form (``to_dict``). Display methods
+(``to_latex``, ``to_text``) import ``derivpad.render`` inside their bodies, so loading the core
+never loads printing.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import sympy as sp
+
+from .parse import T
+from .problem import Problem, derivative_name
+from .steps import Step
+from .verify import Verification
+
+__all__ = ["Derivation"]
+
+
+@dataclass(frozen=True, slots=True)
+class Derivation:
+    """A complete Laplace-transform derivation of one linear ODE, checked by the engine.
+
+    Attributes
+    ----------
+    problem : Problem
+    steps : tuple of Step, in order (problem, transform, derivatives, solve, decompose,
+        invert, assemble)
+    transform : the solved transform Y(s), delay factors e^{-cs} in front of their parts
+    solution : y(t) for t ≥ 0 in Heaviside form
+    intervals : ((start, expression), ...): the solution on [start, next start)
+    assumptions : stated assumptions, as sentences
+    verification : the engine's own checks
+    """
+
+    problem: Problem
+    steps: tuple[Step, ...]
+    transform: sp.Expr
+    solution: sp.Expr
+    intervals: tuple[tuple[sp.Expr, sp.Expr], ...]
+    impulses: tuple[tuple[sp.Expr, sp.Expr], ...]
+    poles: tuple
+    assumptions: tuple[str, ...]
+    conditions: tuple[sp.Basic, ...]
+    verification: Verification
+    notes: tuple[str, ...] = ()
+    _cache: dict = field(default_factory=dict, compare=False, repr=False)
+
+    # -- values -------------------------------------------------------------------------
+    @property
+    def unknown(self) -> str:
+        return self.problem.unknown
+
+    @property
+    def breakpoints(self) -> tuple[sp.Expr, ...]:
+        """Times after 0 where the forcing switches or strikes."""
+        return tuple(c for c, _ in self.intervals[1:])
+
+    def piecewise(self) -> sp.Piecewise:
+        """The solution as a Piecewise in t, interval by interval (valid for t ≥ 0)."""
+        args = []
+        for i, (start, expr) in enumerate(self.intervals):
+            if i + 1 < len(self.intervals):
+                args.append((expr, T < self.intervals[i + 1][0]))
+            else:
+                args.append((expr, True))
+        return sp.Piecewise(*args)
+
+    def __call__(self, times):
+        """Evaluate y(t) with NumPy at the given times (t ≥ 0; NaN before 0), compiled once.
+
+        At a breakpoint the value from the right is returned.
+        """
+        if self.problem.symbols:
+            from ..errors import ParameterError
+            msg = ("the solution still has symbolic parameters "
+                   f"({', '.join(self.problem.symbols)}); derive again with params= giving "
+                   "their values to evaluate it")
+            raise ParameterError(msg)
+        fn = self._cache.get("numpy")
+        if fn is None:
+            fn = sp.lambdify(T, self.solution, modules=[{"Heaviside": _heaviside}, "numpy"])
+            self._cache["numpy"] = fn
+        t = np.asarray(times, dtype=float)
+        with np.errstate(invalid="ignore", over="ignore"):
+            out = np.asarray(fn(t), dtype=float) * np.ones_like(t)
+        return np.where(t >= 0, out, np.nan)
+
+    # -- serialisation ------------------------------------------------------------------
+    def to_dict(self) -> dict:
+        """The canonical JSON-safe form: text, LaTeX and a SymPy-readable form of each result."""
+        from ..render.serial import derivation_to_dict  # lazy: printing lives in render/
+        return derivation_to_dict(self)
+
+    # -- display façade -----------------------------------------------------------------
+    def to_latex(self, **settings) -> str:
+        """The whole derivation as a LaTeX document body."""
+        from ..render.latex import to_latex
+        return to_latex(self, **settings)
+
+    def to_text(self, **settings) -> str:
+        """The whole derivation as readable terminal text."""
+        from ..render.text import to_text
+        return to_text(self, **settings)
+
+    def __repr__(self) -> str:
+        return (f"<Derivation {self.problem.text!r}: {len(self.steps)} steps, "
+                f"verification {'passed' if self.verification.passed else 'FAILED'}>")
+
+    def describe_initial_conditions(self) -> tuple[str, ...]:
+        """Plain text of the initial conditions, y(0⁻) = ...."""
+        return tuple(f"{derivative_name(self.unknown, k)}(0-) = {sp.sstr(v)}"
+                     for k, v in enumerate(self.problem.initial_values))
+
+
+def _heaviside(x, *args):
+    """u(x) with u(0) = 1: the value just after a switching time (right-continuous)."""
+    return np.heaviside(x, 1.0)
+

@@ -1,0 +1,249 @@
+"""Partial fractions of one rational part N(s)/D(s) over the reals, with each coefficient's work.
+
+For a pole p of multiplicity m, the coefficients of 1/(s - p)^k are the Taylor coefficients at
+p of N(s)/G(s), G = D/(s - p)^m (the cover-up method for m = 1, derivatives for m > 1). They are
+found by series arithmetic at p: N and G expanded in h = s - p, then one series division,
+which is the same for exact and for 50-digit numerical poles.
+
+A complex pair α ± iβ is worked with real placeholder symbols for α and β, so the real and
+imaginary parts of the coefficient are plain algebra; the pair is then written with the
+square completed, (B(s - α) + Cβ)/((s - α)² + β²), B = 2 Re A, C = -2 Im A.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from math import factorial
+
+import mpmath
+import sympy as sp
+
+from ..errors import SolveError
+from .algebra import WORKING_DIGITS, Pole, PoleSet
+from .parse import S
+from .rules import rule
+from .steps import Line, Step
+
+__all__ = ["FractionTerm", "partial_fractions", "fraction_steps"]
+
+_ALPHA = sp.Symbol("alpha_p", real=True)
+_BETA = sp.Symbol("beta_p", positive=True)
+
+
+@dataclass(frozen=True, slots=True)
+class FractionTerm:
+    """A/(s - p)^k for a real pole; for a complex pair, A = re + i·im belongs to α + iβ."""
+
+    pole: Pole
+    power: int
+    re: sp.Expr
+    im: sp.Expr = sp.Integer(0)
+
+    @property
+    def expr(self) -> sp.Expr:
+        """The term as a function of s (a complex pair with k = 1: square completed)."""
+        p, k = self.pole, self.power
+        if p.kind == "real":
+            return self.re / (S - p.value) ** k
+        a, b = p.alpha, p.beta
+        if k == 1:
+            B, C = 2 * self.re, -2 * self.im
+            return (B * (S - a) + C * b) / ((S - a) ** 2 + b ** 2)
+        A = self.re + sp.I * self.im
+        Abar = self.re - sp.I * self.im
+        return A / (S - a - sp.I * b) ** k + Abar / (S - a + sp.I * b) ** k
+
+
+def _taylor(coeffs: list, p, m: int) -> list:
+    """First m Taylor coefficients at p of the polynomial with coefficients (highest first)."""
+    out = []
+    c = list(coeffs)
+    for _ in range(m):
+        if not c:
+            out.append(0)
+            continue
+        acc, q = 0, []
+        for a in c:
+            acc = acc * p + a
+            q.append(acc)
+        out.append(q[-1])
+        c = q[:-1]
+    return out
+
+
+def _mul(a: list, b: list, m: int) -> list:
+    out = [0] * m
+    for i, x in enumerate(a[:m]):
+        if x == 0:
+            continue
+        for j, y in enumerate(b[:m - i]):
+            out[i + j] += x * y
+    return out
+
+
+def _power(base: list, n: int, m: int) -> list:
+    out = [1] + [0] * (m - 1)
+    for _ in range(n):
+        out = _mul(out, base, m)
+    return out
+
+
+def _divide(num: list, den: list, m: int) -> list:
+    q = []
+    for k in range(m):
+        acc = num[k] - sum(den[j] * q[k - j] for j in range(1, k + 1) if j < len(den))
+        q.append(acc / den[0])
+    return q
+
+
+def _coefficients(num_coeffs, poles: PoleSet, target: Pole, p, own_factor, lead) -> list:
+    """Laurent coefficients [A_m, ..., A_1] at root p of N/D (D given by its poles)."""
+    m = target.multiplicity
+    g = [lead] + [0] * (m - 1)
+    for q in poles.poles:
+        if q is target:
+            continue
+        d = p - q.value
+        if q.kind == "real":
+            g = _mul(g, _power([d, 1], q.multiplicity, m), m)
+        else:
+            g = _mul(g, _power([d * d + q.beta ** 2, 2 * d, 1], q.multiplicity, m), m)
+    if own_factor is not None:  # the conjugate root of the target's own pair: (s - p̄)^m
+        g = _mul(g, _power([own_factor, 1], m, m), m)
+    n = _taylor(num_coeffs, p, m)
+    return _divide(n, g, m)
+
+
+def _re_im(expr: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
+    """Real and imaginary parts of an expression in which every symbol is real."""
+    num, den = sp.fraction(sp.together(expr))
+    den_c = den.subs(sp.I, -sp.I)
+    n = sp.expand(num * den_c)
+    d = sp.expand(den * den_c)
+    n_c = n.subs(sp.I, -sp.I)
+    return sp.expand((n + n_c) / 2) / d, sp.expand((n - n_c) / (2 * sp.I)) / d
+
+
+def _tidy(expr: sp.Expr, symbolic: bool) -> sp.Expr:
+    """Exact coefficients in their plainest form: factored if symbolic, radicals rationalised."""
+    expr = sp.cancel(expr)
+    return sp.factor(expr) if symbolic else sp.radsimp(expr)
+
+
+def partial_fractions(numerator: sp.Expr, poles: PoleSet) -> list[FractionTerm]:
+    """Every term of N(s)/D(s) = Σ over poles Σ_k A_k/(s - p)^k (complex pairs combined)."""
+    N = sp.Poly(sp.expand(numerator), S)
+    deg_d = sum(p.multiplicity * (1 if p.kind == "real" else 2) for p in poles.poles)
+    if N.degree() >= deg_d:
+        raise SolveError(f"the transform is not strictly proper (numerator degree {N.degree()}, "
+                         f"denominator degree {deg_d}); the forcing would need derivatives of "
+                         "the impulse")
+    if N.is_zero:
+        return []
+    if poles.numeric or any(c.has(sp.Float) for c in N.all_coeffs()):
+        return _numeric_fractions(N, poles)
+    symbolic = bool(N.free_symbols - {S}) or any(
+        (p.value.free_symbols or p.beta.free_symbols) for p in poles.poles)
+    coeffs = N.all_coeffs()
+    terms: list[FractionTerm] = []
+    for target in poles.poles:
+        m = target.multiplicity
+        if target.kind == "real":
+            A = _coefficients(coeffs, poles, target, target.value, None, poles.leading)
+            for j, a in enumerate(A):
+                value = _tidy(a, symbolic)
+                if value != 0:
+                    terms.append(FractionTerm(target, m - j, value))
+        else:
+            p = _ALPHA + sp.I * _BETA
+            place = {_ALPHA: target.alpha, _BETA: target.beta}
+            A = _coefficients(coeffs, poles, target, p, 2 * sp.I * _BETA, poles.leading)
+            for j, a in enumerate(A):
+                re, im = _re_im(sp.cancel(a))
+                re = _tidy(sp.cancel(re).subs(place), symbolic)
+                im = _tidy(sp.cancel(im).subs(place), symbolic)
+                if re != 0 or im != 0:
+                    terms.append(FractionTerm(target, m - j, re, im))
+    return terms
+
+
+def _numeric_fractions(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
+    if N.free_symbols - {S}:
+        raise SolveError("numerical poles need numerical parameter values; give values for "
+                         + ", ".join(sorted(str(x) for x in N.free_symbols - {S})))
+    with mpmath.workdps(WORKING_DIGITS):
+        mp = lambda x: mpmath.mpmathify(sp.N(x, WORKING_DIGITS + 5))  # noqa: E731
+        coeffs = [mp(c) for c in N.all_coeffs()]
+        num_poles = PoleSet(mp(poles.leading), tuple(
+            Pole(q.kind, mp(q.value), mp(q.beta), q.multiplicity, True) for q in poles.poles))
+        terms = []
+        for target_sym, target in zip(poles.poles, num_poles.poles):
+            m = target.multiplicity
+            if target.kind == "real":
+                A = _coefficients(coeffs, num_poles, target, target.value, None, num_poles.leading)
+                for j, a in enumerate(A):
+                    terms.append(FractionTerm(target_sym, m - j, _float(mpmath.re(a))))
+            else:
+                p = mpmath.mpc(target.value, target.beta)
+                A = _coefficients(coeffs, num_poles, target, p, 2j * target.beta,
+                                  num_poles.leading)
+                for j, a in enumerate(A):
+                    terms.append(FractionTerm(target_sym, m - j, _float(mpmath.re(a)),
+                                              _float(mpmath.im(a))))
+    return [t for t in terms if t.re != 0 or t.im != 0]
+
+
+def _float(x) -> sp.Float:
+    return sp.Float(x, 20)
+
+
+def _pole_text(p: Pole) -> str:
+    if p.kind == "real":
+        return f"s = {sp.sstr(p.value)}"
+    return f"s = {sp.sstr(p.alpha)} ± i·{sp.sstr(p.beta)}"
+
+
+def fraction_steps(label: str, rational: sp.Expr, poles: PoleSet,
+                   terms: list[FractionTerm]) -> Step:
+    """The decomposition of one rational part as a step, one sub-step per pole."""
+    subs = []
+    used = {}
+    for pole in poles.poles:
+        own = [t for t in terms if t.pole is pole]
+        if not own:
+            continue
+        if pole.kind == "real":
+            r = rule("pf_simple" if pole.multiplicity == 1 else "pf_repeated")
+            lines = tuple(Line(sp.Symbol(f"A_{t.power}"), t.re, "=",
+                               "cover-up at " + _pole_text(pole) if pole.multiplicity == 1
+                               else f"derivative of order {pole.multiplicity - t.power} of "
+                                    f"(s - p)^{pole.multiplicity}·R(s) at {_pole_text(pole)}")
+                          for t in own)
+            note = ("Simple real pole: the coefficient is the rest of the fraction evaluated at "
+                    "the pole (cover-up)." if pole.multiplicity == 1 else
+                    f"Real pole of multiplicity {pole.multiplicity}: coefficients from "
+                    "derivatives of the covered-up fraction.")
+        else:
+            r = rule("pf_complex_pair")
+            lines = []
+            for t in own:
+                lines.append(Line(sp.Symbol(f"A_{t.power}"), t.re + sp.I * t.im, "=",
+                                  f"residue at {sp.sstr(pole.alpha)} + i·{sp.sstr(pole.beta)}"))
+                if t.power == 1:
+                    lines.append(Line(sp.Symbol("B"), 2 * t.re, "=", "2 Re A"))
+                    lines.append(Line(sp.Symbol("C"), -2 * t.im, "=", "-2 Im A"))
+            lines = tuple(lines)
+            note = ("Complex-conjugate pair: the conjugate pole has the conjugate coefficient; "
+                    "together they make one real quadratic term with the square completed.")
+        used[r.id] = r
+        if pole.numeric:
+            note += f" The pole was found numerically ({WORKING_DIGITS} digits)."
+            used["numeric_roots"] = rule("numeric_roots")
+        subs.append(Step(f"Pole {_pole_text(pole)}" + (f" (multiplicity {pole.multiplicity})"
+                                                        if pole.multiplicity > 1 else ""),
+                         r, lines, note))
+    total = sp.Add(*[t.expr for t in terms]) if terms else sp.Integer(0)
+    lines = (Line(sp.Symbol(label), rational, "="), Line(sp.Symbol(label), total, "="))
+    return Step("Partial fractions of " + label, next(iter(used.values()), None), lines,
+                "Split over the real poles of the denominator; each coefficient is worked in "
+                "its own sub-step.", tuple(subs), tuple(used.values()))

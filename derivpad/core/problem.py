@@ -1,0 +1,343 @@
+"""The Problem value object: one linear constant-coefficient ODE with its initial conditions.
+
+``make_problem`` turns user input (text or a SymPy ``Eq``; conditions keyed by text or SymPy
+objects; parameter values) into a checked :class:`Problem`: linear in the unknown, constant
+coefficients, one condition for each order below the ODE's, all at t = 0⁻.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from numbers import Number
+
+import sympy as sp
+
+from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
+                      ParseError, VariableCoefficientError)
+from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
+
+__all__ = ["Problem", "make_problem", "to_exact", "derivative_name"]
+
+
+def derivative_name(unknown: str, order: int) -> str:
+    """Plain-text name of a derivative: y, y', y'', y''', y^(4)."""
+    return unknown + ("'" * order if order <= 3 else f"^({order})")
+
+
+@dataclass(frozen=True, slots=True)
+class Problem:
+    """A linear ODE a_n y^(n) + ... + a_0 y = f(t) for t > 0 with y^(k)(0⁻) given.
+
+    ``coefficients`` run from a_0 to a_n; ``parameters`` are the values substituted;
+    ``symbols`` are the parameter names left symbolic (taken as positive reals).
+    """
+
+    text: str
+    unknown: str
+    coefficients: tuple[sp.Expr, ...]
+    forcing: sp.Expr
+    initial_values: tuple[sp.Expr, ...]
+    parameters: tuple[tuple[str, sp.Expr], ...]
+    symbols: tuple[str, ...]
+
+    @property
+    def order(self) -> int:
+        return len(self.coefficients) - 1
+
+    @property
+    def function(self) -> sp.Expr:
+        """The unknown as an applied SymPy function y(t)."""
+        return sp.Function(self.unknown)(T)
+
+    @property
+    def lhs(self) -> sp.Expr:
+        """Σ a_k y^(k), the left side with parameter values substituted."""
+        y = self.function
+        return sp.Add(*[a * (y.diff(T, k) if k else y)
+                        for k, a in reversed(list(enumerate(self.coefficients))) if a != 0])
+
+    @property
+    def equation(self) -> sp.Eq:
+        return sp.Eq(self.lhs, self.forcing, evaluate=False)
+
+    def copy_with(self, **changes) -> "Problem":
+        """A new Problem with some fields replaced (problems are immutable)."""
+        fields = {name: getattr(self, name) for name in self.__dataclass_fields__}
+        fields.update(changes)
+        return Problem(**fields)
+
+
+def to_exact(value, name: str) -> sp.Expr:
+    """A parameter or condition value as an exact SymPy number (decimals read as written)."""
+    if isinstance(value, bool):
+        raise ParameterError(f"{name}: {value!r} is not a number; give a number such as 2.5",
+                             name)
+    if isinstance(value, sp.Basic):
+        expr = sp.sympify(value)  # safe: a SymPy object, never text
+        if expr.has(sp.nan, sp.oo, -sp.oo, sp.zoo):
+            raise ParameterError(f"{name}: {value} is not finite; give a finite number", name)
+        if isinstance(expr, sp.Float):
+            return sp.Rational(Fraction(str(expr)))
+        return expr
+    if isinstance(value, int):
+        return sp.Integer(value)
+    if isinstance(value, Fraction):
+        return sp.Rational(value.numerator, value.denominator)
+    if isinstance(value, float) or isinstance(value, Number):
+        try:
+            f = float(value)
+        except (TypeError, ValueError):
+            f = math.nan
+        if not math.isfinite(f):
+            raise ParameterError(f"{name}: {value!r} is not finite; give a finite number", name)
+        # repr gives the shortest decimal that round-trips: 0.8 is read as 4/5.
+        frac = Fraction(repr(f))
+        return sp.Rational(frac.numerator, frac.denominator)
+    if isinstance(value, str):
+        try:
+            expr = parse_value(value, what=f"value of {name}")
+        except ParseError as exc:
+            raise ParameterError(f"{name}: cannot read {value!r} as a number: {exc.reason}",
+                                 name) from exc
+        if expr.has(T):
+            raise ParameterError(f"{name}: a value may not depend on t ({value!r})", name)
+        return expr
+    raise ParameterError(f"{name}: {value!r} ({type(value).__name__}) is not a number; give an "
+                         "int, float, Fraction or numeric text", name)
+
+
+_IC_KEY = re.compile(r"^\s*([A-Za-z][A-Za-z_0-9]*)\s*('*|\^\(\s*(\d+)\s*\))\s*\(\s*(.*?)\s*\)\s*$")
+_ZERO_POINTS = {"0", "0-", "0^-", "0⁻", "-0"}
+
+
+def _ic_key_order(key, unknown: str) -> int:
+    """The derivative order an initial-condition key names; checks it is the unknown at 0."""
+    if isinstance(key, sp.Basic):
+        return _sympy_ic_order(key, unknown)
+    if not isinstance(key, str):
+        raise InitialConditionError(
+            f"initial-condition key {key!r} must be text such as \"{unknown}'(0)\" or a SymPy "
+            f"object such as {unknown}(0)", key=str(key))
+    m = _IC_KEY.match(key)
+    if not m:
+        raise InitialConditionError(
+            f"cannot read the initial-condition key {key!r}; write it as \"{unknown}(0)\", "
+            f"\"{unknown}'(0)\", \"{unknown}''(0)\" or \"{unknown}^(3)(0)\"", key=key)
+    name, primes, number, point = m.groups()
+    if name != unknown:
+        raise InitialConditionError(
+            f"initial condition {key!r} names {name!r}, but the unknown is {unknown!r}", key=key)
+    if point.replace(" ", "") not in _ZERO_POINTS:
+        raise InitialConditionError(
+            f"initial condition {key!r} is given at t = {point}; the Laplace method needs the "
+            f"values at t = 0 (just before it, 0⁻). Shift time so the conditions are at 0, or "
+            "solve for the values at 0 first", key=key)
+    return int(number) if number is not None else len(primes)
+
+
+def _sympy_ic_order(key: sp.Basic, unknown: str) -> int:
+    order, point, fname = None, None, None
+    if isinstance(key, sp.Subs) and isinstance(key.expr, sp.Derivative):
+        der = key.expr
+        fname = der.expr.func.__name__ if isinstance(der.expr, sp.core.function.AppliedUndef) else None
+        order = der.derivative_count
+        point = key.point[0]
+    elif isinstance(key, sp.core.function.AppliedUndef) and len(key.args) == 1:
+        fname, order, point = key.func.__name__, 0, key.args[0]
+    if fname is None:
+        raise InitialConditionError(
+            f"cannot read the initial-condition key {key}; use {unknown}(0) or "
+            f"{unknown}(t).diff(t).subs(t, 0)", key=str(key))
+    if fname != unknown:
+        raise InitialConditionError(
+            f"initial condition {key} names {fname!r}, but the unknown is {unknown!r}", key=str(key))
+    if point != 0:
+        raise InitialConditionError(
+            f"initial condition {key} is given at t = {point}; the Laplace method needs the "
+            "values at t = 0 (0⁻)", key=str(key))
+    return order
+
+
+def _classify(terms: tuple[Term, ...], text: str, y: sp.Expr):
+    """Sort each top-level term into a_k y^(k) or forcing; refuse nonlinear or t-dependent ones."""
+    dummies: dict[int, sp.Symbol] = {}
+    coeffs: dict[int, sp.Expr] = {}
+    forcing = sp.Integer(0)
+    for term in terms:
+        sign = 1 if term.side == "lhs" else -1
+        expr = term.expr
+        orders = sorted({d.derivative_count for d in expr.atoms(sp.Derivative) if d.expr == y}
+                        | ({0} if expr.has(y) else set()), reverse=True)
+        repl = {}
+        for k in orders:
+            dummies.setdefault(k, sp.Dummy(f"D{k}"))
+            repl[y.diff(T, k) if k else y] = dummies[k]
+        flat = expr.subs(repl) if repl else expr
+        fragment = text[term.start:term.end] if text else str(expr)
+        if flat.has(y):
+            raise NonlinearTermError(f"the term {fragment!r} is not linear in {y.func}",
+                                     fragment, text, term.start, term.end - term.start)
+        present = [dummies[k] for k in orders]
+        for k, d in zip(orders, present):
+            a = sp.expand(sp.diff(flat, d))
+            if a.has(*present):
+                raise NonlinearTermError(
+                    f"the term {fragment!r} is nonlinear in the unknown: products, powers and "
+                    "functions of the unknown cannot be solved by the Laplace transform",
+                    fragment, text, term.start, term.end - term.start)
+            if a.has(T):
+                raise VariableCoefficientError(
+                    f"the term {fragment!r} has a coefficient that varies with t; the Laplace "
+                    "method here needs constant coefficients", fragment, text, term.start,
+                    term.end - term.start)
+            coeffs[k] = coeffs.get(k, 0) + sign * a
+        rest = flat.subs({d: 0 for d in present}) if present else flat
+        forcing -= sign * rest
+    return coeffs, forcing
+
+
+def _terms_from_eq(eq: sp.Eq) -> tuple[Term, ...]:
+    terms = [Term(a, 0, 0, "lhs") for a in sp.Add.make_args(sp.expand(eq.lhs))]
+    terms += [Term(a, 0, 0, "rhs") for a in sp.Add.make_args(sp.expand(eq.rhs))]
+    return tuple(terms)
+
+
+def _normalise_eq(eq: sp.Eq, unknown: str | None):
+    """From a user's SymPy Eq: the unknown's name, terms in our t, parameter names."""
+    if not isinstance(eq, sp.Eq):
+        raise ParseError(f"expected a SymPy Eq, not {type(eq).__name__}")
+    funcs = {f for f in eq.atoms(sp.core.function.AppliedUndef)}
+    if unknown is None:
+        names = {f.func.__name__ for f in funcs}
+        if len(names) != 1:
+            raise ParseError(
+                "the SymPy equation must contain exactly one applied unknown function such as "
+                f"y(t); found {sorted(names) or 'none'}: pass unknown='y'")
+        unknown = names.pop()
+    user_t = None
+    for f in funcs:
+        if f.func.__name__ == unknown:
+            if len(f.args) != 1 or not isinstance(f.args[0], sp.Symbol):
+                raise ParseError(f"the unknown must be written {unknown}(t), found {f}")
+            user_t = f.args[0]
+    if user_t is None:
+        raise ParseError(f"the equation has no applied function {unknown}(t)")
+    repl = {user_t: T}
+    names = []
+    for sym in sorted(eq.free_symbols - {user_t}, key=lambda x: x.name):
+        if sym.name in RESERVED_NAMES:
+            raise ParseError(f"the symbol {sym.name!r} is reserved; rename it")
+        repl[sym] = sp.Symbol(sym.name, positive=True)
+        names.append(sym.name)
+    y_user = sp.Function(unknown)(user_t)
+    y_ours = sp.Function(unknown)(T)
+    new = sp.Eq(eq.lhs.subs(y_user, y_ours).subs(repl), eq.rhs.subs(y_user, y_ours).subs(repl),
+                evaluate=False)
+    return unknown, new, tuple(names)
+
+
+def make_problem(equation, ics=None, params=None, unknown: str | None = None) -> Problem:
+    """Check the input and build a :class:`Problem`.
+
+    Parameters
+    ----------
+    equation : str or sympy.Eq
+        The ODE, e.g. ``"y'' + 4*y' + 13*y = 2*u(t - 1)"``.
+    ics : mapping
+        ``{"y(0)": 0, "y'(0)": 1}`` or keyed by SymPy objects; one per order below n.
+    params : mapping, optional
+        Values for parameters named in the equation; the others stay symbolic.
+    unknown : str, optional
+        The unknown's name when no name carries primes.
+
+    Raises
+    ------
+    ParseError, EquationError, InitialConditionError, ParameterError
+    """
+    if isinstance(equation, sp.Eq):
+        unknown, eq, names = _normalise_eq(equation, unknown)
+        text = sp.sstr(eq.lhs) + " = " + sp.sstr(eq.rhs)
+        terms = _terms_from_eq(eq)
+        positions = ""
+    else:
+        parsed = parse_equation(equation, unknown)
+        unknown, text, terms, names = parsed.unknown, parsed.text, parsed.terms, parsed.names
+        positions = text
+    y = sp.Function(unknown)(T)
+    coeffs, forcing = _classify(terms, positions, y)
+    coeffs = {k: v for k, v in coeffs.items() if sp.simplify(v) != 0}
+    if not coeffs or max(coeffs) == 0:
+        raise EquationError(
+            f"the equation has no derivative of {unknown}; it is algebraic, not an ODE", text=text)
+    order = max(coeffs)
+
+    params = dict(params or {})
+    ic_names: set[str] = set()
+    ic_values: dict[int, sp.Expr] = {}
+    for key, value in dict(ics or {}).items():
+        k = _ic_key_order(key, unknown)
+        label = derivative_name(unknown, k) + "(0)"
+        if k in ic_values:
+            raise InitialConditionError(f"{label} is given twice", key=str(key))
+        v = _ic_value(value, label)
+        ic_names |= {s.name for s in v.free_symbols}
+        ic_values[k] = v
+    missing = [derivative_name(unknown, k) + "(0)" for k in range(order) if k not in ic_values]
+    extra = [derivative_name(unknown, k) + "(0)" for k in sorted(ic_values) if k >= order]
+    if missing:
+        raise InitialConditionError(
+            f"an order-{order} ODE needs {order} initial condition(s), {unknown}(0) to "
+            f"{derivative_name(unknown, order - 1)}(0); missing: {', '.join(missing)}. Give them "
+            f"in ics=, e.g. ics={{{', '.join(repr(m) + ': 0' for m in missing)}}}", missing=missing)
+    if extra:
+        raise InitialConditionError(
+            f"an order-{order} ODE takes conditions only up to "
+            f"{derivative_name(unknown, order - 1)}(0); remove {', '.join(extra)}", extra=extra)
+
+    known = set(names) | ic_names
+    values: dict[str, sp.Expr] = {}
+    loads: dict[str, sp.Expr] = {}
+    for name, value in params.items():
+        if not isinstance(name, str):
+            name = str(name)
+        if name not in known:
+            raise ParameterError(
+                f"parameter {name!r} does not appear in the equation or the initial conditions "
+                f"(its names are: {', '.join(sorted(known)) or 'none'})", name)
+        if hasattr(value, "expr") and hasattr(value, "description"):  # a forcing.Forcing
+            if sp.Symbol(name, positive=True) not in forcing.free_symbols:
+                raise ParameterError(f"{name!r} is given a load history but is not in the "
+                                     "forcing (the right side)", name)
+            loads[name] = value.expr
+            continue
+        values[name] = to_exact(value, name)
+    subs = {sp.Symbol(n, positive=True): v for n, v in values.items()}
+    if loads:
+        forcing = forcing.subs({sp.Symbol(n, positive=True): e for n, e in loads.items()})
+        names = tuple(n for n in names if n not in loads)
+    coefficients = tuple(sp.expand(sp.Add(coeffs.get(k, 0)).subs(subs)) for k in range(order + 1))
+    if coefficients[-1] == 0:
+        raise ParameterError(
+            f"with these values the coefficient of {derivative_name(unknown, order)} is zero; "
+            "the ODE's order drops: check the values", "")
+    forcing = sp.expand(forcing.subs(subs)) if subs else sp.expand(forcing)
+    initial = tuple(ic_values[k].subs(subs) for k in range(order))
+    remaining = tuple(n for n in list(names) + sorted(ic_names - set(names)) if n not in values)
+    remaining = tuple(n for n in remaining
+                      if any(sp.Symbol(n, positive=True) in e.free_symbols
+                             for e in coefficients + initial + (forcing,)))
+    return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
+                   initial_values=initial, parameters=tuple(values.items()), symbols=remaining)
+
+
+def _ic_value(value, label: str) -> sp.Expr:
+    try:
+        v = to_exact(value, label)
+    except ParameterError as exc:
+        raise InitialConditionError(str(exc), key=label) from exc
+    if v.has(T):
+        raise InitialConditionError(f"{label} may not depend on t", key=label)
+    return v

@@ -1,0 +1,132 @@
+"""The one exception family of derivpad: every failure a user can cause is one of these.
+
+Each class stores the facts of the failure as attributes (the position in the equation text,
+the offending term, the parameter name), so the command line and the widgets never parse
+messages. Messages say what is wrong, where, and how to fix it.
+
+    DerivpadError                      base of everything raised on purpose
+    ├── ParseError (ValueError)        malformed equation or value text; .text, .position
+    │   └── UnsafeInputError           text that tries to reach Python (attributes, calls, dunders)
+    ├── EquationError (ValueError)     a well-formed equation the method does not cover
+    │   ├── NonlinearTermError         y*y', sin(y), y**2 ...; .term, .position
+    │   ├── VariableCoefficientError   t*y' ...; .term, .position
+    │   └── UnknownNameError           a name that is neither t, the unknown, a parameter nor a function
+    ├── InitialConditionError (ValueError)   missing, extra, malformed or not-at-zero conditions
+    ├── ForcingError (ValueError)      forcing whose transform the engine cannot form
+    ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
+    ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
+    └── VerificationFailedError (ArithmeticError)  the engine's own check rejected a solution
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "DerivpadError",
+    "EquationError",
+    "ForcingError",
+    "InitialConditionError",
+    "NonlinearTermError",
+    "ParameterError",
+    "ParseError",
+    "SolveError",
+    "UnknownNameError",
+    "UnsafeInputError",
+    "VariableCoefficientError",
+    "VerificationFailedError",
+]
+
+
+def _pointer(text: str, position: int | None, length: int = 1) -> str:
+    """Two lines showing where in ``text`` the problem is, for the error message."""
+    if position is None or text is None:
+        return ""
+    length = max(1, length)
+    return f"\n    {text}\n    {' ' * position}{'^' * length}"
+
+
+class DerivpadError(Exception):
+    """Base class of every error derivpad raises on purpose."""
+
+
+class ParseError(DerivpadError, ValueError):
+    """The equation or value text is malformed; ``position`` is the 0-based column."""
+
+    def __init__(self, message: str, text: str = "", position: int | None = None, length: int = 1):
+        self.text = text
+        self.position = position
+        self.length = length
+        self.reason = message
+        where = f" (at column {position + 1})" if position is not None else ""
+        msg = f"{message}{where}{_pointer(text, position, length)}"
+        super().__init__(msg)
+
+
+class UnsafeInputError(ParseError):
+    """The text uses Python constructs (attributes, dunders, lambdas, indexing) that are never run."""
+
+
+class EquationError(DerivpadError, ValueError):
+    """A well-formed equation outside the linear constant-coefficient class."""
+
+    def __init__(self, message: str, term: str = "", text: str = "", position: int | None = None,
+                 length: int = 1):
+        self.term = term
+        self.text = text
+        self.position = position
+        where = f" (at column {position + 1})" if position is not None else ""
+        msg = f"{message}{where}{_pointer(text, position, length)}"
+        super().__init__(msg)
+
+
+class NonlinearTermError(EquationError):
+    """A term is nonlinear in the unknown (a product or a function of it)."""
+
+
+class VariableCoefficientError(EquationError):
+    """A derivative of the unknown is multiplied by a function of t."""
+
+
+class UnknownNameError(EquationError):
+    """A name is neither t, the unknown, a known function nor a declared parameter."""
+
+    def __init__(self, message: str, name: str, text: str = "", position: int | None = None):
+        self.name = name
+        super().__init__(message, term=name, text=text, position=position, length=len(name))
+
+
+class InitialConditionError(DerivpadError, ValueError):
+    """Initial conditions are missing, extra, malformed, or given at a point other than t = 0."""
+
+    def __init__(self, message: str, key: str | None = None, missing: tuple = (), extra: tuple = ()):
+        self.key = key
+        self.missing = tuple(missing)
+        self.extra = tuple(extra)
+        super().__init__(message)
+
+
+class ForcingError(DerivpadError, ValueError):
+    """The forcing has a term whose Laplace transform the rule table cannot form."""
+
+    def __init__(self, message: str, term: str = ""):
+        self.term = term
+        super().__init__(message)
+
+
+class ParameterError(DerivpadError, ValueError):
+    """A parameter value is not a finite number (or a valid expression of other parameters)."""
+
+    def __init__(self, message: str, name: str = ""):
+        self.name = name
+        super().__init__(message)
+
+
+class SolveError(DerivpadError, ArithmeticError):
+    """Y(s), its poles or its partial fractions cannot be found in the form asked for."""
+
+
+class VerificationFailedError(DerivpadError, ArithmeticError):
+    """The engine's own check found that a solution does not satisfy the problem."""
+
+    def __init__(self, message: str, checks: tuple = ()):
+        self.checks = tuple(checks)
+        super().__init__(message)

@@ -1,0 +1,15 @@
+"""Forcing builders in Heaviside form: step, ramp, pulses, load tables, impulses, switched waves.
+
+Each returns a :class:`Forcing` (``.expr`` in unit steps and impulses, ``.description``);
+forcings add, and a Forcing given as a parameter value replaces that name on the right side::
+
+    from derivpad import forcing
+    load = forcing.table([(0, 0), (0.01, 5000), (0.03, 0)])
+    derivpad.derive("m*x'' + k*x = F", ics=..., params={"m": 900, "k": 3.6e6, "F": load})
+"""
+
+from .core.forcing import (Forcing, impulse, pulse, ramp, step, switched_cosine, switched_exp,
+                           switched_sine, table, triangle, window)
+
+__all__ = sorted(["Forcing", "impulse", "pulse", "ramp", "step", "switched_cosine",
+                  "switched_exp", "switched_sine", "table", "triangle", "window"])

@@ -1,0 +1,95 @@
+"""LaTeX of a derivation: each step as an aligned block, then the checks and assumptions."""
+
+from __future__ import annotations
+
+from ..core.derivation import Derivation
+from ..core.steps import Line, Step
+from ..core.verify import Check, Verification
+from .base import Renderer
+from .notation import latex_expr
+
+__all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
+
+CAUTION = ("This is a linear model. Results are to be reviewed by a qualified engineer before "
+           "use; local codes and licensed professional practice govern.")
+
+
+def _escape(text: str) -> str:
+    out = text
+    for a, b in (("\\", r"\textbackslash{}"), ("&", r"\&"), ("%", r"\%"), ("$", r"\$"),
+                 ("#", r"\#"), ("_", r"\_"), ("{", r"\{"), ("}", r"\}"), ("~", r"\~{}"),
+                 ("^", r"\^{}")):
+        out = out.replace(a, b)
+    return out
+
+
+class LatexRenderer(Renderer):
+    """Renders a Derivation, a Step, a Line or a Verification as LaTeX."""
+
+    _default_settings = {"float_digits": 6, "substeps": True, "document": False}
+    _allowed = {"substeps": (True, False), "document": (True, False)}
+
+    def _expr(self, expr) -> str:
+        return latex_expr(expr, float_digits=self.settings["float_digits"])
+
+    def _render_Line(self, line: Line) -> str:
+        rel = {"=": "&=", ":": "&:", "\\to": r"&\to"}.get(line.relation, "&=")
+        tex = f"{self._expr(line.lhs)} {rel} {self._expr(line.rhs)}"
+        if line.label:
+            tex += r" &&\text{%s}" % _escape(line.label)
+        return tex
+
+    def math(self, step: Step) -> str:
+        """Only the display math of one step (no sub-steps)."""
+        if not step.lines:
+            return ""
+        body = r" \\" + "\n"
+        return "\\begin{aligned}\n" + body.join(self.render(line) for line in step.lines) + \
+            "\n\\end{aligned}"
+
+    def _render_Step(self, step: Step, depth: int = 0) -> str:
+        head = ["section*", "subsection*", "subsubsection*", "paragraph"][min(depth, 3)]
+        parts = [f"\\{head}{{{_escape(step.title)}}}"]
+        if step.rule is not None:
+            parts.append(r"\textit{Rule: %s.} $%s$" % (_escape(step.rule.name), step.rule.statement))
+        if step.note:
+            parts.append(_escape(step.note))
+        math = self.math(step)
+        if math:
+            parts.append("\\[\n" + math + "\n\\]")
+        if self.settings["substeps"]:
+            parts.extend(self._render_Step(sub, depth + 1) for sub in step.substeps)
+        return "\n\n".join(parts)
+
+    def _render_Check(self, check: Check) -> str:
+        status = "passed" if check.passed and check.ran else ("not run" if not check.ran else "FAILED")
+        return (f"{_escape(check.name)} & {check.error:.2e} & {check.tolerance:.0e} & {status} "
+                r"\\")
+
+    def _render_Verification(self, ver: Verification) -> str:
+        rows = "\n".join(self.render(c) for c in ver.checks)
+        return ("\\begin{tabular}{llll}\nCheck & Error & Tolerance & Outcome \\\\\n\\hline\n"
+                + rows + "\n\\end{tabular}")
+
+    def _render_Derivation(self, d: Derivation) -> str:
+        parts = [self._render_Step(step) for step in d.steps]
+        parts.append("\\section*{Verification}\n\n" + self.render(d.verification))
+        if d.assumptions:
+            parts.append("\\section*{Assumptions}\n\\begin{itemize}\n" + "\n".join(
+                r"\item " + _escape(a) for a in d.assumptions) + "\n\\end{itemize}")
+        parts.append("\\section*{Caution}\n\n" + _escape(CAUTION))
+        body = "\n\n".join(parts)
+        if self.settings["document"]:
+            return ("\\documentclass{article}\n\\usepackage{amsmath,amssymb}\n\\begin{document}\n"
+                    + body + "\n\\end{document}\n")
+        return body
+
+
+def to_latex(obj, **settings) -> str:
+    """LaTeX of a Derivation (or a Step, Line, Verification)."""
+    return LatexRenderer(**settings).render(obj)
+
+
+def step_math_latex(step: Step) -> str:
+    """The display math of one step, as used by ``Step.latex``."""
+    return LatexRenderer().math(step)

@@ -1,0 +1,180 @@
+"""Our notation for steps in LaTeX and plain text: SymPy printers with a few overrides.
+
+SymPy prints the unit step as θ(t - c); engineers read u(t - c). The impulse is δ(t - c),
+delay factors e^{-cs} stand in front of their rational part, derivatives of the unknown are
+primes, and floating-point numbers show a set number of significant digits.
+"""
+
+from __future__ import annotations
+
+import re
+
+import mpmath
+import sympy as sp
+from sympy.printing.latex import LatexPrinter
+from sympy.printing.str import StrPrinter
+
+from ..core.inverse import InverseLaplace
+from ..core.parse import S
+from ..core.transform import Laplace
+
+__all__ = ["NotationLatexPrinter", "NotationTextPrinter", "latex_expr", "text_expr"]
+
+_LABEL = re.compile(r"^([A-Za-z]+)_(\d+)\(s\)$")
+
+
+def _split_delay(expr: sp.Mul):
+    """A Mul's delay factor e^{-cs} (if any) and the rest."""
+    delay, rest = None, []
+    for f in expr.args:
+        if delay is None and isinstance(f, sp.exp) and f.args[0].has(S) and not f.args[0].has(sp.I):
+            delay = f
+        else:
+            rest.append(f)
+    return delay, rest
+
+
+def _prime_name(name: str, order: int, latex: bool) -> str:
+    if order <= 3:
+        return name + "'" * order
+    return f"{name}^{{({order})}}" if latex else f"{name}^({order})"
+
+
+def _derivative_order(term) -> int:
+    ders = [d.derivative_count for d in term.atoms(sp.Derivative)]
+    return max(ders) if ders else (0 if term.atoms(sp.core.function.AppliedUndef) else -1)
+
+
+def _ordered(printer_cls, self, expr, order=None):
+    """Terms of a sum with derivatives of the unknown highest order first (a_n y^(n) + ...)."""
+    terms = list(expr.args) if isinstance(expr, sp.Add) else [expr]
+    if any(isinstance(t, sp.Derivative) or t.atoms(sp.Derivative) for t in terms) and \
+            all(_derivative_order(t) >= 0 for t in terms if t.atoms(sp.core.function.AppliedUndef)):
+        with_y = [t for t in terms if _derivative_order(t) >= 0]
+        rest = [t for t in terms if _derivative_order(t) < 0]
+        return sorted(with_y, key=lambda t: -_derivative_order(t)) + \
+            printer_cls._as_ordered_terms(self, sp.Add(*rest), order) if rest else \
+            sorted(with_y, key=lambda t: -_derivative_order(t))
+    return printer_cls._as_ordered_terms(self, expr, order)
+
+
+def _format_float(x: sp.Float, digits: int) -> str:
+    return mpmath.nstr(mpmath.mpf(x), digits, min_fixed=-4, max_fixed=7)
+
+
+class NotationLatexPrinter(LatexPrinter):
+    """LaTeX of step expressions in engineering notation."""
+
+    printmethod = "_derivpad_latex"
+    _default_settings = {**LatexPrinter._default_settings, "float_digits": 6}
+
+    def _as_ordered_terms(self, expr, order=None):
+        return _ordered(LatexPrinter, self, expr, order)
+
+    def _print_Heaviside(self, expr, exp=None):
+        tex = r"u(%s)" % self._print(expr.args[0])
+        return tex if exp is None else r"u(%s)^{%s}" % (self._print(expr.args[0]), exp)
+
+    def _print_DiracDelta(self, expr, exp=None):
+        tex = r"\delta(%s)" % self._print(expr.args[0])
+        return tex if exp is None else r"\delta(%s)^{%s}" % (self._print(expr.args[0]), exp)
+
+    def _print_Laplace(self, expr, exp=None):
+        return r"\mathcal{L}\left\{%s\right\}" % self._print(expr.args[0])
+
+    def _print_InverseLaplace(self, expr, exp=None):
+        return r"\mathcal{L}^{-1}\left\{%s\right\}" % self._print(expr.args[0])
+
+    def _print_Derivative(self, expr):
+        inner = expr.expr
+        if isinstance(inner, sp.core.function.AppliedUndef) and len(expr.variables) >= 1:
+            name = self._print(sp.Symbol(inner.func.__name__))
+            return _prime_name(name, expr.derivative_count, True) + "(%s)" % self._print(inner.args[0])
+        return super()._print_Derivative(expr)
+
+    def _print_Function(self, expr, exp=None):
+        if isinstance(expr, sp.core.function.AppliedUndef):
+            name = super()._print_Symbol(sp.Symbol(expr.func.__name__))
+            tex = "%s(%s)" % (name, ", ".join(self._print(a) for a in expr.args))
+            return tex if exp is None else "%s^{%s}" % (tex, exp)
+        return super()._print_Function(expr, exp)
+
+    def _print_Symbol(self, expr, style="plain"):
+        name = expr.name
+        m = _LABEL.match(name)
+        if m:
+            return f"{m.group(1)}_{{{m.group(2)}}}(s)"
+        if any(ch in name for ch in "()'^"):
+            return name.replace("^-", "^{-}").replace("^(", "^{(").replace(")(", ")}(")
+        return super()._print_Symbol(expr, style)
+
+    def _print_Float(self, expr):
+        text = _format_float(expr, self._settings["float_digits"])
+        if "e" in text:
+            mant, ex = text.split("e")
+            return r"%s \cdot 10^{%d}" % (mant, int(ex))
+        return text
+
+    def _print_Mul(self, expr):
+        delay, rest = _split_delay(expr)
+        if delay is None:
+            return super()._print_Mul(expr)
+        tail = sp.Mul(*rest, evaluate=False) if len(rest) > 1 else (rest[0] if rest else sp.Integer(1))
+        body = self._print(tail)
+        if isinstance(tail, sp.Add):
+            body = r"\left(%s\right)" % body
+        return r"e^{%s}\,%s" % (self._print(delay.args[0]), body)
+
+
+class NotationTextPrinter(StrPrinter):
+    """One-line plain text of step expressions, for the terminal."""
+
+    _default_settings = {**StrPrinter._default_settings, "float_digits": 6}
+
+    def _as_ordered_terms(self, expr, order=None):
+        return _ordered(StrPrinter, self, expr, order)
+
+    def _print_Heaviside(self, expr):
+        return "u(%s)" % self._print(expr.args[0])
+
+    def _print_DiracDelta(self, expr):
+        return "delta(%s)" % self._print(expr.args[0])
+
+    def _print_Laplace(self, expr):
+        return "L{%s}" % self._print(expr.args[0])
+
+    def _print_InverseLaplace(self, expr):
+        return "L^-1{%s}" % self._print(expr.args[0])
+
+    def _print_Derivative(self, expr):
+        inner = expr.expr
+        if isinstance(inner, sp.core.function.AppliedUndef):
+            return _prime_name(inner.func.__name__, expr.derivative_count, False) + \
+                "(%s)" % self._print(inner.args[0])
+        return super()._print_Derivative(expr)
+
+    def _print_Float(self, expr):
+        return _format_float(expr, self._settings["float_digits"])
+
+    def _print_Mul(self, expr):
+        delay, rest = _split_delay(expr)
+        if delay is None:
+            return super()._print_Mul(expr)
+        tail = sp.Mul(*rest, evaluate=False) if len(rest) > 1 else (rest[0] if rest else sp.Integer(1))
+        body = self._print(tail)
+        if isinstance(tail, sp.Add):
+            body = "(%s)" % body
+        return "exp(%s)*%s" % (self._print(delay.args[0]), body)
+
+
+def latex_expr(expr, **settings) -> str:
+    """LaTeX of one expression in our notation."""
+    return NotationLatexPrinter(settings).doprint(expr)
+
+
+def text_expr(expr, **settings) -> str:
+    """Plain text of one expression in our notation."""
+    return NotationTextPrinter(settings).doprint(expr)
+
+
+_ = (Laplace, InverseLaplace)  # the printers' _print_Laplace/_print_InverseLaplace dispatch on these
