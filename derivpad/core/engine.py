@@ -216,7 +216,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
 
     steps = (problem_step, transform_step, derivative_step, solve_step, decompose, invert,
              assemble)
-    checks = self_check(problem, intervals, dict(impulses), conditions, tolerance)
+    checks = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions, tolerance)
     verification = Verification(checks)
     derivation = Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
                             intervals=tuple(intervals), impulses=impulses,

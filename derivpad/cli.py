@@ -1,0 +1,111 @@
+"""The command line: ``derivpad demo`` and ``derivpad solve``.
+
+Errors of the derivpad family print their message and exit with status 2, never a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import re
+import sys
+
+from .errors import DerivpadError, InitialConditionError, ParameterError
+
+__all__ = ["main"]
+
+FORMATS = ("text", "latex", "json")
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="derivpad",
+        description="Step-by-step, self-checked Laplace-transform derivations of linear ODEs.")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    demo = sub.add_parser("demo", help="derive the built-in scenario and print it")
+    demo.add_argument("--format", choices=FORMATS, default="text")
+
+    solve = sub.add_parser("solve", help="derive one ODE given on the command line")
+    solve.add_argument("equation", help="the ODE, e.g. \"y'' + 4*y' + 13*y = 2*u(t - 1)\"")
+    solve.add_argument("--ic", action="append", default=[], metavar="COND",
+                       help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
+    solve.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
+                       help="a parameter value, e.g. --param k=800 (repeat)")
+    solve.add_argument("--unknown", help="the unknown's name, when no name carries primes")
+    solve.add_argument("--regime", choices=("underdamped", "overdamped"), default="underdamped",
+                       help="case taken for a symbolic quadratic of unknown discriminant sign")
+    solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
+                       help="also print the solution's value at time T (repeat)")
+    solve.add_argument("--format", choices=FORMATS, default="text")
+    return parser
+
+
+_IC = re.compile(r"^(.*\))\s*=\s*(.+)$")
+
+
+def _read_ics(items: list[str]) -> dict:
+    out = {}
+    for item in items:
+        m = _IC.match(item.strip())
+        if not m:
+            raise InitialConditionError(
+                f"cannot read --ic {item!r}; write it as \"y(0)=0\" or \"y'(0)=1.5\"", key=item)
+        out[m.group(1).strip()] = m.group(2).strip()
+    return out
+
+
+def _read_params(items: list[str]) -> dict:
+    out = {}
+    for item in items:
+        name, eq, value = item.partition("=")
+        if not eq or not name.strip() or not value.strip():
+            raise ParameterError(f"cannot read --param {item!r}; write it as NAME=VALUE, e.g. "
+                                 "k=800", item)
+        out[name.strip()] = value.strip()
+    return out
+
+
+def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
+    if fmt == "json":
+        data = derivation.to_dict()
+        if times:
+            data["samples"] = [{"t": t, "value": float(v)} for t, v in
+                               zip(times, derivation(list(times)))]
+        return json.dumps(data, indent=2, ensure_ascii=False)
+    if fmt == "latex":
+        return derivation.to_latex(document=True)
+    from .render.notation import text_expr
+    out = []
+    if title:
+        out += [title, "=" * len(title), ""]
+    out.append(derivation.to_text())
+    out += ["", f"Solution: {derivation.unknown}(t) = {text_expr(derivation.solution)}"]
+    if times:
+        values = derivation(list(times))
+        out += ["", f"{'t':>10}  {derivation.unknown + '(t)':>16}"]
+        out += [f"{t:>10.4g}  {v:>16.6e}" for t, v in zip(times, values)]
+    return "\n".join(out)
+
+
+def main(argv=None) -> int:
+    """Entry point of the ``derivpad`` console script."""
+    args = _parser().parse_args(argv)
+    try:
+        if args.command == "demo":
+            from .demo import DEMO_TIMES, DEMO_TITLE, demo
+            text = _emit(demo(), args.format, DEMO_TIMES, DEMO_TITLE)
+        else:
+            from .core.engine import derive
+            d = derive(args.equation, ics=_read_ics(args.ic), params=_read_params(args.param),
+                       unknown=args.unknown, regime=args.regime)
+            text = _emit(d, args.format, args.at)
+    except DerivpadError as exc:
+        print(f"derivpad: error: {exc}", file=sys.stderr)
+        return 2
+    print(text)
+    return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

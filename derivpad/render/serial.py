@@ -1,0 +1,65 @@
+"""The canonical JSON-safe form of a derivation (``Derivation.to_dict``).
+
+Every expression is written three ways: LaTeX (what the reader saw), plain text, and the
+tree form of ``derivpad.core.exprtree`` that reads back into SymPy without evaluating text.
+"""
+
+from __future__ import annotations
+
+
+from ..core.derivation import Derivation
+from ..core.exprtree import to_tree
+from ..core.problem import derivative_name
+from ..core.steps import Step
+from .latex import CAUTION, step_math_latex
+from .notation import latex_expr, text_expr
+
+__all__ = ["derivation_to_dict", "expression_dict"]
+
+FORMAT = "derivpad.derivation"
+VERSION = 1
+
+
+def expression_dict(expr) -> dict:
+    """LaTeX, text and tree form of one expression."""
+    return {"latex": latex_expr(expr), "text": text_expr(expr), "tree": to_tree(expr)}
+
+
+def _step_dict(step: Step) -> dict:
+    return {"title": step.title, "rule": step.rule.to_dict() if step.rule else None,
+            "rules_used": [r.id for r in step.all_rules], "latex": step_math_latex(step),
+            "note": step.note, "substeps": [_step_dict(s) for s in step.substeps]}
+
+
+def derivation_to_dict(d: Derivation) -> dict:
+    p = d.problem
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "problem": {
+            "equation": p.text,
+            "unknown": p.unknown,
+            "order": p.order,
+            "ode": expression_dict(p.equation),
+            "forcing": expression_dict(p.forcing),
+            "initial_conditions": {derivative_name(p.unknown, k) + "(0-)": expression_dict(v)
+                                   for k, v in enumerate(p.initial_values)},
+            "parameters": {name: expression_dict(v) for name, v in p.parameters},
+            "symbolic_parameters": list(p.symbols),
+        },
+        "steps": [_step_dict(s) for s in d.steps],
+        "transform": expression_dict(d.transform),
+        "solution": expression_dict(d.solution),
+        "piecewise": [{"from": expression_dict(start), **expression_dict(expr)}
+                      for start, expr in d.intervals],
+        "poles": [{"kind": q.kind, "value": expression_dict(q.value),
+                   "beta": expression_dict(q.beta), "multiplicity": q.multiplicity,
+                   "numeric": q.numeric} for q in d.poles],
+        "assumptions": list(d.assumptions),
+        "notes": list(d.notes),
+        "verification": d.verification.to_dict(),
+        "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
+        "caution": CAUTION,
+    }
+
+
