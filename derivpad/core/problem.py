@@ -99,8 +99,9 @@ def to_exact(value, name: str) -> sp.Expr:
     if isinstance(value, str):
         try:
             expr = parse_value(value, what=f"value of {name}")
-        except ParseError as exc:
-            raise ParameterError(f"{name}: cannot read {value!r} as a number: {exc.reason}",
+        except (ParseError, EquationError) as exc:
+            reason = getattr(exc, "reason", None) or str(exc).splitlines()[0]
+            raise ParameterError(f"{name}: cannot read {value!r} as a number: {reason}",
                                  name) from exc
         if expr.has(T):
             raise ParameterError(f"{name}: a value may not depend on t ({value!r})", name)
@@ -232,10 +233,7 @@ def _normalise_eq(eq: sp.Eq, unknown: str | None):
             raise ParseError(f"the symbol {sym.name!r} is reserved; rename it")
         repl[sym] = sp.Symbol(sym.name, positive=True)
         names.append(sym.name)
-    y_user = sp.Function(unknown)(user_t)
-    y_ours = sp.Function(unknown)(T)
-    new = sp.Eq(eq.lhs.subs(y_user, y_ours).subs(repl), eq.rhs.subs(y_user, y_ours).subs(repl),
-                evaluate=False)
+    new = sp.Eq(eq.lhs.xreplace(repl), eq.rhs.xreplace(repl), evaluate=False)
     return unknown, new, tuple(names)
 
 
