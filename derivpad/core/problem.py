@@ -16,7 +16,7 @@ from numbers import Number
 import sympy as sp
 
 from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
-                      ParseError, VariableCoefficientError)
+                      ParseError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
 
 __all__ = ["Problem", "make_problem", "to_exact", "derivative_name"]
@@ -273,6 +273,11 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
     order = max(coeffs)
 
     params = dict(params or {})
+    if "e" in names and "e" not in params:
+        raise UnknownNameError(
+            "'e' would be read as a symbolic parameter; for the exponential write exp(...), as "
+            "in exp(-2*t), or give e a value in params", "e", positions,
+            _name_position(positions, "e") if positions else None)
     ic_names: set[str] = set()
     ic_values: dict[int, sp.Expr] = {}
     for key, value in dict(ics or {}).items():
@@ -329,6 +334,11 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
                              for e in coefficients + initial + (forcing,)))
     return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
                    initial_values=initial, parameters=tuple(values.items()), symbols=remaining)
+
+
+def _name_position(text: str, name: str) -> int | None:
+    m = re.search(rf"(?<![A-Za-z_0-9]){re.escape(name)}(?![A-Za-z_0-9])", text)
+    return m.start() if m else None
 
 
 def _ic_value(value, label: str) -> sp.Expr:

@@ -1,0 +1,55 @@
+"""The command line: demo, solve, formats, and errors without tracebacks."""
+
+import json
+import subprocess
+import sys
+
+from derivpad.cli import main
+
+
+def test_demo_prints_the_derivation_and_samples(capsys):
+    assert main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "Pump skid" in out and "Partial fractions" in out and "all checks passed" in out
+    assert "qualified engineer" in out
+    assert "x(t)" in out.splitlines()[-11]
+
+
+def test_solve_text_and_values(capsys):
+    assert main(["solve", "y'' + 9*y = delta(t)", "--ic", "y(0)=0", "--ic", "y'(0)=0",
+                 "--at", "0.5"]) == 0
+    out = capsys.readouterr().out
+    assert "Solution: y(t) = sin(3*t)/3" in out
+    # sin(1.5)/3 = 0.332498 (direct evaluation)
+    assert "3.324983e-01" in out
+
+
+def test_solve_json_is_machine_readable(capsys):
+    assert main(["solve", "y' + 2*y = 4", "--ic", "y(0)=1", "--format", "json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["format"] == "derivpad.derivation"
+    assert data["solution"]["text"] == "2 - exp(-2*t)"
+    assert data["verification"]["passed"] is True
+
+
+def test_solve_latex(capsys):
+    assert main(["solve", "y'' + k*y = u(t - 1)", "--ic", "y(0)=0", "--ic", "y'(0)=0",
+                 "--param", "k=4", "--format", "latex"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("\\documentclass") and "u(t - 1)" in out
+
+
+def test_errors_print_a_message_and_exit_nonzero(capsys):
+    assert main(["solve", "y'' + y*y' = 0", "--ic", "y(0)=0", "--ic", "y'(0)=0"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("derivpad: error:") and "Traceback" not in err
+    assert main(["solve", "y'' + y = 0", "--ic", "y(0)"]) == 2
+    assert main(["solve", "y'' + k*y = 0", "--ic", "y(0)=0", "--ic", "y'(0)=0",
+                 "--param", "k"]) == 2
+
+
+def test_console_entry_point_runs_as_module():
+    proc = subprocess.run([sys.executable, "-m", "derivpad", "solve", "y' = __import__('os')",
+                           "--ic", "y(0)=0"], capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert "underscore" in proc.stderr and "Traceback" not in proc.stderr
