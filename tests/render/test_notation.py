@@ -1,0 +1,58 @@
+"""Our notation printers: exact strings (u for the step, δ, primes, delay factors in front)."""
+
+import sympy as sp
+
+from derivpad.core.parse import S, T
+from derivpad.core.transform import Laplace
+from derivpad.render.latex import to_latex
+from derivpad.render.notation import latex_expr, text_expr
+from derivpad.render.text import to_text
+
+y = sp.Function("y")(T)
+
+
+def test_unit_step_is_u_not_theta():
+    assert latex_expr(sp.Heaviside(T - 1)) == "u(t - 1)"
+    assert text_expr(3 * sp.Heaviside(T - 2)) == "3*u(t - 2)"
+
+
+def test_impulse():
+    assert latex_expr(sp.DiracDelta(T - 2)) == r"\delta(t - 2)"
+    assert text_expr(sp.DiracDelta(T)) == "delta(t)"
+
+
+def test_derivatives_in_prime_notation_highest_first():
+    assert latex_expr(y.diff(T, 2) + 4 * y.diff(T) + 13 * y) == "y''(t) + 4 y'(t) + 13 y(t)"
+    assert text_expr(y.diff(T, 5)) == "y^(5)(t)"
+    assert latex_expr(y.diff(T, 4)) == "y^{(4)}(t)"
+
+
+def test_delay_factor_stands_in_front():
+    expr = sp.Mul(sp.exp(-2 * S), 1 / (S * (S + 1)), evaluate=False)
+    assert latex_expr(expr) == r"e^{- 2 s}\,\frac{1}{s \left(s + 1\right)}"
+    assert text_expr(expr) == "exp(-2*s)*1/(s*(s + 1))"
+
+
+def test_transform_node():
+    assert latex_expr(Laplace(y)) == r"\mathcal{L}\left\{y(t)\right\}"
+    assert text_expr(Laplace(y.diff(T))) == "L{y'(t)}"
+
+
+def test_floats_show_six_significant_digits():
+    assert latex_expr(sp.Float("0.123456789") * T) == "0.123457 t"
+    assert text_expr(sp.Float("1.23456789e-7")) == "1.23457e-7"
+    assert latex_expr(sp.Float("1.23456789e-7")) == r"1.23457 \cdot 10^{-7}"
+
+
+def test_initial_value_labels():
+    assert latex_expr(sp.Symbol("y'(0^-)")) == "y'(0^{-})"
+    assert latex_expr(sp.Symbol("Y_1(s)")) == "Y_{1}(s)"
+
+
+def test_renderer_settings_are_validated():
+    import pytest
+    from derivpad.render.base import RenderSettingError
+    with pytest.raises(RenderSettingError, match="Unknown setting 'colour'"):
+        to_text(sp.Integer(1), colour=True)
+    with pytest.raises(RenderSettingError, match="must be one of"):
+        to_latex(sp.Integer(1), document="yes")
