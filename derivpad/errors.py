@@ -14,6 +14,7 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── InitialConditionError (ValueError)   missing, extra, malformed or not-at-zero conditions
     ├── ForcingError (ValueError)      forcing whose transform the engine cannot form
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
+    ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
     └── VerificationFailedError (ArithmeticError)  the engine's own check rejected a solution
 """
@@ -28,6 +29,7 @@ __all__ = [
     "NonlinearTermError",
     "ParameterError",
     "ParseError",
+    "RenderSettingError",
     "SolveError",
     "UnknownNameError",
     "UnsafeInputError",
@@ -117,6 +119,14 @@ class ParameterError(DerivpadError, ValueError):
 
     def __init__(self, message: str, name: str = ""):
         self.name = name
+        super().__init__(message)
+
+
+class RenderSettingError(DerivpadError, ValueError):
+    """A renderer was given a setting it does not have, or a value it does not allow."""
+
+    def __init__(self, message: str, setting: str):
+        self.setting = setting
         super().__init__(message)
 
 

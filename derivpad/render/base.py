@@ -7,17 +7,9 @@ unknown setting, or a value outside a setting's allowed list, raises at construc
 
 from __future__ import annotations
 
-from ..errors import DerivpadError
+from ..errors import RenderSettingError
 
-__all__ = ["Renderer", "RenderSettingError"]
-
-
-class RenderSettingError(DerivpadError, ValueError):
-    """A renderer was given a setting it does not have, or a value it does not allow."""
-
-    def __init__(self, message: str, setting: str):
-        self.setting = setting
-        super().__init__(message)
+__all__ = ["Renderer"]
 
 
 class Renderer:

@@ -51,7 +51,7 @@ def test_initial_value_labels():
 
 def test_renderer_settings_are_validated():
     import pytest
-    from derivpad.render.base import RenderSettingError
+    from derivpad.errors import RenderSettingError
     with pytest.raises(RenderSettingError, match="Unknown setting 'colour'"):
         to_text(sp.Integer(1), colour=True)
     with pytest.raises(RenderSettingError, match="must be one of"):
