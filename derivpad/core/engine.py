@@ -95,7 +95,10 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
                      for k, v in enumerate(problem.initial_values))
     param_lines = tuple(Line(sp.Symbol(name), value, "=", "parameter")
                         for name, value in problem.parameters)
-    forcing_line = (Line(sp.Function("f")(T), heaviside, "=", "forcing in unit-step form"),)
+    load_lines = tuple(Line(sp.Function(name)(T), expr, "=", description)
+                       for name, description, expr in problem.loads)
+    forcing_line = load_lines + (Line(sp.Function("f")(T), heaviside, "=",
+                                      "forcing in unit-step form"),)
     problem_step = Step(
         "Problem", rule("definition"),
         (Line(problem.lhs, problem.forcing, "=", "for t > 0"),) + ic_lines + forcing_line
@@ -166,11 +169,13 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
                    "part delayed by " + sp.sstr(delay) if delay != 0 else "undelayed part")
               for (delay, num, poles), lbl in zip(group_data, labels)) + (
         Line(Y, _labelled_sum(group_data, labels), "="),)
+    taken = [x for x in assumptions if x.startswith(("underdamped", "overdamped", "non-resonant"))]
     solve_step = Step(
         f"Solve for {Y}", rule("solve_algebraic"), solve_lines,
         f"{Y} is the forcing and initial-value terms over the characteristic polynomial. "
         f"{regime_note}" + (" Numerical roots are carried to 50 digits."
-                            if char_poles.numeric else ""),
+                            if char_poles.numeric else "")
+        + ("".join(f" Assumed ({x})." for x in taken)),
         rules_used=(rule("numeric_roots"),) if char_poles.numeric else ())
 
     # 5-6. Partial fractions and inversion, group by group
@@ -178,8 +183,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
     delayed_solutions = []
     for (delay, numerator, poles), label in zip(group_data, labels):
         terms = partial_fractions(numerator, poles)
-        fraction_steps_list.append(fraction_steps(label, numerator / _denominator(poles),
-                                                  poles, terms))
+        fraction_steps_list.append(fraction_steps(label, numerator, poles, terms))
         inverses = [invert_term(t) for t in terms]
         inversion_steps.append(inversion_step(label, delay, inverses))
         g = sp.Add(*[inv.time for inv in inverses])

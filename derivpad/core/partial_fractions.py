@@ -203,7 +203,26 @@ def _pole_text(p: Pole) -> str:
     return f"s = {sp.sstr(p.alpha)} ± i·{sp.sstr(p.beta)}"
 
 
-def fraction_steps(label: str, rational: sp.Expr, poles: PoleSet,
+def _covered(numerator: sp.Expr, poles: PoleSet, target: Pole) -> tuple[sp.Expr, sp.Expr]:
+    """(s - p)^m N(s)/D(s) written out, and the point p (α + iβ for a complex pair)."""
+    rest = [q.factor ** q.multiplicity for q in poles.poles if q is not target]
+    if target.kind == "real":
+        point = target.value
+    else:
+        point = target.alpha + sp.I * target.beta
+        rest.append((S - target.alpha + sp.I * target.beta) ** target.multiplicity)
+    den = sp.Mul(poles.leading, *rest, evaluate=False) if rest or poles.leading != 1 else 1
+    return numerator / den, point
+
+
+def _coefficient_formula(covered: sp.Expr, point: sp.Expr, order: int) -> sp.Expr:
+    """1/j! · d^j/ds^j [covered] at s = p, unevaluated, as the step shows it."""
+    inner = sp.Derivative(covered, (S, order)) if order else covered
+    at = sp.Subs(inner, S, point)
+    return sp.Mul(sp.Rational(1, factorial(order)), at, evaluate=False) if order > 1 else at
+
+
+def fraction_steps(label: str, numerator: sp.Expr, poles: PoleSet,
                    terms: list[FractionTerm]) -> Step:
     """The decomposition of one rational part as a step, one sub-step per pole."""
     subs = []
@@ -212,23 +231,27 @@ def fraction_steps(label: str, rational: sp.Expr, poles: PoleSet,
         own = [t for t in terms if t.pole is pole]
         if not own:
             continue
+        covered, point = _covered(numerator, poles, pole)
+        m = pole.multiplicity
         if pole.kind == "real":
-            r = rule("pf_simple" if pole.multiplicity == 1 else "pf_repeated")
-            lines = tuple(Line(sp.Symbol(f"A_{t.power}"), t.re, "=",
-                               "cover-up at " + _pole_text(pole) if pole.multiplicity == 1
-                               else f"derivative of order {pole.multiplicity - t.power} of "
-                                    f"(s - p)^{pole.multiplicity}·R(s) at {_pole_text(pole)}")
-                          for t in own)
+            r = rule("pf_simple" if m == 1 else "pf_repeated")
+            lines = tuple(Line(sp.Symbol(f"A_{t.power}"), _coefficient_formula(covered, point,
+                                                                              m - t.power), "=",
+                               "cover-up" if m == t.power else f"derivative of order {m - t.power}")
+                          for t in own) + tuple(Line(sp.Symbol(f"A_{t.power}"), t.re, "=")
+                                                for t in own)
             note = ("Simple real pole: the coefficient is the rest of the fraction evaluated at "
-                    "the pole (cover-up)." if pole.multiplicity == 1 else
-                    f"Real pole of multiplicity {pole.multiplicity}: coefficients from "
-                    "derivatives of the covered-up fraction.")
+                    "the pole (cover-up)." if m == 1 else
+                    f"Real pole of multiplicity {m}: coefficients from derivatives of the "
+                    "covered-up fraction.")
         else:
             r = rule("pf_complex_pair")
             lines = []
             for t in own:
-                lines.append(Line(sp.Symbol(f"A_{t.power}"), t.re + sp.I * t.im, "=",
-                                  f"residue at {sp.sstr(pole.alpha)} + i·{sp.sstr(pole.beta)}"))
+                lines.append(Line(sp.Symbol(f"A_{t.power}"),
+                                  _coefficient_formula(covered, point, m - t.power), "=",
+                                  "residue at the pole with β > 0"))
+                lines.append(Line(sp.Symbol(f"A_{t.power}"), t.re + sp.I * t.im, "="))
                 if t.power == 1:
                     lines.append(Line(sp.Symbol("B"), 2 * t.re, "=", "2 Re A"))
                     lines.append(Line(sp.Symbol("C"), -2 * t.im, "=", "-2 Im A"))
@@ -243,7 +266,8 @@ def fraction_steps(label: str, rational: sp.Expr, poles: PoleSet,
                                                         if pole.multiplicity > 1 else ""),
                          r, lines, note))
     total = sp.Add(*[t.expr for t in terms]) if terms else sp.Integer(0)
-    lines = (Line(sp.Symbol(label), rational, "="), Line(sp.Symbol(label), total, "="))
+    lines = (Line(sp.Symbol(label), numerator / poles.factored, "="),
+             Line(sp.Symbol(label), total, "="))
     return Step("Partial fractions of " + label, next(iter(used.values()), None), lines,
                 "Split over the real poles of the denominator; each coefficient is worked in "
                 "its own sub-step.", tuple(subs), tuple(used.values()))

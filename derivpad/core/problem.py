@@ -42,6 +42,7 @@ class Problem:
     initial_values: tuple[sp.Expr, ...]
     parameters: tuple[tuple[str, sp.Expr], ...]
     symbols: tuple[str, ...]
+    loads: tuple[tuple[str, str, sp.Expr], ...] = ()  # (name, description, Heaviside form)
 
     @property
     def order(self) -> int:
@@ -314,12 +315,12 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
             if sp.Symbol(name, positive=True) not in forcing.free_symbols:
                 raise ParameterError(f"{name!r} is given a load history but is not in the "
                                      "forcing (the right side)", name)
-            loads[name] = value.expr
+            loads[name] = value
             continue
         values[name] = to_exact(value, name)
     subs = {sp.Symbol(n, positive=True): v for n, v in values.items()}
     if loads:
-        forcing = forcing.subs({sp.Symbol(n, positive=True): e for n, e in loads.items()})
+        forcing = forcing.subs({sp.Symbol(n, positive=True): f.expr for n, f in loads.items()})
         names = tuple(n for n in names if n not in loads)
     coefficients = tuple(sp.expand(sp.Add(coeffs.get(k, 0)).subs(subs)) for k in range(order + 1))
     if coefficients[-1] == 0:
@@ -333,7 +334,8 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
                       if any(sp.Symbol(n, positive=True) in e.free_symbols
                              for e in coefficients + initial + (forcing,)))
     return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
-                   initial_values=initial, parameters=tuple(values.items()), symbols=remaining)
+                   initial_values=initial, parameters=tuple(values.items()), symbols=remaining,
+                   loads=tuple((n, f.description, f.expr) for n, f in loads.items()))
 
 
 def _name_position(text: str, name: str) -> int | None:

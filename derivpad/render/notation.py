@@ -45,9 +45,20 @@ def _derivative_order(term) -> int:
     return max(ders) if ders else (0 if term.atoms(sp.core.function.AppliedUndef) else -1)
 
 
+def _switch_time(term):
+    times = [h.args[0] for h in term.atoms(sp.Heaviside)]
+    if not times:
+        return None
+    shifts = [-(arg.subs(sp.Symbol("t", real=True), 0)) for arg in times]
+    return max((float(x) for x in shifts if x.is_number), default=None)
+
+
 def _ordered(printer_cls, self, expr, order=None):
-    """Terms of a sum with derivatives of the unknown highest order first (a_n y^(n) + ...)."""
+    """Sums in reading order: a_n y^(n) first; switched terms u(t - c) by increasing c."""
     terms = list(expr.args) if isinstance(expr, sp.Add) else [expr]
+    switched = [_switch_time(t) for t in terms]
+    if len(terms) > 1 and all(x is not None for x in switched):
+        return [t for _, t in sorted(zip(switched, terms), key=lambda pair: pair[0])]
     if any(isinstance(t, sp.Derivative) or t.atoms(sp.Derivative) for t in terms) and \
             all(_derivative_order(t) >= 0 for t in terms if t.atoms(sp.core.function.AppliedUndef)):
         with_y = [t for t in terms if _derivative_order(t) >= 0]
@@ -143,6 +154,10 @@ class NotationTextPrinter(StrPrinter):
     def _print_Laplace(self, expr):
         return "L{%s}" % self._print(expr.args[0])
 
+    def _print_Subs(self, expr):
+        inner, (var,), (point,) = expr.args
+        return "[%s] at %s = %s" % (self._print(inner), self._print(var), self._print(point))
+
     def _print_InverseLaplace(self, expr):
         return "L^-1{%s}" % self._print(expr.args[0])
 
@@ -151,7 +166,9 @@ class NotationTextPrinter(StrPrinter):
         if isinstance(inner, sp.core.function.AppliedUndef):
             return _prime_name(inner.func.__name__, expr.derivative_count, False) + \
                 "(%s)" % self._print(inner.args[0])
-        return super()._print_Derivative(expr)
+        (var, count), = expr.variable_count
+        power = "" if count == 1 else "^%d" % count
+        return "d%s/d%s%s(%s)" % (power, self._print(var), power, self._print(inner))
 
     def _print_Float(self, expr):
         return _format_float(expr, self._settings["float_digits"])
