@@ -38,12 +38,12 @@ __all__ = [
 ]
 
 
-def _pointer(text: str, position: int | None, length: int = 1) -> str:
-    """Two lines showing where in ``text`` the problem is, for the error message."""
-    if position is None or text is None:
-        return ""
-    length = max(1, length)
-    return f"\n    {text}\n    {' ' * position}{'^' * length}"
+def _located(message: str, text: str, position: int | None, length: int = 1) -> str:
+    """The message with the column and two lines showing where in ``text`` the problem is."""
+    if position is None or not text:
+        return message
+    marks = "^" * max(1, length)
+    return f"{message} (at column {position + 1})\n    {text}\n    {' ' * position}{marks}"
 
 
 class DerivpadError(Exception):
@@ -58,9 +58,7 @@ class ParseError(DerivpadError, ValueError):
         self.position = position
         self.length = length
         self.reason = message
-        where = f" (at column {position + 1})" if position is not None else ""
-        msg = f"{message}{where}{_pointer(text, position, length)}"
-        super().__init__(msg)
+        super().__init__(_located(message, text, position, length))
 
 
 class UnsafeInputError(ParseError):
@@ -75,9 +73,7 @@ class EquationError(DerivpadError, ValueError):
         self.term = term
         self.text = text
         self.position = position
-        where = f" (at column {position + 1})" if position is not None else ""
-        msg = f"{message}{where}{_pointer(text, position, length)}"
-        super().__init__(msg)
+        super().__init__(_located(message, text, position, length))
 
 
 class NonlinearTermError(EquationError):

@@ -14,9 +14,7 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from ..core.inverse import InverseLaplace
 from ..core.parse import S
-from ..core.transform import Laplace
 
 __all__ = ["NotationLatexPrinter", "NotationTextPrinter", "latex_expr", "text_expr"]
 
@@ -24,14 +22,15 @@ _LABEL = re.compile(r"^([A-Za-z]+)_(\d+)\(s\)$")
 
 
 def _split_delay(expr: sp.Mul):
-    """A Mul's delay factor e^{-cs} (if any) and the rest."""
+    """A Mul's delay exponent -cs (None if it has no factor e^{-cs}) and the rest of it."""
     delay, rest = None, []
     for f in expr.args:
         if delay is None and isinstance(f, sp.exp) and f.args[0].has(S) and not f.args[0].has(sp.I):
-            delay = f
+            delay = f.args[0]
         else:
             rest.append(f)
-    return delay, rest
+    tail = sp.Mul(*rest, evaluate=False) if len(rest) > 1 else (rest[0] if rest else sp.Integer(1))
+    return delay, tail
 
 
 def _prime_name(name: str, order: int, latex: bool) -> str:
@@ -127,14 +126,12 @@ class NotationLatexPrinter(LatexPrinter):
         return text
 
     def _print_Mul(self, expr):
-        delay, rest = _split_delay(expr)
+        delay, tail = _split_delay(expr)
         if delay is None:
             return super()._print_Mul(expr)
-        tail = sp.Mul(*rest, evaluate=False) if len(rest) > 1 else (rest[0] if rest else sp.Integer(1))
         body = self._print(tail)
-        if isinstance(tail, sp.Add):
-            body = r"\left(%s\right)" % body
-        return r"e^{%s}\,%s" % (self._print(delay.args[0]), body)
+        return r"e^{%s}\,%s" % (self._print(delay), r"\left(%s\right)" % body
+                                if isinstance(tail, sp.Add) else body)
 
 
 class NotationTextPrinter(StrPrinter):
@@ -174,14 +171,12 @@ class NotationTextPrinter(StrPrinter):
         return _format_float(expr, self._settings["float_digits"])
 
     def _print_Mul(self, expr):
-        delay, rest = _split_delay(expr)
+        delay, tail = _split_delay(expr)
         if delay is None:
             return super()._print_Mul(expr)
-        tail = sp.Mul(*rest, evaluate=False) if len(rest) > 1 else (rest[0] if rest else sp.Integer(1))
         body = self._print(tail)
-        if isinstance(tail, sp.Add):
-            body = "(%s)" % body
-        return "exp(%s)*%s" % (self._print(delay.args[0]), body)
+        return "exp(%s)*%s" % (self._print(delay), "(%s)" % body if isinstance(tail, sp.Add)
+                               else body)
 
 
 def latex_expr(expr, **settings) -> str:
@@ -193,5 +188,3 @@ def text_expr(expr, **settings) -> str:
     """Plain text of one expression in our notation."""
     return NotationTextPrinter(settings).doprint(expr)
 
-
-_ = (Laplace, InverseLaplace)  # the printers' _print_Laplace/_print_InverseLaplace dispatch on these
