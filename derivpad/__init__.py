@@ -11,7 +11,7 @@ from .core.rules import RULES
 from .core.steps import Line, Rule, Step
 from .core.verify import Check, Verification
 from .errors import (DerivpadError, EquationError, ForcingError, InitialConditionError,
-                     NonlinearTermError, ParameterError, ParseError, RenderSettingError,
+                     MissingExtraError, NonlinearTermError, ParameterError, ParseError, RenderSettingError,
                      SolveError,
                      UnknownNameError, UnsafeInputError, VariableCoefficientError,
                      VerificationFailedError)
@@ -20,7 +20,7 @@ __version__ = "0.1.0"
 
 __all__ = sorted([
     "Check", "Derivation", "DerivpadError", "EquationError", "ForcingError",
-    "InitialConditionError", "Line", "NonlinearTermError", "ParameterError", "ParseError",
-    "Problem", "RULES", "RenderSettingError", "Rule", "SolveError", "Step", "UnknownNameError", "UnsafeInputError",
+    "InitialConditionError", "Line", "MissingExtraError", "NonlinearTermError", "ParameterError", "ParseError",
+    "Problem", "RULES", "RenderSettingError", "Rule", "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "forcing",
 ])

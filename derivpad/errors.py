@@ -14,6 +14,8 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── InitialConditionError (ValueError)   missing, extra, malformed or not-at-zero conditions
     ├── ForcingError (ValueError)      forcing whose transform the engine cannot form
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
+    ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
+    ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
     └── VerificationFailedError (ArithmeticError)  the engine's own check rejected a solution
@@ -26,11 +28,13 @@ __all__ = [
     "EquationError",
     "ForcingError",
     "InitialConditionError",
+    "MissingExtraError",
     "NonlinearTermError",
     "ParameterError",
     "ParseError",
     "RenderSettingError",
     "SolveError",
+    "UnitError",
     "UnknownNameError",
     "UnsafeInputError",
     "VariableCoefficientError",
@@ -115,6 +119,24 @@ class ParameterError(DerivpadError, ValueError):
 
     def __init__(self, message: str, name: str = ""):
         self.name = name
+        super().__init__(message)
+
+
+class UnitError(DerivpadError, ValueError):
+    """A unit that pint does not know, or terms of the equation with different dimensions."""
+
+    def __init__(self, message: str, name: str = "", terms: tuple = (), dimensions: tuple = ()):
+        self.name = name
+        self.terms = tuple(terms)
+        self.dimensions = tuple(dimensions)
+        super().__init__(message)
+
+
+class MissingExtraError(DerivpadError, ImportError):
+    """An optional dependency is not installed; the message gives the pip command."""
+
+    def __init__(self, message: str, extra: str = ""):
+        self.extra = extra
         super().__init__(message)
 
 

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-import numpy as np
 import sympy as sp
 
+from .evaluate import numpy_function
 from .parse import T
 from .problem import Problem, derivative_name
 from .steps import Step
@@ -82,12 +82,9 @@ class Derivation:
             raise ParameterError(msg)
         fn = self._cache.get("numpy")
         if fn is None:
-            fn = sp.lambdify(T, self.solution, modules=[{"Heaviside": _heaviside}, "numpy"])
+            fn = numpy_function(self.solution)
             self._cache["numpy"] = fn
-        t = np.asarray(times, dtype=float)
-        with np.errstate(invalid="ignore", over="ignore"):
-            out = np.asarray(fn(t), dtype=float) * np.ones_like(t)
-        return np.where(t >= 0, out, np.nan)
+        return fn(times)
 
     # -- serialisation ------------------------------------------------------------------
     def to_dict(self) -> dict:
@@ -114,9 +111,4 @@ class Derivation:
         """Plain text of the initial conditions, y(0⁻) = ...."""
         return tuple(f"{derivative_name(self.unknown, k)}(0-) = {sp.sstr(v)}"
                      for k, v in enumerate(self.problem.initial_values))
-
-
-def _heaviside(x, *args):
-    """u(x) with u(0) = 1: the value just after a switching time (right-continuous)."""
-    return np.heaviside(x, 1.0)
 

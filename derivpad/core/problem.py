@@ -16,8 +16,10 @@ from numbers import Number
 import sympy as sp
 
 from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
-                      ParseError, UnknownNameError, VariableCoefficientError)
+                      ParseError, UnitError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
+from .units import (UnitContext, _dim_of, check_homogeneity, dimension_text, display_unit_for,
+                    read_quantity, registry)
 
 __all__ = ["Problem", "make_problem", "to_exact", "derivative_name"]
 
@@ -43,6 +45,8 @@ class Problem:
     parameters: tuple[tuple[str, sp.Expr], ...]
     symbols: tuple[str, ...]
     loads: tuple[tuple[str, str, sp.Expr], ...] = ()  # (name, description, Heaviside form)
+    quantities: tuple = ()      # units.Quantity for each parameter given with a unit
+    units: object = None        # units.UnitContext when any unit was given, else None
 
     @property
     def order(self) -> int:
@@ -238,7 +242,8 @@ def _normalise_eq(eq: sp.Eq, unknown: str | None):
     return unknown, new, tuple(names)
 
 
-def make_problem(equation, ics=None, params=None, unknown: str | None = None) -> Problem:
+def make_problem(equation, ics=None, params=None, unknown: str | None = None,
+                 units=None) -> Problem:
     """Check the input and build a :class:`Problem`.
 
     Parameters
@@ -251,10 +256,13 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
         Values for parameters named in the equation; the others stay symbolic.
     unknown : str, optional
         The unknown's name when no name carries primes.
+    units : mapping, optional
+        Display units of the unknown and of time (``{"x": "mm", "t": "s"}``), or units for
+        parameters given as plain numbers (``{"k": "N/m"}``).
 
     Raises
     ------
-    ParseError, EquationError, InitialConditionError, ParameterError
+    ParseError, EquationError, InitialConditionError, ParameterError, UnitError
     """
     if isinstance(equation, sp.Eq):
         unknown, eq, names = _normalise_eq(equation, unknown)
@@ -281,12 +289,16 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
             _name_position(positions, "e") if positions else None)
     ic_names: set[str] = set()
     ic_values: dict[int, sp.Expr] = {}
+    ic_quantities: dict = {}
+    units = dict(units or {})
     for key, value in dict(ics or {}).items():
         k = _ic_key_order(key, unknown)
         label = derivative_name(unknown, k) + "(0)"
         if k in ic_values:
             raise InitialConditionError(f"{label} is given twice", key=str(key))
-        v = _ic_value(value, label)
+        v, q = _ic_value(value, label)
+        if q is not None:
+            ic_quantities[k] = q
         ic_names |= {s.name for s in v.free_symbols}
         ic_values[k] = v
     missing = [derivative_name(unknown, k) + "(0)" for k in range(order) if k not in ic_values]
@@ -304,6 +316,7 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
     known = set(names) | ic_names
     values: dict[str, sp.Expr] = {}
     loads: dict[str, sp.Expr] = {}
+    quantities: dict = {}
     for name, value in params.items():
         if not isinstance(name, str):
             name = str(name)
@@ -317,7 +330,18 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
                                      "forcing (the right side)", name)
             loads[name] = value
             continue
-        values[name] = to_exact(value, name)
+        if name in units and not isinstance(value, str):
+            value = f"{value} {units[name]}"
+        quantity = read_quantity(value, name)
+        if quantity is not None:
+            quantities[name] = quantity
+            values[name] = quantity.si_value
+        else:
+            values[name] = to_exact(value, name)
+    context = None
+    if quantities or ic_quantities or units:
+        context = _unit_context(terms, positions, unknown, names, quantities, ic_quantities,
+                                units, loads)
     subs = {sp.Symbol(n, positive=True): v for n, v in values.items()}
     if loads:
         forcing = forcing.subs({sp.Symbol(n, positive=True): f.expr for n, f in loads.items()})
@@ -335,7 +359,8 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None) ->
                              for e in coefficients + initial + (forcing,)))
     return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
                    initial_values=initial, parameters=tuple(values.items()), symbols=remaining,
-                   loads=tuple((n, f.description, f.expr) for n, f in loads.items()))
+                   loads=tuple((n, f.description, f.expr) for n, f in loads.items()),
+                   quantities=tuple(quantities.values()), units=context)
 
 
 def _name_position(text: str, name: str) -> int | None:
@@ -343,11 +368,66 @@ def _name_position(text: str, name: str) -> int | None:
     return m.start() if m else None
 
 
-def _ic_value(value, label: str) -> sp.Expr:
+def _ic_value(value, label: str):
+    """The condition's SI value, and its Quantity when it was given with a unit."""
+    q = read_quantity(value, label)
+    if q is not None:
+        return q.si_value, q
     try:
         v = to_exact(value, label)
     except ParameterError as exc:
         raise InitialConditionError(str(exc), key=label) from exc
     if v.has(T):
         raise InitialConditionError(f"{label} may not depend on t", key=label)
-    return v
+    return v, None
+
+
+def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units, loads):
+    """Dimensions of everything, the unknown's dimension inferred, homogeneity checked."""
+    ureg = registry()
+    one = ureg.Quantity(1, "").dimensionality
+    time_unit = units.get("t", "s")
+    tq = read_quantity(f"1 {time_unit}", "t")
+    if tq.dimensionality != ureg.Quantity(1, "s").dimensionality:
+        raise UnitError(f"t: {time_unit!r} is not a unit of time", name="t")
+    for key in units:
+        if key not in (unknown, "t") and key not in names:
+            raise UnitError(f"units= names {key!r}, which is neither the unknown {unknown!r}, "
+                            "t, nor a parameter of the equation", name=key)
+    dims = {"t": tq.dimensionality}
+    for name in names:
+        dims[name] = quantities[name].dimensionality if name in quantities else one
+    for name in loads:
+        dims[name] = None  # a load history: takes the dimension the equation needs
+    declared = None
+    if unknown in units:
+        declared = read_quantity(f"1 {units[unknown]}", unknown).dimensionality
+    elif 0 in ic_quantities:
+        declared = ic_quantities[0].dimensionality
+    forcing_terms = [tm for tm in terms if not tm.expr.has(sp.Function(unknown)(T).func)]
+    y_terms = [tm for tm in terms if tm not in forcing_terms]
+    load_free = [tm for tm in forcing_terms
+                 if not any(sp.Symbol(n, positive=True) in tm.expr.free_symbols for n in loads)]
+    if declared is None:
+        dims[unknown] = one
+        if load_free:
+            f_dim = _dim_of(load_free[0].expr, {**dims, **{n: one for n in loads}}, unknown, "")
+            per_y = _dim_of(y_terms[0].expr, dims, unknown, "")
+            declared = f_dim / per_y
+        else:
+            declared = one
+    dims[unknown] = declared
+    for name in loads:  # a load history carries the dimension of the equation's terms
+        dims[name] = _dim_of(y_terms[0].expr, dims, unknown, "")
+    forcing_dim = check_homogeneity(terms, dims, unknown, text)
+    for k, q in ic_quantities.items():
+        want = declared / dims["t"] ** k
+        if q.dimensionality != want:
+            raise UnitError(f"{derivative_name(unknown, k)}(0) is given in {q.given!r}, which is "
+                            f"{dimension_text(q.dimensionality)}; it must be {dimension_text(want)}",
+                            name=derivative_name(unknown, k) + "(0)")
+    unknown_si = display_unit_for(declared)
+    display = units.get(unknown, unknown_si)
+    return UnitContext(unknown_si=unknown_si, unknown_display=display, time_display=time_unit,
+                       forcing_si=display_unit_for(forcing_dim),
+                       dimensions=tuple((k, v) for k, v in dims.items()))

@@ -19,7 +19,7 @@ import sympy as sp
 from .forcing import TAU, piecewise_to_heaviside
 from .parse import T
 
-__all__ = ["Check", "Verification", "self_check", "DEFAULT_TOLERANCES"]
+__all__ = ["Check", "Samples", "Verification", "self_check", "DEFAULT_TOLERANCES"]
 
 DEFAULT_TOLERANCES = {"exact": 1e-20, "numeric": 1e-9}
 """Relative residual allowed: exact coefficients (30-digit arithmetic), numerical poles."""
@@ -29,7 +29,12 @@ _DIGITS = 30
 
 @dataclass(frozen=True, slots=True)
 class Check:
-    """One check: what was checked, how, the tolerance, the measured error, and the outcome."""
+    """One check: what was checked, how, the tolerance, the measured error, and the outcome.
+
+    ``ran`` is False when the check could not run (say so in ``detail``; it does not count as
+    passed); ``applicable`` is False when the check's theorem does not apply to this problem
+    (``detail`` says why; it counts neither way).
+    """
 
     name: str
     method: str
@@ -38,26 +43,49 @@ class Check:
     passed: bool
     ran: bool = True
     detail: str = ""
+    applicable: bool = True
+
+    @property
+    def status(self) -> str:
+        if not self.applicable:
+            return "not applicable"
+        if not self.ran:
+            return "not run"
+        return "passed" if self.passed else "FAILED"
 
     def to_dict(self) -> dict:
         return {"name": self.name, "method": self.method, "tolerance": self.tolerance,
                 "error": self.error, "passed": self.passed, "ran": self.ran,
-                "detail": self.detail}
+                "applicable": self.applicable, "status": self.status, "detail": self.detail}
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(frozen=True, slots=True, eq=False)
+class Samples:
+    """Sampled arrays a verification figure needs: closed form against numerical integration."""
+
+    times: "object"          # numpy array of t
+    closed_form: "object"    # y(t) from the derivation
+    integrated: "object"     # y(t) from solve_ivp
+    forcing: "object"        # f(t)
+    breakpoints: tuple[float, ...]
+
+
+@dataclass(frozen=True, slots=True, eq=False)
 class Verification:
-    """All checks of one derivation; ``passed`` only when every check ran and passed."""
+    """All checks of one derivation; ``passed`` only when every applicable check ran and passed."""
 
     checks: tuple[Check, ...]
+    samples: Samples | None = None
 
     @property
     def passed(self) -> bool:
-        return bool(self.checks) and all(c.ran and c.passed for c in self.checks)
+        return bool(self.checks) and all(c.status in ("passed", "not applicable")
+                                         for c in self.checks)
 
     @property
     def failed(self) -> tuple[Check, ...]:
-        return tuple(c for c in self.checks if not (c.ran and c.passed))
+        """Checks that ran and failed, or could not run."""
+        return tuple(c for c in self.checks if c.status in ("FAILED", "not run"))
 
     def to_dict(self) -> dict:
         return {"passed": self.passed, "checks": [c.to_dict() for c in self.checks]}

@@ -1,0 +1,233 @@
+"""Checks independent of the derivation: numerical integration, numerical inversion, limits.
+
+* Numerical integration: the ODE as a first-order system, SciPy ``solve_ivp`` (DOP853,
+  rtol 1e-10), restarted at every breakpoint, impulses applied as jumps A/a_n in y^(n-1);
+  the forcing is the problem's own expression. Compared with the closed form on a grid.
+* Numerical inversion: each delay part R_c(s) of Y(s) inverted by mpmath's ``invertlaplace``
+  with Talbot's method and with de Hoog's, then placed at t = c (second shifting theorem).
+  The partial fractions are not used.
+* Limit theorems: y(0⁺) = lim_{s→∞} sY(s) (initial value); lim_{t→∞} y = lim_{s→0} sY(s)
+  (final value) only where every pole of sY(s) is in the open left half-plane.
+"""
+
+from __future__ import annotations
+
+import math
+
+import mpmath
+import numpy as np
+import sympy as sp
+from scipy.integrate import solve_ivp
+
+from .evaluate import numpy_function
+from .parse import S, T
+from .verify import Check, Samples
+from .window import numeric_poles
+
+__all__ = ["NUMERIC_TOLERANCES", "independent_checks", "integration_check", "inversion_check",
+           "limit_checks", "not_run"]
+
+NUMERIC_TOLERANCES = {
+    "integration": 1e-7,   # max |closed form - solve_ivp| / peak |y|
+    "inversion": 1e-7,     # max |closed form - invertlaplace| / peak |y|
+    "limits": 1e-9,        # |theorem - solution limit| / max(peak |y|, |value|)
+}
+"""Default tolerances of the independent checks (relative to the response's peak)."""
+
+GRID_POINTS = 1500
+INVERSION_TIMES = 5
+_INVERSION_DIGITS = 30
+
+
+def not_run(name: str, method: str, tolerance: float, why: str) -> Check:
+    """A check that could not run: says why, and does not count as passed."""
+    return Check(name, method, tolerance, math.nan, False, ran=False, detail=why)
+
+
+def _forcing_function(forcing: sp.Expr):
+    smooth = forcing.replace(sp.DiracDelta, lambda *args: sp.Integer(0))
+    fn = sp.lambdify(T, smooth, modules=[{"Heaviside": lambda x, *_: np.heaviside(x, 1.0)},
+                                         "numpy"])
+    return lambda t: np.asarray(fn(np.asarray(t, dtype=float)), dtype=float) * np.ones_like(
+        np.asarray(t, dtype=float))
+
+
+def grid(t_end: float, breakpoints) -> np.ndarray:
+    """Sample times over [0, t_end], with each breakpoint and the instant after it."""
+    base = np.linspace(0.0, t_end, GRID_POINTS)
+    extra = [b for b in breakpoints if 0 < b < t_end]
+    return np.unique(np.concatenate([base, extra]))
+
+
+def integrate(coefficients, initial, forcing, breakpoints, impulses, times) -> np.ndarray:
+    """y(times) by DOP853 through each interval between breakpoints; impulses as jumps."""
+    a = np.array([float(c) for c in coefficients], dtype=float)
+    n = len(a) - 1
+    companion = np.zeros((n, n))
+    companion[:-1, 1:] = np.eye(n - 1)
+    companion[-1, :] = -a[:-1] / a[-1]
+    f = _forcing_function(forcing)
+
+    def rhs(t, z):
+        dz = companion @ z
+        dz[-1] += float(f(t)) / a[-1]
+        return dz
+
+    kicks: dict[float, float] = {}
+    for c, area in impulses:
+        kicks[float(c)] = kicks.get(float(c), 0.0) + float(area)
+    cuts = sorted({0.0, float(times[-1])} | {float(b) for b in breakpoints if 0 < b < times[-1]}
+                  | {c for c in kicks if c < times[-1]})
+    z = np.array([float(v) for v in initial], dtype=float)
+    out = np.empty_like(times)
+    for left, right in zip(cuts, cuts[1:]):
+        if left in kicks:
+            z = z.copy()
+            z[-1] += kicks[left] / a[-1]
+        sol = solve_ivp(rhs, (left, right), z, method="DOP853", rtol=1e-10,
+                        atol=1e-13 * max(1.0, float(np.max(np.abs(z)))), dense_output=True)
+        if not sol.success:
+            raise ArithmeticError(f"solve_ivp failed between t = {left} and {right}: "
+                                  f"{sol.message}")
+        sel = (times >= left) & (times <= right)
+        out[sel] = sol.sol(times[sel])[0]
+        z = sol.y[:, -1]
+    return out
+
+
+def integration_check(coefficients, initial, forcing, breakpoints, impulses, closed_form,
+                      t_end: float, tolerance: float) -> tuple[Check, Samples]:
+    """Closed form against solve_ivp on a grid over the window; also the figure's samples."""
+    times = grid(t_end, breakpoints)
+    ours = closed_form(times)
+    ref = integrate(coefficients, initial, forcing, breakpoints, impulses, times)
+    peak = max(float(np.max(np.abs(ref))), float(np.max(np.abs(ours))), 1e-300)
+    # At a breakpoint the closed form gives the value from the right; the integrator arrives
+    # from the left. Compare at the grid points off the breakpoints.
+    off = np.ones_like(times, dtype=bool)
+    for b in breakpoints:
+        off &= times != b
+    abs_err = float(np.max(np.abs(ours[off] - ref[off])))
+    rel = abs_err / peak
+    samples = Samples(times, ours, ref, _forcing_function(forcing)(times),
+                      tuple(float(b) for b in breakpoints))
+    check = Check("Numerical integration",
+                  "The ODE integrated by SciPy solve_ivp (DOP853, rtol 1e-10) between "
+                  f"breakpoints, impulses as jumps in y^(n-1), compared on {off.sum()} grid points "
+                  f"to t = {t_end:.4g}.", tolerance, rel, rel <= tolerance,
+                  detail=f"max abs error {abs_err:.3e}; max relative error {rel:.3e}")
+    return check, samples
+
+
+def _inversion_times(t_end: float, breakpoints) -> list[float]:
+    times = []
+    cuts = sorted(float(b) for b in breakpoints)
+    for k in range(INVERSION_TIMES):
+        t = t_end * (0.07 + 0.86 * k / (INVERSION_TIMES - 1))
+        for b in cuts:  # keep away from switching times, where the inversion converges slowly
+            if abs(t - b) < 0.02 * t_end:
+                t = b + 0.02 * t_end
+        times.append(t)
+    return times
+
+
+def inversion_check(parts, closed_form, t_end: float, breakpoints, peak: float,
+                    tolerance: float) -> Check:
+    """Closed form against mpmath invertlaplace (Talbot, de Hoog) of each delay part R_c(s)."""
+    fns = [(float(c), sp.lambdify(S, r, modules="mpmath")) for c, r in parts]
+    times = _inversion_times(t_end, breakpoints)
+    ours = closed_form(np.array(times))
+    worst = {"talbot": 0.0, "dehoog": 0.0}
+    with mpmath.workdps(_INVERSION_DIGITS):
+        for t, y in zip(times, ours):
+            for method in worst:
+                value = mpmath.mpf(0)
+                for c, fn in fns:
+                    if t > c:
+                        value += mpmath.invertlaplace(fn, t - c, method=method)
+                worst[method] = max(worst[method], abs(float(value) - float(y)))
+    rel = max(worst.values()) / max(peak, 1e-300)
+    return Check("Numerical inversion of Y(s)",
+                 "Each delay part of Y(s) inverted by mpmath invertlaplace (Talbot's and de Hoog's "
+                 f"methods, {_INVERSION_DIGITS} digits) at {len(times)} times and shifted by its "
+                 "delay; the partial fractions are not used.", tolerance, rel, rel <= tolerance,
+                 detail="max abs error: " + ", ".join(f"{m} {e:.3e}" for m, e in worst.items()))
+
+
+def _s_limit(parts, at_zero: bool) -> sp.Expr:
+    total = sp.Integer(0)
+    for c, r in parts:
+        num, den = sp.fraction(sp.cancel(sp.together(S * r)))
+        pn, pd = sp.Poly(num, S), sp.Poly(den, S)
+        if at_zero:
+            total += num.subs(S, 0) / den.subs(S, 0)
+        elif c == 0:  # delayed parts vanish as s → ∞ (e^{-cs} → 0)
+            total += pn.LC() / pd.LC() if pn.degree() == pd.degree() else 0
+    return total
+
+
+def limit_checks(parts, poles, initial_value: float, late_value, peak: float,
+                 tolerance: float) -> tuple[Check, Check]:
+    """Initial-value theorem always; final-value theorem only where it applies."""
+    scale = max(peak, 1e-300)
+    ivt = float(_s_limit(parts, at_zero=False))
+    err = abs(ivt - initial_value) / max(scale, abs(ivt))
+    first = Check("Initial-value theorem",
+                  "y(0+) from the solution against lim s·Y(s) as s → ∞.", tolerance, err,
+                  err <= tolerance, detail=f"theorem {ivt:.6g}, solution {initial_value:.6g}")
+    zs = numeric_poles(poles)
+    at_zero = sum(1 for z in zs if abs(z) < 1e-14)
+    bad = [z for z in zs if z.real >= -1e-14 and abs(z) >= 1e-14]
+    method = "lim y(t) as t → ∞ from the solution against lim s·Y(s) as s → 0."
+    if bad or at_zero > 1:
+        why = ("a pole of sY(s) at s = 0" if at_zero > 1 else
+               "poles of sY(s) on or right of the imaginary axis: "
+               + ", ".join(f"{z.real:.4g}{z.imag:+.4g}i" for z in bad[:4]))
+        final = Check("Final-value theorem", method, tolerance, math.nan, False,
+                      applicable=False, detail=f"does not apply: {why}; y(t) has no limit")
+        return first, final
+    fvt = float(_s_limit(parts, at_zero=True))
+    late = float(late_value())
+    err = abs(fvt - late) / max(scale, abs(fvt))
+    final = Check("Final-value theorem", method, tolerance, err, err <= tolerance,
+                  detail=f"theorem {fvt:.6g}, solution far out {late:.6g}")
+    return first, final
+
+
+def independent_checks(problem, solution, parts, poles, breakpoints, impulses, values,
+                       tolerances, t_end) -> tuple[tuple[Check, ...], Samples | None]:
+    """The four independent checks, with numbers for any symbolic parameters from ``values``.
+
+    Returns the checks and the samples for the figure (None when the checks could not run).
+    """
+    tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
+    subs = {sp.Symbol(k, positive=True): v for k, v in (values or {}).items()}
+    names = ("Numerical integration", "Numerical inversion of Y(s)", "Initial-value theorem",
+             "Final-value theorem")
+    keys = ("integration", "inversion", "limits", "limits")
+    missing = [n for n in problem.symbols if sp.Symbol(n, positive=True) not in subs]
+    if missing:
+        why = ("symbolic parameters without values (" + ", ".join(missing) + "); pass "
+               "values={...} to derive() to run the numerical checks")
+        return tuple(not_run(n, "", tol[k], why) for n, k in zip(names, keys)), None
+    coefficients = [c.subs(subs) for c in problem.coefficients]
+    initial = [v.subs(subs) for v in problem.initial_values]
+    forcing = problem.forcing.subs(subs)
+    bps = [float(b.subs(subs)) for b in breakpoints]
+    kicks = [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
+             for c, a in impulses]
+    closed = numpy_function(solution.subs(subs))
+    num_parts = [((sp.Integer(0) + c).subs(subs), r.subs(subs)) for c, r in parts]
+    num_poles = [type(p)(p.kind, p.value.subs(subs), p.beta.subs(subs), p.multiplicity,
+                         p.numeric) for p in poles]
+    end = t_end(num_poles, bps)
+    integration, samples = integration_check(coefficients, initial, forcing, bps, kicks,
+                                             closed, end, tol["integration"])
+    peak = float(np.max(np.abs(samples.closed_form)))
+    inversion = inversion_check(num_parts, closed, end, bps, peak, tol["inversion"])
+    decays = [-z.real for z in numeric_poles(num_poles) if z.real < 0]
+    far = max(bps, default=0.0) + (60.0 / min(decays) if decays else end)
+    initial_value = float(closed(np.array([0.0]))[0])
+    ivt, fvt = limit_checks(num_parts, num_poles, initial_value,
+                            lambda: closed(np.array([far]))[0], peak, tol["limits"])
+    return (integration, inversion, ivt, fvt), samples

@@ -1,0 +1,221 @@
+"""Units: read quantities with pint, convert them to consistent SI, check homogeneity.
+
+Values such as ``"800 N/m"`` or ``"250 ms"`` are split into an exact number and a unit; the unit
+is read by pint's unit parser (never Python's eval) and the value converted to SI base units,
+in which the derivation works. The equation is checked term by term: every top-level term
+must have the dimension of the first, with t a time, y^(k) the unknown's dimension over
+time^k, δ(t - c) one over time, and the arguments of exp, sin, cos, sinh, cosh dimensionless.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import lru_cache
+
+import sympy as sp
+
+from ..errors import UnitError
+
+__all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
+           "dimension_text", "unit_text", "display_unit_for", "to_display"]
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+# Names for common SI dimensions, so results read "N" rather than "kg·m/s²".
+_NAMED = ["N", "N*m", "Pa", "J", "W", "V", "A", "ohm", "F", "H", "C", "K", "N*s", "N/m",
+          "N*s/m", "kg", "m", "s", "rad/s", "1/s", "m/s", "m/s**2", "kg*m**2", "N*m*s/rad"]
+
+
+@lru_cache(maxsize=1)
+def registry():
+    """The one pint registry (created on first use: pint is slow to load)."""
+    import pint
+    return pint.UnitRegistry()
+
+
+@dataclass(frozen=True, slots=True)
+class Quantity:
+    """A parameter as given (text), its SI value (exact), its SI unit and its dimension."""
+
+    name: str
+    given: str
+    si_value: sp.Expr
+    si_unit: str
+    dimensionality: object  # pint UnitsContainer
+
+    @property
+    def dimensionless(self) -> bool:
+        return not dict(self.dimensionality)
+
+
+@dataclass(frozen=True, slots=True)
+class UnitContext:
+    """The unknown's and time's units (SI working unit and display unit) and each dimension."""
+
+    unknown_si: str
+    unknown_display: str
+    time_display: str
+    forcing_si: str
+    dimensions: tuple[tuple[str, object], ...]
+
+    def display(self, kind: str) -> str:
+        return {"unknown": self.unknown_display, "time": self.time_display,
+                "forcing": self.forcing_si}[kind]
+
+
+def _clean(text: str) -> str:
+    return text.replace("·", "*").replace("⋅", "*").replace("²", "**2").replace("³", "**3") \
+        .replace("Ω", "ohm").replace("µ", "u").replace("μ", "u")
+
+
+def _unit(text: str, name: str):
+    ureg = registry()
+    try:
+        return ureg.parse_units(_clean(text))
+    except Exception as exc:  # pint raises several classes; all mean "not a unit"
+        msg = (f"{name}: {text!r} is not a unit pint knows; write units such as 'kg', 'N/m', "
+               "'N*s/m', 'ms', 'mm'")
+        raise UnitError(msg, name=name) from exc
+
+
+def read_quantity(value, name: str) -> Quantity | None:
+    """A Quantity for a value with a unit (text or pint); None for a plain number."""
+    ureg = registry() if not isinstance(value, (int, float, Fraction)) else None
+    if ureg is not None and hasattr(value, "magnitude") and hasattr(value, "units"):
+        magnitude, units, given = value.magnitude, value.units, f"{value:~P}"
+    elif isinstance(value, str):
+        m = _NUMBER.match(value)
+        if not m or not m.group(2):
+            return None
+        magnitude, units, given = Fraction(m.group(1)), _unit(m.group(2), name), value.strip()
+    else:
+        return None
+    q = ureg.Quantity(1, units).to_base_units()
+    factor = Fraction(repr(float(q.magnitude))) if not float(q.magnitude).is_integer() else \
+        Fraction(int(q.magnitude))
+    si = Fraction(magnitude) * factor if not isinstance(magnitude, float) else \
+        Fraction(repr(magnitude)) * factor
+    return Quantity(name, given, sp.Rational(si.numerator, si.denominator),
+                    unit_text(q.units), q.dimensionality)
+
+
+def unit_text(units) -> str:
+    """A pint unit as compact text: 'kg / s ** 2' → 'kg/s²'."""
+    text = f"{registry().Quantity(1, units).units:~P}"
+    return text or "1"
+
+
+def dimension_text(dim) -> str:
+    """A pint dimensionality as text: '[mass] / [time] ** 2' → 'mass/time²'."""
+    items = dict(dim)
+    if not items:
+        return "dimensionless"
+    num = [f"{k.strip('[]')}{_sup(v)}" for k, v in items.items() if v > 0]
+    den = [f"{k.strip('[]')}{_sup(-v)}" for k, v in items.items() if v < 0]
+    out = "·".join(num) or "1"
+    return out + ("/" + "·".join(den) if den else "")
+
+
+def _sup(power) -> str:
+    if power == 1:
+        return ""
+    table = str.maketrans("0123456789-/.", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻ᐟ·")
+    return str(Fraction(power).limit_denominator(12)).translate(table)
+
+
+def display_unit_for(dim) -> str:
+    """A readable SI unit for a dimensionality: 'N' for force, 'N/m' for stiffness."""
+    ureg = registry()
+    for name in _NAMED:
+        u = ureg.parse_units(name)
+        if ureg.Quantity(1, u).dimensionality == dim:
+            return f"{ureg.Quantity(1, u).units:~P}"
+    return unit_text(ureg.Quantity(1, _base_from_dim(dim)).to_base_units().units)
+
+
+def _base_from_dim(dim):
+    ureg = registry()
+    base = {"[mass]": "kg", "[length]": "m", "[time]": "s", "[current]": "A",
+            "[temperature]": "K", "[substance]": "mol", "[luminosity]": "cd"}
+    out = ureg.parse_units("")
+    for k, v in dict(dim).items():
+        out = out * ureg.parse_units(base[k]) ** v
+    return out
+
+
+def to_display(si_value: float, si_unit: str, display: str) -> float:
+    """Convert an SI magnitude to the display unit."""
+    ureg = registry()
+    return float(ureg.Quantity(si_value, ureg.parse_units(si_unit)).to(ureg.parse_units(display))
+                 .magnitude)
+
+
+# --- homogeneity --------------------------------------------------------------------------
+
+
+def _dim_of(expr, dims: dict, unknown: str, where: str):
+    """Dimension (pint UnitsContainer) of an expression, or raise UnitError."""
+    ureg = registry()
+    one = ureg.Quantity(1, "").dimensionality
+    if expr.is_Number or expr in (sp.pi, sp.E):
+        return one
+    if isinstance(expr, sp.Symbol):
+        return dims.get(expr.name, one)
+    if isinstance(expr, sp.core.function.AppliedUndef):
+        return dims[unknown]
+    if isinstance(expr, sp.Derivative):
+        return dims[unknown] / dims["t"] ** expr.derivative_count
+    if isinstance(expr, sp.Add):
+        parts = [_dim_of(a, dims, unknown, where) for a in expr.args]
+        for a, d in zip(expr.args[1:], parts[1:]):
+            if d != parts[0]:
+                msg = (f"{where}: {sp.sstr(expr.args[0])} is {dimension_text(parts[0])} but "
+                       f"{sp.sstr(a)} is {dimension_text(d)}; a sum needs one dimension")
+                raise UnitError(msg, terms=(sp.sstr(expr.args[0]), sp.sstr(a)),
+                                dimensions=(dimension_text(parts[0]), dimension_text(d)))
+        return parts[0]
+    if isinstance(expr, sp.Mul):
+        out = one
+        for a in expr.args:
+            out = out * _dim_of(a, dims, unknown, where)
+        return out
+    if isinstance(expr, sp.Pow):
+        base = _dim_of(expr.base, dims, unknown, where)
+        if _dim_of(expr.exp, dims, unknown, where) != one or not expr.exp.is_number:
+            if base == one:
+                return one
+            msg = f"{where}: the exponent of {sp.sstr(expr)} must be a plain number"
+            raise UnitError(msg, terms=(sp.sstr(expr),))
+        return base ** float(expr.exp) if not expr.exp.is_Integer else base ** int(expr.exp)
+    if isinstance(expr, sp.Heaviside):
+        _dim_of(expr.args[0], dims, unknown, where)
+        return one
+    if isinstance(expr, sp.DiracDelta):
+        return one / _dim_of(expr.args[0], dims, unknown, where)
+    if isinstance(expr, (sp.exp, sp.sin, sp.cos, sp.sinh, sp.cosh)):
+        d = _dim_of(expr.args[0], dims, unknown, where)
+        if d != one:
+            msg = (f"{where}: the argument of {type(expr).__name__}({sp.sstr(expr.args[0])}) is "
+                   f"{dimension_text(d)}; it must be dimensionless (e.g. ω·t with ω in rad/s)")
+            raise UnitError(msg, terms=(sp.sstr(expr),), dimensions=(dimension_text(d),))
+        return one
+    return one
+
+
+def check_homogeneity(terms, dims: dict, unknown: str, text: str):
+    """Every top-level term must share one dimension; returns that dimension."""
+    found = []
+    for term in terms:
+        fragment = text[term.start:term.end] if text and term.end > term.start else sp.sstr(term.expr)
+        found.append((fragment, _dim_of(term.expr, dims, unknown, f"in the term {fragment!r}")))
+    first = found[0]
+    bad = [(frag, d) for frag, d in found if d != first[1]]
+    if bad:
+        listing = "; ".join(f"{frag!r} is {dimension_text(d)}" for frag, d in [first] + bad)
+        msg = (f"the equation is not dimensionally homogeneous: {listing}. Check the units of "
+               "the parameters in these terms")
+        raise UnitError(msg, terms=tuple(f for f, _ in [first] + bad),
+                        dimensions=tuple(dimension_text(d) for _, d in [first] + bad))
+    return first[1]

@@ -1,0 +1,51 @@
+"""The time window a response is looked at over: checks, results and figures share it.
+
+Several time constants of the slowest decaying pole past the last breakpoint (five: the
+response is within 1 % of its end state), and at least two periods of the slowest
+oscillation; for growing or undamped responses, two periods or three growth times.
+"""
+
+from __future__ import annotations
+
+import math
+
+__all__ = ["time_window", "numeric_poles"]
+
+_EPS = 1e-12
+
+
+def numeric_poles(poles) -> list[complex]:
+    """Every pole as a complex number, conjugates included, with multiplicity."""
+    out = []
+    for p in poles:
+        a = complex(p.value)
+        for _ in range(p.multiplicity):
+            if p.kind == "real":
+                out.append(complex(a.real, 0.0))
+            else:
+                b = float(p.beta)
+                out += [complex(a.real, b), complex(a.real, -b)]
+    return out
+
+
+def time_window(poles, breakpoints=(), t_end: float | None = None) -> float:
+    """End of the window: last breakpoint plus five slowest time constants or two periods."""
+    if t_end is not None:
+        return float(t_end)
+    last = max((float(b) for b in breakpoints), default=0.0)
+    zs = numeric_poles(poles)
+    decays = [-z.real for z in zs if z.real < -_EPS]
+    growths = [z.real for z in zs if z.real > _EPS]
+    freqs = [abs(z.imag) for z in zs if abs(z.imag) > _EPS]
+    spans = []
+    if decays and not growths and all(z.real < -_EPS for z in zs):
+        spans.append(5.0 / min(decays))
+    if growths:
+        spans.append(3.0 / max(growths))
+    if freqs:
+        spans.append(2 * 2 * math.pi / min(freqs))
+    if not spans:  # integrators only: look as far again as the forcing lasts
+        spans.append(max(1.0, last))
+    span = max(spans) if not growths else min(max(spans), 3.0 / max(growths) + 2 * 2 * math.pi
+                                                / min(freqs) if freqs else 3.0 / max(growths))
+    return last + span
