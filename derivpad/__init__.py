@@ -7,20 +7,21 @@ from . import forcing
 from .core.derivation import Derivation
 from .core.engine import derive
 from .core.problem import Problem
+from .core.results import Result
 from .core.rules import RULES
 from .core.steps import Line, Rule, Step
 from .core.verify import Check, Verification
-from .errors import (DerivpadError, EquationError, ForcingError, InitialConditionError,
-                     MissingExtraError, NonlinearTermError, ParameterError, ParseError, RenderSettingError,
-                     SolveError,
-                     UnknownNameError, UnsafeInputError, VariableCoefficientError,
-                     VerificationFailedError)
+from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
+                     MissingExtraError, NonlinearTermError, ParameterError, ParseError,
+                     RenderSettingError, SolveError, UnitError, UnknownNameError,
+                     UnsafeInputError, VariableCoefficientError, VerificationFailedError)
 
 __version__ = "0.1.0"
 
 __all__ = sorted([
-    "Check", "Derivation", "DerivpadError", "EquationError", "ForcingError",
-    "InitialConditionError", "Line", "MissingExtraError", "NonlinearTermError", "ParameterError", "ParseError",
-    "Problem", "RULES", "RenderSettingError", "Rule", "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
+    "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
+    "InitialConditionError", "Line", "MissingExtraError", "NonlinearTermError",
+    "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
+    "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "forcing",
 ])

@@ -16,18 +16,17 @@ DEMO_TITLE = "Pump skid on spring isolators: response to a pressure-surge pulse"
 DEMO_EQUATION = "m*x'' + c*x' + k*x = F0*(u(t - t1) - u(t - t2))"
 DEMO_ICS = {"x(0)": 0, "x'(0)": 0}
 DEMO_PARAMS = {
-    "m": 1200,      # kg, skid and pump
-    "c": 2400,      # N·s/m, isolator damping
-    "k": 480000,    # N/m, isolator stiffness
-    "F0": 6000,     # N, surge force
-    "t1": 0.02,     # s, surge arrives
-    "t2": 0.07,     # s, surge ends
+    "m": "1200 kg",       # skid and pump
+    "c": "2.4 kN*s/m",    # isolator damping
+    "k": "480 kN/m",      # isolator stiffness
+    "F0": "6 kN",         # surge force
+    "t1": "20 ms",        # surge arrives
+    "t2": "70 ms",        # surge ends
 }
-DEMO_UNITS = {"x": "m", "t": "s", "m": "kg", "c": "N·s/m", "k": "N/m", "F0": "N", "t1": "s",
-              "t2": "s"}
+DEMO_UNITS = {"x": "mm", "t": "s"}
 DEMO_TIMES = (0.0, 0.02, 0.05, 0.07, 0.1, 0.15, 0.2, 0.3, 0.5, 1.0)
 
 
 def demo() -> Derivation:
     """Derive the built-in scenario."""
-    return derive(DEMO_EQUATION, ics=DEMO_ICS, params=DEMO_PARAMS)
+    return derive(DEMO_EQUATION, ics=DEMO_ICS, params=DEMO_PARAMS, units=DEMO_UNITS)

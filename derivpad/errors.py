@@ -15,6 +15,7 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── ForcingError (ValueError)      forcing whose transform the engine cannot form
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
     ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
+    ├── ExportError (OSError)          a file cannot be written as asked (format, place)
     ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
@@ -26,6 +27,7 @@ from __future__ import annotations
 __all__ = [
     "DerivpadError",
     "EquationError",
+    "ExportError",
     "ForcingError",
     "InitialConditionError",
     "MissingExtraError",
@@ -130,6 +132,10 @@ class UnitError(DerivpadError, ValueError):
         self.terms = tuple(terms)
         self.dimensions = tuple(dimensions)
         super().__init__(message)
+
+
+class ExportError(DerivpadError, OSError):
+    """An output cannot be produced or written as asked (format, missing samples, place)."""
 
 
 class MissingExtraError(DerivpadError, ImportError):

@@ -33,7 +33,8 @@ class Derivation:
     solution : y(t) for t ≥ 0 in Heaviside form
     intervals : ((start, expression), ...): the solution on [start, next start)
     assumptions : stated assumptions, as sentences
-    verification : the engine's own checks
+    verification : the engine's own checks and the independent ones
+    results : engineering results by key (peak, dynamic_load_factor, damping_ratio, ...)
     """
 
     problem: Problem
@@ -47,6 +48,9 @@ class Derivation:
     conditions: tuple[sp.Basic, ...]
     verification: Verification
     notes: tuple[str, ...] = ()
+    results: object = None           # read-only mapping key → Result
+    transform_parts: tuple = ()      # ((c, R_c(s)), ...): Y(s) = Σ e^{-cs} R_c(s)
+    values: tuple = ()               # numbers used for symbolic parameters in checks and results
     _cache: dict = field(default_factory=dict, compare=False, repr=False)
 
     # -- values -------------------------------------------------------------------------
@@ -85,6 +89,16 @@ class Derivation:
             fn = numpy_function(self.solution)
             self._cache["numpy"] = fn
         return fn(times)
+
+    def figure(self, **settings):
+        """The verification figure (matplotlib): closed form over integration, forcing, error."""
+        from ..render.figure import verification_figure  # lazy: matplotlib is an extra
+        return verification_figure(self, **settings)
+
+    def save_figure(self, path, **settings):
+        """Write the verification figure; the format (svg, png, pdf) comes from the suffix."""
+        from ..render.figure import save_figure
+        return save_figure(self, path, **settings)
 
     # -- serialisation ------------------------------------------------------------------
     def to_dict(self) -> dict:

@@ -8,6 +8,8 @@ laplace_transform, inverse_laplace_transform and dsolve never run here.
 
 from __future__ import annotations
 
+from types import MappingProxyType
+
 import sympy as sp
 
 from ..errors import VerificationFailedError
@@ -18,17 +20,21 @@ from .forcing import TAU, heaviside_pieces
 from .inverse import invert_term, inversion_step, shift
 from .parse import S, T
 from .partial_fractions import fraction_steps, partial_fractions
-from .problem import Problem, derivative_name, make_problem
+from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
 from .transform import Laplace, Ysym, derivative_transform, transform_groups
+from .numeric_checks import independent_checks
+from .results import engineering_results
 from .verify import Verification, self_check
+from .window import time_window
 
 __all__ = ["derive", "derive_problem"]
 
 
-def derive(equation, ics=None, params=None, *, unknown: str | None = None,
-           regime: str = "underdamped", tolerance: float | None = None) -> Derivation:
+def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
+           values=None, regime: str = "underdamped", tolerances=None,
+           window: float | None = None) -> Derivation:
     """Solve a linear constant-coefficient ODE by the Laplace transform, step by step.
 
     Parameters
@@ -38,15 +44,24 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None,
     ics : mapping
         Initial values at 0⁻, one for each order below the ODE's: ``{"x(0)": 0, "x'(0)": 0}``.
     params : mapping, optional
-        Parameter values (numbers, numeric text, or a ``derivpad.forcing`` load for a name on
-        the right side). Parameters without values stay symbolic (taken as positive reals).
+        Parameter values: numbers, numeric text, quantities with units (``"800 N/m"`` or pint),
+        or a ``derivpad.forcing`` load for a name on the right side. Parameters without values
+        stay symbolic (taken as positive reals).
     unknown : str, optional
         The unknown's name when no name carries primes.
+    units : mapping, optional
+        Display units of the unknown and of time, ``{"x": "mm", "t": "s"}``, or units for
+        parameters given as plain numbers.
+    values : mapping, optional
+        Numbers for symbolic parameters, used only by the numerical checks and the results; the
+        derivation stays symbolic.
     regime : {"underdamped", "overdamped"}
-        The case taken for a symbolic quadratic factor whose discriminant sign is unknown;
-        stated on ``assumptions``.
-    tolerance : float, optional
-        Relative residual the engine's own check allows (default 1e-20 exact, 1e-9 numeric).
+        The case taken for a symbolic quadratic factor whose discriminant sign is unknown.
+    tolerances : mapping, optional
+        Override check tolerances by key: "back_substitution", "integration", "inversion",
+        "limits" (see docs/verification.md).
+    window : float, optional
+        End of the time window for the checks, results and figure (default: automatic).
 
     Returns
     -------
@@ -55,8 +70,9 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None,
     Raises
     ------
     DerivpadError
-        ParseError, EquationError, InitialConditionError, ParameterError, ForcingError,
-        SolveError; VerificationFailedError if the engine's own check rejects the answer.
+        ParseError, EquationError, InitialConditionError, ParameterError, UnitError,
+        ForcingError, SolveError; VerificationFailedError if the engine's own check rejects
+        the answer.
 
     Examples
     --------
@@ -64,12 +80,13 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None,
     >>> d.solution
     sin(3*t)/3
     """
-    problem = make_problem(equation, ics, params, unknown)
-    return derive_problem(problem, regime=regime, tolerance=tolerance)
+    problem = make_problem(equation, ics, params, unknown, units)
+    return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
+                          window=window)
 
 
-def derive_problem(problem: Problem, *, regime: str = "underdamped",
-                   tolerance: float | None = None) -> Derivation:
+def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=None,
+                   values=None, window: float | None = None) -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
     y = problem.unknown
     Y = Ysym(y)
@@ -93,7 +110,10 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
     # 1. Problem
     ic_lines = tuple(Line(sp.Symbol(derivative_name(y, k) + "(0^-)"), v, "=")
                      for k, v in enumerate(problem.initial_values))
-    param_lines = tuple(Line(sp.Symbol(name), value, "=", "parameter")
+    given = {q.name: q for q in problem.quantities}
+    param_lines = tuple(Line(sp.Symbol(name), value, "=",
+                             f"given {given[name].given}; SI {given[name].si_unit}"
+                             if name in given else "parameter")
                         for name, value in problem.parameters)
     load_lines = tuple(Line(sp.Function(name)(T), expr, "=", description)
                        for name, description, expr in problem.loads)
@@ -220,20 +240,66 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped",
 
     steps = (problem_step, transform_step, derivative_step, solve_step, decompose, invert,
              assemble)
-    checks = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions, tolerance)
-    verification = Verification(checks)
-    derivation = Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
-                            intervals=tuple(intervals), impulses=impulses,
-                            poles=char_poles.poles, assumptions=tuple(assumptions),
-                            conditions=tuple(conditions), verification=verification,
-                            notes=tuple(notes))
-    if not verification.passed:
+    tolerances = dict(tolerances or {})
+    unknown_keys = set(tolerances) - {"back_substitution", "integration", "inversion", "limits"}
+    if unknown_keys:
+        from ..errors import ParameterError
+        msg = (f"unknown tolerance {sorted(unknown_keys)[0]!r}; the keys are back_substitution, "
+               "integration, inversion, limits")
+        raise ParameterError(msg, sorted(unknown_keys)[0])
+    checks = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions,
+                        tolerances.get("back_substitution"))
+    own = Verification(checks)
+    if not own.passed:
         worst = "; ".join(f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}"
-                          for c in verification.failed)
+                          for c in own.failed)
         msg = (f"the engine's own check rejected the solution of {problem.text!r} ({worst}); "
                "no answer is returned. Please report this equation")
         raise VerificationFailedError(msg, checks)
-    return derivation
+
+    parts = tuple((delay, numerator / _denominator(poles)) for delay, numerator, poles in group_data)
+    all_poles = char_poles
+    for _, _, poles in group_data:
+        all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
+    value_map = _values(problem, values)
+    extra, samples = independent_checks(
+        problem, solution, parts, all_poles.poles, breaks, impulses, value_map,
+        {k: v for k, v in tolerances.items() if k != "back_substitution"},
+        lambda poles, bps: time_window(poles, bps, window))
+    verification = Verification(checks + extra, samples)
+    results = _results(problem, solution, char_poles, breaks, impulses, value_map, samples)
+    return Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
+                      intervals=tuple(intervals), impulses=impulses,
+                      poles=char_poles.poles, assumptions=tuple(assumptions),
+                      conditions=tuple(conditions), verification=verification,
+                      notes=tuple(notes), results=results, transform_parts=parts,
+                      values=tuple(value_map.items()))
+
+
+def _values(problem: Problem, values) -> dict:
+    """Numbers for symbolic parameters, for the numerical checks and results only."""
+    out = {}
+    for name, value in dict(values or {}).items():
+        if name not in problem.symbols:
+            from ..errors import ParameterError
+            msg = (f"values= gives {name!r}, which is not a symbolic parameter of this problem "
+                   f"(symbolic: {', '.join(problem.symbols) or 'none'})")
+            raise ParameterError(msg, name)
+        out[name] = to_exact(value, name)
+    return out
+
+
+def _results(problem, solution, char_poles, breaks, impulses, value_map, samples):
+    if samples is None:
+        return MappingProxyType({})
+    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
+    poles = [type(p)(p.kind, p.value.subs(subs), p.beta.subs(subs), p.multiplicity, p.numeric)
+             for p in char_poles.poles]
+    return engineering_results(
+        [c.subs(subs) for c in problem.coefficients], solution.subs(subs),
+        problem.forcing.subs(subs), poles, [float(b.subs(subs)) for b in breaks],
+        [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
+         for c, a in impulses], float(samples.times[-1]), problem.units)
 
 
 def _group_transform(g) -> sp.Expr:

@@ -15,9 +15,15 @@ def _heaviside(x, *args):
     return np.heaviside(x, 1.0)
 
 
+def _no_impulse(x, *args):
+    """δ(x) away from its instant: derivatives of step forms carry δ terms that vanish there."""
+    return np.zeros_like(np.asarray(x, dtype=float))
+
+
 def numpy_function(expr: sp.Expr):
-    """f(times) → float array for an expression in t (NaN before t = 0)."""
-    fn = sp.lambdify(T, expr, modules=[{"Heaviside": _heaviside}, "numpy"])
+    """f(times) → float array for an expression in t (NaN before t = 0; impulses not shown)."""
+    fn = sp.lambdify(T, expr, modules=[{"Heaviside": _heaviside, "DiracDelta": _no_impulse},
+                                       "numpy"])
 
     def evaluate(times):
         t = np.asarray(times, dtype=float)

@@ -19,7 +19,8 @@ import sympy as sp
 from ..errors import ForcingError, ParameterError
 from .parse import T
 
-__all__ = ["Forcing", "ForcingPiece", "heaviside_pieces", "piecewise_to_heaviside", "TAU",
+__all__ = ["Forcing", "ForcingPiece", "forcing_on_interval", "heaviside_pieces",
+           "piecewise_to_heaviside", "TAU",
            "step", "ramp", "pulse", "triangle", "table", "impulse", "switched_sine",
            "switched_cosine", "switched_exp", "window"]
 
@@ -242,6 +243,20 @@ def _one_piecewise(pw: sp.Piecewise) -> sp.Expr:
     for ti, (f_prev, f_next) in zip(thresholds, zip(values, values[1:])):
         out += (f_next - f_prev) * u(T - ti)
     return out
+
+
+def forcing_on_interval(expr: sp.Expr, point: sp.Expr) -> sp.Expr:
+    """The forcing on the open interval between breakpoints that contains ``point``.
+
+    Each step u(t - c) becomes its value there (0 or 1) and impulses vanish (they act only at
+    their instants).
+    """
+    expr = piecewise_to_heaviside(expr)
+    repl = {}
+    for h in expr.atoms(sp.Heaviside):
+        repl[h] = sp.Integer(1) if h.args[0].subs(T, point) > 0 else sp.Integer(0)
+    repl.update({d: sp.Integer(0) for d in expr.atoms(sp.DiracDelta)})
+    return expr.xreplace(repl)
 
 
 def _threshold(arg: sp.Expr, what: str) -> tuple[sp.Expr, int]:

@@ -19,7 +19,7 @@ import sympy as sp
 from ..errors import UnitError
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
-           "dimension_text", "unit_text", "display_unit_for", "to_display"]
+           "dimension_text", "unit_text", "display_unit_for", "display_factor", "to_display"]
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
@@ -98,7 +98,7 @@ def read_quantity(value, name: str) -> Quantity | None:
     si = Fraction(magnitude) * factor if not isinstance(magnitude, float) else \
         Fraction(repr(magnitude)) * factor
     return Quantity(name, given, sp.Rational(si.numerator, si.denominator),
-                    unit_text(q.units), q.dimensionality)
+                    display_unit_for(q.dimensionality), q.dimensionality)
 
 
 def unit_text(units) -> str:
@@ -143,6 +143,13 @@ def _base_from_dim(dim):
     for k, v in dict(dim).items():
         out = out * ureg.parse_units(base[k]) ** v
     return out
+
+
+def display_factor(si_unit: str, display: str) -> float:
+    """The factor from an SI magnitude to the display unit (1 when either is unknown)."""
+    if not si_unit or not display or si_unit == display:
+        return 1.0
+    return to_display(1.0, si_unit, display)
 
 
 def to_display(si_value: float, si_unit: str, display: str) -> float:

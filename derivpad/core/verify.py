@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import mpmath
 import sympy as sp
 
-from .forcing import TAU, piecewise_to_heaviside
+from .forcing import TAU, forcing_on_interval
 from .parse import T
 
 __all__ = ["Check", "Samples", "Verification", "self_check", "DEFAULT_TOLERANCES"]
@@ -103,17 +103,6 @@ def _sample_values(symbols, conditions, seed: int = 20261201) -> dict:
     raise ArithmeticError("no sample parameter values satisfy the assumptions")
 
 
-def _active(expr: sp.Expr, point: sp.Expr) -> sp.Expr:
-    """expr with every step u(t - c) replaced by its value on an interval containing point."""
-    expr = piecewise_to_heaviside(expr)
-    repl = {}
-    for h in expr.atoms(sp.Heaviside):
-        val = h.args[0].subs(T, point)
-        repl[h] = sp.Integer(1) if val > 0 else sp.Integer(0)
-    repl.update({d: sp.Integer(0) for d in expr.atoms(sp.DiracDelta)})
-    return expr.xreplace(repl)
-
-
 def _points(a, b):
     """Sample times inside [a, b); past the last breakpoint, out to a few widths."""
     if b is None:
@@ -137,7 +126,7 @@ def _symbolic_zero(parts_d, a, forcing, starts) -> bool:
         active = [(c, ders) for c, ders in parts_d if c <= start]
         lhs = sp.Add(*[a[k] * ders[k].subs(TAU, T - c) for c, ders in active
                        for k in range(len(a))])
-        residual = lhs - _active(forcing, mid)
+        residual = lhs - forcing_on_interval(forcing, mid)
         if sp.expand(residual.rewrite(sp.exp)) != 0:
             return False
     return True

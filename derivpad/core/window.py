@@ -1,8 +1,8 @@
 """The time window a response is looked at over: checks, results and figures share it.
 
-Several time constants of the slowest decaying pole past the last breakpoint (five: the
-response is within 1 % of its end state), and at least two periods of the slowest
-oscillation; for growing or undamped responses, two periods or three growth times.
+Past the last breakpoint: five time constants of the slowest decaying pole (the response
+is then within 1 % of its end state), and at least two periods of the slowest oscillation;
+a growing response is looked at for at least three and at most ten growth times.
 """
 
 from __future__ import annotations
@@ -38,14 +38,15 @@ def time_window(poles, breakpoints=(), t_end: float | None = None) -> float:
     growths = [z.real for z in zs if z.real > _EPS]
     freqs = [abs(z.imag) for z in zs if abs(z.imag) > _EPS]
     spans = []
-    if decays and not growths and all(z.real < -_EPS for z in zs):
+    if decays:
         spans.append(5.0 / min(decays))
-    if growths:
-        spans.append(3.0 / max(growths))
     if freqs:
         spans.append(2 * 2 * math.pi / min(freqs))
+    if growths:
+        spans.append(3.0 / max(growths))
     if not spans:  # integrators only: look as far again as the forcing lasts
         spans.append(max(1.0, last))
-    span = max(spans) if not growths else min(max(spans), 3.0 / max(growths) + 2 * 2 * math.pi
-                                                / min(freqs) if freqs else 3.0 / max(growths))
+    span = max(spans)
+    if growths:  # a growing response: do not look so far that it swamps the picture
+        span = min(span, 10.0 / max(growths))
     return last + span

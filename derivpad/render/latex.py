@@ -6,7 +6,7 @@ from ..core.derivation import Derivation
 from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
-from .notation import latex_expr
+from .notation import format_value, latex_expr
 
 __all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
 
@@ -62,8 +62,8 @@ class LatexRenderer(Renderer):
         return "\n\n".join(parts)
 
     def _render_Check(self, check: Check) -> str:
-        status = "passed" if check.passed and check.ran else ("not run" if not check.ran else "FAILED")
-        return (f"{_escape(check.name)} & {check.error:.2e} & {check.tolerance:.0e} & {status} "
+        err = "" if check.error != check.error else f"{check.error:.2e}"
+        return (f"{_escape(check.name)} & {err} & {check.tolerance:.0e} & {check.status} "
                 r"\\")
 
     def _render_Verification(self, ver: Verification) -> str:
@@ -71,9 +71,21 @@ class LatexRenderer(Renderer):
         return ("\\begin{tabular}{llll}\nCheck & Error & Tolerance & Outcome \\\\\n\\hline\n"
                 + rows + "\n\\end{tabular}")
 
+    def _render_Result(self, result) -> str:
+        value = _escape(format_value(result.magnitude, self.settings["float_digits"]))
+        return f"{_escape(result.label)} & {value} & {_escape(result.unit)} \\\\"
+
+    def results(self, results) -> str:
+        if not results:
+            return "No engineering results: give numbers for the symbolic parameters."
+        rows = "\n".join(self.render(r) for r in results.values())
+        return ("\\begin{tabular}{lll}\nResult & Value & Unit \\\\\n\\hline\n" + rows
+                + "\n\\end{tabular}")
+
     def _render_Derivation(self, d: Derivation) -> str:
         parts = [self._render_Step(step) for step in d.steps]
         parts.append("\\section*{Verification}\n\n" + self.render(d.verification))
+        parts.append("\\section*{Engineering results}\n\n" + self.results(d.results))
         if d.assumptions:
             parts.append("\\section*{Assumptions}\n\\begin{itemize}\n" + "\n".join(
                 r"\item " + _escape(a) for a in d.assumptions) + "\n\\end{itemize}")

@@ -16,7 +16,8 @@ from sympy.printing.str import StrPrinter
 
 from ..core.parse import S
 
-__all__ = ["NotationLatexPrinter", "NotationTextPrinter", "latex_expr", "text_expr"]
+__all__ = ["NotationLatexPrinter", "NotationTextPrinter", "format_value", "latex_expr",
+           "text_expr"]
 
 _LABEL = re.compile(r"^([A-Za-z]+)_(\d+)\(s\)$")
 
@@ -45,10 +46,10 @@ def _derivative_order(term) -> int:
 
 
 def _switch_time(term):
-    times = [h.args[0] for h in term.atoms(sp.Heaviside)]
-    if not times:
-        return None
-    shifts = [-(arg.subs(sp.Symbol("t", real=True), 0)) for arg in times]
+    """The time a term switches on: c of u(t - c), or of a delay factor e^{-cs}; else None."""
+    shifts = [-(h.args[0].subs(sp.Symbol("t", real=True), 0)) for h in term.atoms(sp.Heaviside)]
+    shifts += [-(e.args[0] / S) for e in term.atoms(sp.exp)
+               if e.args[0].has(S) and (e.args[0] / S).is_number]
     return max((float(x) for x in shifts if x.is_number), default=None)
 
 
@@ -56,8 +57,9 @@ def _ordered(printer_cls, self, expr, order=None):
     """Sums in reading order: a_n y^(n) first; switched terms u(t - c) by increasing c."""
     terms = list(expr.args) if isinstance(expr, sp.Add) else [expr]
     switched = [_switch_time(t) for t in terms]
-    if len(terms) > 1 and all(x is not None for x in switched):
-        return [t for _, t in sorted(zip(switched, terms), key=lambda pair: pair[0])]
+    if len(terms) > 1 and sum(x is not None for x in switched) >= len(terms) - 1:
+        keyed = [(-1.0 if x is None else x, i) for i, x in enumerate(switched)]
+        return [terms[i] for _, i in sorted(keyed)]
     if any(isinstance(t, sp.Derivative) or t.atoms(sp.Derivative) for t in terms) and \
             all(_derivative_order(t) >= 0 for t in terms if t.atoms(sp.core.function.AppliedUndef)):
         with_y = [t for t in terms if _derivative_order(t) >= 0]
@@ -129,9 +131,12 @@ class NotationLatexPrinter(LatexPrinter):
         delay, tail = _split_delay(expr)
         if delay is None:
             return super()._print_Mul(expr)
+        sign = ""
+        if tail.could_extract_minus_sign():
+            sign, tail = "- ", -tail
         body = self._print(tail)
-        return r"e^{%s}\,%s" % (self._print(delay), r"\left(%s\right)" % body
-                                if isinstance(tail, sp.Add) else body)
+        return r"%se^{%s}\,%s" % (sign, self._print(delay), r"\left(%s\right)" % body
+                                  if isinstance(tail, sp.Add) else body)
 
 
 class NotationTextPrinter(StrPrinter):
@@ -174,9 +179,26 @@ class NotationTextPrinter(StrPrinter):
         delay, tail = _split_delay(expr)
         if delay is None:
             return super()._print_Mul(expr)
+        sign = ""
+        if tail.could_extract_minus_sign():
+            sign, tail = "-", -tail
         body = self._print(tail)
-        return "exp(%s)*%s" % (self._print(delay), "(%s)" % body if isinstance(tail, sp.Add)
-                               else body)
+        return "%sexp(%s)*%s" % (sign, self._print(delay), "(%s)" % body
+                                 if isinstance(tail, sp.Add) else body)
+
+
+def format_value(value, digits: int = 6) -> str:
+    """A result value as text: numbers to ``digits`` significant figures, tuples listed."""
+    if isinstance(value, (list, tuple)):
+        return ", ".join(format_value(v, digits) for v in value)
+    if isinstance(value, complex):
+        if abs(value.imag) < 1e-300:
+            return format_value(value.real, digits)
+        sign = "+" if value.imag >= 0 else "-"
+        return f"{format_value(value.real, digits)} {sign} {format_value(abs(value.imag), digits)}i"
+    if isinstance(value, float):
+        return mpmath.nstr(mpmath.mpf(value), digits, min_fixed=-4, max_fixed=7)
+    return str(value)
 
 
 def latex_expr(expr, **settings) -> str:

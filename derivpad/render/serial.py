@@ -58,6 +58,13 @@ def derivation_to_dict(d: Derivation) -> dict:
         "assumptions": list(d.assumptions),
         "notes": list(d.notes),
         "verification": d.verification.to_dict(),
+        "results": {key: r.to_dict() for key, r in (d.results or {}).items()},
+        "units": None if p.units is None else {
+            "unknown": p.units.unknown_display, "unknown_si": p.units.unknown_si,
+            "time": p.units.time_display, "forcing_si": p.units.forcing_si,
+            "parameters": {q.name: {"given": q.given, "si_value": float(q.si_value),
+                                    "si_unit": q.si_unit} for q in p.quantities}},
+        "values_for_checks": {name: expression_dict(v) for name, v in d.values},
         "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
         "caution": CAUTION,
     }

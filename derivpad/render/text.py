@@ -9,7 +9,7 @@ from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
-from .notation import text_expr
+from .notation import format_value, text_expr
 
 __all__ = ["TextRenderer", "to_text"]
 
@@ -53,12 +53,24 @@ class TextRenderer(Renderer):
         return "\n".join(out)
 
     def _render_Check(self, check: Check) -> str:
-        status = "passed" if check.passed and check.ran else ("not run" if not check.ran else "FAILED")
-        return f"  {check.name:<34} error {check.error:9.2e}  tolerance {check.tolerance:7.0e}  {status}"
+        err = "" if check.error != check.error else f"error {check.error:9.2e}"
+        line = f"  {check.name:<30} {err:<16} tolerance {check.tolerance:7.0e}  {check.status}"
+        if check.detail:
+            line += "\n" + self._wrap(check.detail, "      ")
+        return line
 
     def _render_Verification(self, ver: Verification) -> str:
         head = "Verification: " + ("all checks passed" if ver.passed else "NOT VERIFIED")
         return "\n".join([head] + [self.render(c) for c in ver.checks])
+
+    def _render_Result(self, result) -> str:
+        return f"  {result.label:<40} {format_value(result.magnitude, self.settings['float_digits'])}" \
+            + (f" {result.unit}" if result.unit else "")
+
+    def results(self, results) -> str:
+        if not results:
+            return "Engineering results: none (give numbers for the symbolic parameters)"
+        return "\n".join(["Engineering results:"] + [self.render(r) for r in results.values()])
 
     def _render_Derivation(self, d: Derivation) -> str:
         out = [f"Derivation of {d.problem.text}", ""]
@@ -66,6 +78,8 @@ class TextRenderer(Renderer):
             out.append(self._render_Step(step, f"{i}."))
             out.append("")
         out.append(self.render(d.verification))
+        out.append("")
+        out.append(self.results(d.results))
         if d.assumptions:
             out.append("")
             out.append("Assumptions:")
