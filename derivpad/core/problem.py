@@ -404,8 +404,9 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
         declared = read_quantity(f"1 {units[unknown]}", unknown).dimensionality
     elif 0 in ic_quantities:
         declared = ic_quantities[0].dimensionality
-    forcing_terms = [tm for tm in terms if not tm.expr.has(sp.Function(unknown)(T).func)]
-    y_terms = [tm for tm in terms if tm not in forcing_terms]
+    forcing_terms = [tm for tm in terms
+                     if tm.expr != 0 and not tm.expr.has(sp.Function(unknown)(T).func)]
+    y_terms = [tm for tm in terms if tm.expr.has(sp.Function(unknown)(T).func)]
     load_free = [tm for tm in forcing_terms
                  if not any(sp.Symbol(n, positive=True) in tm.expr.free_symbols for n in loads)]
     if declared is None:

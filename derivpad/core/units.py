@@ -214,7 +214,7 @@ def _dim_of(expr, dims: dict, unknown: str, where: str):
 def check_homogeneity(terms, dims: dict, unknown: str, text: str):
     """Every top-level term must share one dimension; returns that dimension."""
     found = []
-    for term in terms:
+    for term in (tm for tm in terms if tm.expr != 0):  # 0 has every dimension
         fragment = text[term.start:term.end] if text and term.end > term.start else sp.sstr(term.expr)
         found.append((fragment, _dim_of(term.expr, dims, unknown, f"in the term {fragment!r}")))
     first = found[0]

@@ -1,0 +1,102 @@
+"""The independent checks: they pass on right answers, catch wrong ones, and say when they
+cannot run or do not apply."""
+
+import math
+
+import numpy as np
+import pytest
+import sympy as sp
+
+from derivpad import ParameterError, derive
+from derivpad.core.numeric_checks import integration_check, inversion_check
+from derivpad.core.parse import S, T
+
+ZERO2 = {"y(0)": 0, "y'(0)": 0}
+NAMES = ["ODE on every interval", "Initial conditions at 0+", "Jump conditions at breakpoints",
+         "Numerical integration", "Numerical inversion of Y(s)", "Initial-value theorem",
+         "Final-value theorem"]
+
+
+def test_all_checks_run_and_pass_on_a_delayed_pulse():
+    d = derive("y'' + 2*y' + 26*y = 3*(u(t - 1) - u(t - 2))", ics=ZERO2)
+    assert [c.name for c in d.verification.checks] == NAMES
+    for c in d.verification.checks:
+        assert c.method and c.status == "passed" and c.error <= c.tolerance
+    assert d.verification.passed
+
+
+def test_final_value_theorem_is_not_applied_to_an_undamped_system():
+    # poles ±2i: sY(s) has poles on the imaginary axis, so lim y(t) does not exist
+    d = derive("y'' + 4*y = u(t)", ics=ZERO2)
+    fvt = d.verification.checks[-1]
+    assert fvt.status == "not applicable" and "imaginary axis" in fvt.detail
+    assert d.verification.passed
+
+
+def test_final_value_matches_static_deflection():
+    # m x'' + c x' + k x = F0 u(t): x(∞) = F0/k (statics; common practice, no source)
+    d = derive("m*x'' + c*x' + k*x = F0*u(t)", ics={"x(0)": 0, "x'(0)": 0},
+               params={"m": 3, "c": 4, "k": 300, "F0": 12})
+    fvt = d.verification.checks[-1]
+    assert fvt.status == "passed" and "theorem 0.04" in fvt.detail
+
+
+def test_symbolic_parameters_without_values_do_not_count_as_verified():
+    d = derive("m*x'' + c*x' + k*x = F0*u(t)", ics={"x(0)": 0, "x'(0)": 0})
+    statuses = {c.name: c.status for c in d.verification.checks}
+    assert statuses["Numerical integration"] == "not run"
+    assert "values=" in d.verification.checks[3].detail
+    assert not d.verification.passed
+    assert d.results == {}
+
+
+def test_values_let_the_numerical_checks_run_on_a_symbolic_derivation():
+    d = derive("m*x'' + c*x' + k*x = F0*u(t)", ics={"x(0)": 0, "x'(0)": 0},
+               values={"m": 2, "c": 1, "k": 50, "F0": 10})
+    assert d.problem.symbols == ("m", "c", "k", "F0")
+    assert d.verification.passed
+    assert abs(d.results["final_value"].magnitude - 10 / 50) < 1e-12
+    with pytest.raises(ParameterError, match="not a symbolic parameter"):
+        derive("m*x'' + k*x = 1", ics={"x(0)": 0, "x'(0)": 0}, params={"m": 1}, values={"m": 2})
+
+
+def test_tolerances_can_be_set_per_call():
+    d = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2, tolerances={"integration": 1e-30})
+    check = d.verification.checks[3]
+    assert check.tolerance == 1e-30 and check.status == "FAILED"
+    assert not d.verification.passed
+    with pytest.raises(ParameterError, match="unknown tolerance 'speed'"):
+        derive("y' + y = 1", ics={"y(0)": 0}, tolerances={"speed": 1})
+
+
+def test_integration_check_catches_a_wrong_closed_form():
+    # closed form of y'' + 4y = u(t) from rest is (1 - cos 2t)/4; give it 1 % wrong
+    wrong = lambda t: 1.01 * (1 - np.cos(2 * np.asarray(t))) / 4  # noqa: E731
+    check, samples = integration_check([4, 0, 1], [0, 0], sp.Heaviside(T), [], [], wrong, 6.0, 1e-7)
+    assert check.status == "FAILED" and 5e-3 < check.error < 2e-2
+    assert samples.times[-1] == 6.0 and len(samples.integrated) == len(samples.times)
+
+
+def test_inversion_check_catches_a_wrong_closed_form():
+    right = lambda t: (1 - np.cos(2 * np.asarray(t))) / 4  # noqa: E731
+    parts = [(sp.Integer(0), 1 / (S * (S ** 2 + 4)))]
+    ok = inversion_check(parts, right, 5.0, [], 0.5, 1e-7)
+    assert ok.status == "passed" and ok.error < 1e-12
+    bad = inversion_check(parts, lambda t: right(t) + 1e-4, 5.0, [], 0.5, 1e-7)
+    assert bad.status == "FAILED"
+
+
+def test_checks_with_impulses_and_initial_values():
+    d = derive("y'' + 2*y' + 5*y = 3*delta(t) + 2*delta(t - 2)", ics={"y(0)": 1, "y'(0)": -1})
+    assert d.verification.passed
+    ivt = d.verification.checks[5]
+    # y(0+) = y(0-) = 1: an impulse changes y' only (second-order ODE)
+    assert ivt.status == "passed" and "solution 1" in ivt.detail
+
+
+def test_samples_cover_the_window_with_breakpoints():
+    d = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2)
+    samples = d.verification.samples
+    assert 1.0 in samples.breakpoints
+    # window: last breakpoint + max(5 time constants, 2 periods) = 1 + max(2.5, 4.19)
+    assert math.isclose(samples.times[-1], 1 + 2 * 2 * math.pi / 3, rel_tol=1e-12)
