@@ -32,6 +32,13 @@ def _parser() -> argparse.ArgumentParser:
                        help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
     solve.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
                        help="a parameter value, e.g. --param k=800 (repeat)")
+    solve.add_argument("--unit", action="append", default=[], metavar="NAME=UNIT",
+                       help="display unit of the unknown or of t, e.g. --unit x=mm (repeat)")
+    solve.add_argument("--value", action="append", default=[], metavar="NAME=VALUE",
+                       help="a number for a symbolic parameter, used by the numerical checks "
+                            "and results only (repeat)")
+    solve.add_argument("--figure", metavar="PATH",
+                       help="also write the verification figure (.svg, .png or .pdf)")
     solve.add_argument("--unknown", help="the unknown's name, when no name carries primes")
     solve.add_argument("--regime", choices=("underdamped", "overdamped"), default="underdamped",
                        help="case taken for a symbolic quadratic of unknown discriminant sign")
@@ -55,13 +62,13 @@ def _read_ics(items: list[str]) -> dict:
     return out
 
 
-def _read_params(items: list[str]) -> dict:
+def _read_pairs(items: list[str], option: str, example: str) -> dict:
     out = {}
     for item in items:
         name, eq, value = item.partition("=")
         if not eq or not name.strip() or not value.strip():
-            raise ParameterError(f"cannot read --param {item!r}; write it as NAME=VALUE, e.g. "
-                                 "k=800", item)
+            raise ParameterError(f"cannot read {option} {item!r}; write it as NAME=VALUE, e.g. "
+                                 f"{example}", item)
         out[name.strip()] = value.strip()
     return out
 
@@ -97,8 +104,13 @@ def main(argv=None) -> int:
             text = _emit(demo(), args.format, DEMO_TIMES, DEMO_TITLE)
         else:
             from .core.engine import derive
-            d = derive(args.equation, ics=_read_ics(args.ic), params=_read_params(args.param),
+            d = derive(args.equation, ics=_read_ics(args.ic),
+                       params=_read_pairs(args.param, "--param", "k=800"),
+                       units=_read_pairs(args.unit, "--unit", "x=mm"),
+                       values=_read_pairs(args.value, "--value", "m=2"),
                        unknown=args.unknown, regime=args.regime)
+            if args.figure:
+                d.save_figure(args.figure)
             text = _emit(d, args.format, args.at)
     except DerivpadError as exc:
         print(f"derivpad: error: {exc}", file=sys.stderr)

@@ -175,12 +175,15 @@ def _dim_of(expr, dims: dict, unknown: str, where: str):
     if isinstance(expr, sp.Derivative):
         return dims[unknown] / dims["t"] ** expr.derivative_count
     if isinstance(expr, sp.Add):
-        parts = [_dim_of(a, dims, unknown, where) for a in expr.args]
-        for a, d in zip(expr.args[1:], parts[1:]):
+        # A bare number in a sum takes the sum's dimension: numbers written in the equation
+        # are in the SI unit of their place (u(t - 0.1) means 0.1 s).
+        args = [a for a in expr.args if not a.is_number] or list(expr.args)
+        parts = [_dim_of(a, dims, unknown, where) for a in args]
+        for a, d in zip(args[1:], parts[1:]):
             if d != parts[0]:
-                msg = (f"{where}: {sp.sstr(expr.args[0])} is {dimension_text(parts[0])} but "
+                msg = (f"{where}: {sp.sstr(args[0])} is {dimension_text(parts[0])} but "
                        f"{sp.sstr(a)} is {dimension_text(d)}; a sum needs one dimension")
-                raise UnitError(msg, terms=(sp.sstr(expr.args[0]), sp.sstr(a)),
+                raise UnitError(msg, terms=(sp.sstr(args[0]), sp.sstr(a)),
                                 dimensions=(dimension_text(parts[0]), dimension_text(d)))
         return parts[0]
     if isinstance(expr, sp.Mul):
