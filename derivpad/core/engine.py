@@ -24,7 +24,7 @@ from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
 from .transform import Laplace, Ysym, derivative_transform, transform_groups
-from .numeric_checks import independent_checks
+from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, not_run
 from .results import engineering_results
 from .verify import Verification, self_check
 from .window import time_window
@@ -34,7 +34,7 @@ __all__ = ["derive", "derive_problem"]
 
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
            values=None, regime: str = "underdamped", tolerances=None,
-           window: float | None = None) -> Derivation:
+           window: float | None = None, checks: str = "all") -> Derivation:
     """Solve a linear constant-coefficient ODE by the Laplace transform, step by step.
 
     Parameters
@@ -62,6 +62,9 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
         "limits" (see docs/verification.md).
     window : float, optional
         End of the time window for the checks, results and figure (default: automatic).
+    checks : {"all", "engine"}
+        "all" runs the independent checks and the results too; "engine" only the engine's own
+        back-substitution (for fast exploration; the derivation then counts as not verified).
 
     Returns
     -------
@@ -82,11 +85,11 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     """
     problem = make_problem(equation, ics, params, unknown, units)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
-                          window=window)
+                          window=window, checks=checks)
 
 
 def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=None,
-                   values=None, window: float | None = None) -> Derivation:
+                   values=None, window: float | None = None, checks: str = "all") -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
     y = problem.unknown
     Y = Ysym(y)
@@ -240,6 +243,9 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
 
     steps = (problem_step, transform_step, derivative_step, solve_step, decompose, invert,
              assemble)
+    if checks not in ("all", "engine"):
+        from ..errors import ParameterError
+        raise ParameterError(f"checks must be 'all' or 'engine', not {checks!r}", "checks")
     tolerances = dict(tolerances or {})
     unknown_keys = set(tolerances) - {"back_substitution", "integration", "inversion", "limits"}
     if unknown_keys:
@@ -247,26 +253,35 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
         msg = (f"unknown tolerance {sorted(unknown_keys)[0]!r}; the keys are back_substitution, "
                "integration, inversion, limits")
         raise ParameterError(msg, sorted(unknown_keys)[0])
-    checks = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions,
-                        tolerances.get("back_substitution"))
-    own = Verification(checks)
+    checks_own = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions,
+                            tolerances.get("back_substitution"))
+    own = Verification(checks_own)
     if not own.passed:
         worst = "; ".join(f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}"
                           for c in own.failed)
         msg = (f"the engine's own check rejected the solution of {problem.text!r} ({worst}); "
                "no answer is returned. Please report this equation")
-        raise VerificationFailedError(msg, checks)
+        raise VerificationFailedError(msg, checks_own)
 
     parts = tuple((delay, numerator / _denominator(poles)) for delay, numerator, poles in group_data)
     all_poles = char_poles
     for _, _, poles in group_data:
         all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
     value_map = _values(problem, values)
+    if checks == "engine":
+        skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
+                        for name in INDEPENDENT_CHECKS)
+        return Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
+                          intervals=tuple(intervals), impulses=impulses, poles=char_poles.poles,
+                          assumptions=tuple(assumptions), conditions=tuple(conditions),
+                          verification=Verification(checks_own + skipped), notes=tuple(notes),
+                          results=MappingProxyType({}), transform_parts=parts,
+                          values=tuple(value_map.items()))
     extra, samples = independent_checks(
         problem, solution, parts, all_poles.poles, breaks, impulses, value_map,
         {k: v for k, v in tolerances.items() if k != "back_substitution"},
         lambda poles, bps: time_window(poles, bps, window))
-    verification = Verification(checks + extra, samples)
+    verification = Verification(checks_own + extra, samples)
     results = _results(problem, solution, char_poles, breaks, impulses, value_map, samples)
     return Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
                       intervals=tuple(intervals), impulses=impulses,

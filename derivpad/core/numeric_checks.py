@@ -24,7 +24,7 @@ from .parse import S, T
 from .verify import Check, Samples
 from .window import numeric_poles
 
-__all__ = ["NUMERIC_TOLERANCES", "independent_checks", "integration_check", "inversion_check",
+__all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integration_check", "inversion_check",
            "limit_checks", "not_run"]
 
 NUMERIC_TOLERANCES = {
@@ -34,6 +34,8 @@ NUMERIC_TOLERANCES = {
 }
 """Default tolerances of the independent checks (relative to the response's peak)."""
 
+INDEPENDENT_CHECKS = ("Numerical integration", "Numerical inversion of Y(s)",
+                      "Initial-value theorem", "Final-value theorem")
 GRID_POINTS = 1500
 INVERSION_TIMES = 5
 _INVERSION_DIGITS = 30
@@ -234,8 +236,7 @@ def independent_checks(problem, solution, parts, poles, breakpoints, impulses, v
     """
     tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
     subs = {sp.Symbol(k, positive=True): v for k, v in (values or {}).items()}
-    names = ("Numerical integration", "Numerical inversion of Y(s)", "Initial-value theorem",
-             "Final-value theorem")
+    names = INDEPENDENT_CHECKS
     keys = ("integration", "inversion", "limits", "limits")
     missing = [n for n in problem.symbols if sp.Symbol(n, positive=True) not in subs]
     if missing:

@@ -100,3 +100,11 @@ def test_samples_cover_the_window_with_breakpoints():
     assert 1.0 in samples.breakpoints
     # window: last breakpoint + max(5 time constants, 2 periods) = 1 + max(2.5, 4.19)
     assert math.isclose(samples.times[-1], 1 + 2 * 2 * math.pi / 3, rel_tol=1e-12)
+
+
+def test_engine_only_checks_leave_the_derivation_unverified():
+    d = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2, checks="engine")
+    assert [c.status for c in d.verification.checks][3:] == ["not run"] * 4
+    assert not d.verification.passed and d.results == {}
+    with pytest.raises(ParameterError, match="checks must be"):
+        derive("y' + y = 1", ics={"y(0)": 0}, checks="some")

@@ -1,0 +1,95 @@
+"""Benchmark the verification of the demo problem: the time of each check, and the total.
+
+Run:  python benchmarks/bench_checks.py [--repeat N]
+
+Each check is timed on its own (median of N runs, SymPy's cache cleared before each) and the
+split printed. The reference in the same run is one plain ``scipy.integrate.solve_ivp`` solution
+of the demo ODE over the same window at the same tolerance: the ratio says how many plain
+integrations the whole verification costs. Target: all checks together under 1 s median.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+
+import numpy as np  # noqa: E402
+from scipy.integrate import solve_ivp  # noqa: E402
+from sympy.core.cache import clear_cache  # noqa: E402
+
+from derivpad.core import numeric_checks as nc  # noqa: E402
+from derivpad.core.engine import derive  # noqa: E402
+from derivpad.core.evaluate import numpy_function  # noqa: E402
+from derivpad.core.forcing import TAU  # noqa: E402
+from derivpad.core.parse import T  # noqa: E402
+from derivpad.core.verify import self_check  # noqa: E402
+from derivpad.core.window import time_window  # noqa: E402
+from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
+
+
+def _median(fn, repeat):
+    fn()
+    times = []
+    for _ in range(repeat):
+        clear_cache()
+        start = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - start)
+    return statistics.median(times)
+
+
+def _parts_in_tau(d):
+    """The solution's delayed parts g_c(τ), rebuilt from the interval expressions."""
+    out, previous = [], 0
+    for start, expr in d.intervals:
+        out.append((start, (expr - previous).subs(T, TAU + start)))
+        previous = expr
+    return out
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeat", type=int, default=7)
+    args = parser.parse_args(argv)
+    d = derive(DEMO_EQUATION, ics=DEMO_ICS, params=DEMO_PARAMS, units=DEMO_UNITS)
+    p = d.problem
+    bps = [float(b) for b in d.breakpoints]
+    end = time_window(d.poles, bps)
+    closed = numpy_function(d.solution)
+    peak = float(np.max(np.abs(closed(np.linspace(0, end, 2000)))))
+    parts = list(d.transform_parts)
+    tau_parts = _parts_in_tau(d)
+    timings = {
+        "back-substitution, ICs, jumps": lambda: self_check(
+            p, tau_parts, d.breakpoints, dict(d.impulses), d.conditions),
+        "numerical integration": lambda: nc.integration_check(
+            p.coefficients, p.initial_values, p.forcing, bps, [], closed, end, 1e-7),
+        "numerical inversion": lambda: nc.inversion_check(
+            parts, closed, nc.inversion_horizon(d.poles, end, bps), bps, peak, 1e-7),
+        "limit theorems": lambda: nc.limit_checks(
+            parts, d.poles, 0.0, lambda: closed(np.array([60.0]))[0], peak, 1e-9),
+    }
+    split = {name: _median(fn, args.repeat) for name, fn in timings.items()}
+    total = sum(split.values())
+    a = [float(c) for c in p.coefficients]
+
+    def reference():
+        def rhs(t, z):
+            f = 6000.0 if 0.02 <= t < 0.07 else 0.0
+            return [z[1], (f - a[1] * z[1] - a[0] * z[0]) / a[2]]
+        solve_ivp(rhs, (0, end), [0.0, 0.0], method="DOP853", rtol=1e-10, atol=1e-13)
+
+    ref = _median(reference, args.repeat)
+    for name, value in split.items():
+        print(f"{name:<32} {value * 1e3:8.1f} ms")
+    print(f"{'all checks':<32} {total * 1e3:8.1f} ms   (target < 1000 ms)")
+    print(f"{'reference: one solve_ivp run':<32} {ref * 1e3:8.1f} ms   ratio {total / ref:6.1f}x")
+
+
+if __name__ == "__main__":
+    main()
