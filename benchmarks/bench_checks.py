@@ -11,17 +11,16 @@ integrations the whole verification costs. Target: all checks together under 1 s
 from __future__ import annotations
 
 import argparse
-import statistics
 import sys
-import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import numpy as np  # noqa: E402
 from scipy.integrate import solve_ivp  # noqa: E402
-from sympy.core.cache import clear_cache  # noqa: E402
 
+from timing import median_time  # noqa: E402
 from derivpad.core import numeric_checks as nc  # noqa: E402
 from derivpad.core.engine import derive  # noqa: E402
 from derivpad.core.evaluate import numpy_function  # noqa: E402
@@ -32,15 +31,6 @@ from derivpad.core.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
 
 
-def _median(fn, repeat):
-    fn()
-    times = []
-    for _ in range(repeat):
-        clear_cache()
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times)
 
 
 def _parts_in_tau(d):
@@ -74,7 +64,7 @@ def main(argv=None):
         "limit theorems": lambda: nc.limit_checks(
             parts, d.poles, 0.0, lambda: closed(np.array([60.0]))[0], peak, 1e-9),
     }
-    split = {name: _median(fn, args.repeat) for name, fn in timings.items()}
+    split = {name: median_time(fn, args.repeat) for name, fn in timings.items()}
     total = sum(split.values())
     a = [float(c) for c in p.coefficients]
 
@@ -84,7 +74,7 @@ def main(argv=None):
             return [z[1], (f - a[1] * z[1] - a[0] * z[0]) / a[2]]
         solve_ivp(rhs, (0, end), [0.0, 0.0], method="DOP853", rtol=1e-10, atol=1e-13)
 
-    ref = _median(reference, args.repeat)
+    ref = median_time(reference, args.repeat)
     for name, value in split.items():
         print(f"{name:<32} {value * 1e3:8.1f} ms")
     print(f"{'all checks':<32} {total * 1e3:8.1f} ms   (target < 1000 ms)")

@@ -6,9 +6,9 @@ Prints, for each problem, the median time of derive() with every step and the en
 check (``checks="engine"``; the independent checks are timed by bench_checks.py), SymPy's
 cache cleared before every run so no run profits from an earlier identical one; then the
 median time of dsolve, and their ratio. dsolve runs in a child process so that a case where
-it does not answer can be stopped at the time-out. Targets: the demo derives in under 150 ms median; derive is at least 10x
-faster than dsolve on a second-order ODE with a delayed step; an irreducible quintic solves
-in under 2 s.
+it does not answer can be stopped at the time-out. Targets: the demo derives in under
+150 ms median; derive is at least 10x faster than dsolve on a second-order ODE with a
+delayed step; an irreducible quintic solves in under 2 s.
 """
 
 from __future__ import annotations
@@ -21,10 +21,11 @@ import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import sympy as sp  # noqa: E402
-from sympy.core.cache import clear_cache  # noqa: E402
 
+from timing import median_time  # noqa: E402
 from derivpad import derive  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS  # noqa: E402
 
@@ -76,15 +77,6 @@ CASES = {
 }
 
 
-def _median_derive(fn, repeat):
-    fn()  # imports and first-use set-up are not what is measured
-    times = []
-    for _ in range(repeat):
-        clear_cache()
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times)
 
 
 def _median_dsolve(name, repeat, timeout):
@@ -111,7 +103,7 @@ def main(argv=None):
     args = parser.parse_args(argv)
     print(f"{'problem':<46} {'derive':>10} {'dsolve':>12} {'ratio':>8}  target")
     for name, case in CASES.items():
-        ours = _median_derive(case["derive"], args.repeat)
+        ours = median_time(case["derive"], args.repeat)
         ref = _median_dsolve(name, args.dsolve_repeat, args.dsolve_timeout)
         ref_text = f"{ref * 1e3:9.1f} ms" if ref is not None else f"> {args.dsolve_timeout:.0f} s"
         ratio = f"{ref / ours:7.1f}x" if ref is not None else "   n/a"

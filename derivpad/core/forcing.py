@@ -12,7 +12,6 @@ the form the second shifting theorem needs.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from numbers import Number
 
 import sympy as sp
 

@@ -22,9 +22,7 @@ _INSTALL = 'pip install "derivpad[notebook]"'
 
 def _figure_class():
     try:
-        import matplotlib
-        pass  # the Figure class needs no GUI backend
-        from matplotlib.figure import Figure
+        from matplotlib.figure import Figure  # the Figure class needs no GUI backend
     except ImportError as exc:
         msg = f"the verification figure needs matplotlib; install it with: {_INSTALL}"
         raise MissingExtraError(msg, extra="notebook") from exc

@@ -11,7 +11,7 @@ import pytest
 import sympy as sp
 
 from derivpad.core.algebra import poles_of
-from derivpad.core.forcing import TAU, ForcingPiece, heaviside_pieces
+from derivpad.core.forcing import TAU, heaviside_pieces
 from derivpad.core.parse import S, T
 from derivpad.core.partial_fractions import partial_fractions
 from derivpad.core.rules import RULES
