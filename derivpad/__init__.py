@@ -23,5 +23,18 @@ __all__ = sorted([
     "InitialConditionError", "Line", "MissingExtraError", "NonlinearTermError",
     "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
-    "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "forcing",
+    "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "explore",
+    "forcing", "load_ipython_extension",
 ])
+
+
+def load_ipython_extension(ipython):
+    """``%load_ext derivpad``: the ``%%derivation`` cell magic (see docs/notebook.md)."""
+    from .notebook.display import load_ipython_extension as load
+    load(ipython)
+
+
+def explore(equation, ics=None, params=None, controls=None, **options):
+    """A live parameter explorer (ipywidgets): see docs/notebook.md."""
+    from .notebook.widgets import explore as build
+    return build(equation, ics=ics, params=params, controls=controls, **options)

@@ -112,6 +112,19 @@ class Derivation:
         from ..render.latex import to_latex
         return to_latex(self, **settings)
 
+    def to_html(self, **settings) -> str:
+        """The whole derivation as an HTML fragment with collapsible steps."""
+        from ..render.html import to_html
+        return to_html(self, **settings)
+
+    def _repr_mimebundle_(self, include=None, exclude=None):
+        """Rich display: HTML, LaTeX, text and derivpad's own JSON type; never raises."""
+        try:
+            from ..render.mimebundle import mimebundle
+        except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
+            return {"text/plain": f"derivpad could not load its display code: {exc}"}
+        return mimebundle(self, include, exclude)
+
     def to_text(self, **settings) -> str:
         """The whole derivation as readable terminal text."""
         from ..render.text import to_text

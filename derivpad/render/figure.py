@@ -14,7 +14,7 @@ import numpy as np
 from ..core.units import display_factor
 from ..errors import ExportError, MissingExtraError
 
-__all__ = ["verification_figure", "save_figure", "FIGURE_FORMATS"]
+__all__ = ["verification_figure", "save_figure", "figure_svg", "FIGURE_FORMATS"]
 
 FIGURE_FORMATS = ("svg", "png", "pdf")
 _INSTALL = 'pip install "derivpad[notebook]"'
@@ -76,6 +76,25 @@ def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
     return fig
 
 
+_METADATA = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
+             "png": {"Software": None}}
+
+
+def _write(fig, target, fmt: str) -> None:
+    import matplotlib
+    with matplotlib.rc_context({"svg.hashsalt": "derivpad", "svg.fonttype": "path"}):
+        fig.savefig(target, format=fmt, metadata=_METADATA[fmt], dpi=150)
+
+
+def figure_svg(d, **settings) -> str:
+    """The figure as an inline SVG element (no XML prolog), deterministic."""
+    import io
+    buffer = io.StringIO()
+    _write(verification_figure(d, **settings), buffer, "svg")
+    text = buffer.getvalue()
+    return text[text.index("<svg"):]
+
+
 def save_figure(d, path, **settings) -> Path:
     """Write the figure to ``path``; the suffix picks the format (svg, png, pdf)."""
     path = Path(path)
@@ -85,11 +104,7 @@ def save_figure(d, path, **settings) -> Path:
                + ", ".join("." + f for f in FIGURE_FORMATS))
         raise ExportError(msg)
     fig = verification_figure(d, **settings)
-    metadata = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
-                "png": {"Software": None}}[fmt]
-    import matplotlib
-    with matplotlib.rc_context({"svg.hashsalt": "derivpad", "svg.fonttype": "path"}):
-        tmp = path.with_name(path.name + ".part")
-        fig.savefig(tmp, format=fmt, metadata=metadata, dpi=150)
-        tmp.replace(path)
+    tmp = path.with_name(path.name + ".part")  # written aside, then renamed: never half-written
+    _write(fig, tmp, fmt)
+    tmp.replace(path)
     return path

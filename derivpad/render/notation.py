@@ -77,7 +77,6 @@ def _format_float(x: sp.Float, digits: int) -> str:
 class NotationLatexPrinter(LatexPrinter):
     """LaTeX of step expressions in engineering notation."""
 
-    printmethod = "_derivpad_latex"
     _default_settings = {**LatexPrinter._default_settings, "float_digits": 6}
 
     def _as_ordered_terms(self, expr, order=None):

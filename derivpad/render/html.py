@@ -1,0 +1,178 @@
+"""HTML of a derivation for notebooks and reports: collapsible step cells, checks, results.
+
+Each step is a ``<details>`` element whose ``<summary>`` shows the step's title and its rule's
+name; the math inside is display LaTeX (``$$…$$``) for the page's math typesetter, with the raw
+LaTeX one click away to copy. Ids are derived from the content (SHA-256), so the same derivation
+gives the same bytes every time. The look uses JupyterLab's theme variables where present, so
+it reads in light and dark themes and prints plainly.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import html
+
+from ..core.derivation import Derivation
+from ..core.steps import Step
+from ..core.verify import Check, Verification
+from .base import Renderer
+from .latex import CAUTION, LatexRenderer
+from .notation import format_value, latex_expr
+
+__all__ = ["HtmlRenderer", "to_html", "STYLE"]
+
+STYLE = """
+.derivpad{font-family:var(--jp-content-font-family,system-ui,sans-serif);
+ color:var(--jp-content-font-color1,#1d1d1d);line-height:1.45;max-width:62em}
+.derivpad .dp-head{border:1px solid var(--jp-border-color1,#bbb);padding:.5em .8em;margin:.3em 0}
+.derivpad .dp-label{font-size:.8em;text-transform:uppercase;letter-spacing:.06em;
+ color:var(--jp-content-font-color2,#555)}
+.derivpad .dp-badge{display:inline-block;padding:.1em .6em;border:2px solid;font-weight:600}
+.derivpad .dp-pass{border-color:#2e7d4f;color:#2e7d4f}
+.derivpad .dp-fail{border-color:#b3261e;color:#b3261e}
+.derivpad .dp-tools button{font:inherit;font-size:.85em;margin:.2em .4em .2em 0;padding:.1em .6em;
+ background:none;border:1px solid var(--jp-border-color1,#999);color:inherit;cursor:pointer}
+.derivpad details{border-left:3px solid var(--jp-border-color2,#ccc);margin:.25em 0 .25em .2em;
+ padding:.1em 0 .1em .7em}
+.derivpad details>summary{cursor:pointer}
+.derivpad .dp-rule{color:var(--jp-content-font-color2,#555);font-style:italic;margin-left:.6em}
+.derivpad .dp-note{margin:.3em 0}
+.derivpad details.dp-latex{border:none;margin:0;padding:0;font-size:.8em}
+.derivpad details.dp-latex pre{white-space:pre-wrap;background:var(--jp-layout-color2,#f3f3f3);
+ padding:.4em;margin:.2em 0}
+.derivpad table{border-collapse:collapse;margin:.4em 0;font-size:.92em}
+.derivpad th,.derivpad td{border:1px solid var(--jp-border-color2,#ccc);padding:.15em .5em;
+ text-align:left;vertical-align:top}
+.derivpad td.dp-num{text-align:right;font-variant-numeric:tabular-nums}
+.derivpad .dp-caution{border-top:1px solid var(--jp-border-color1,#bbb);margin-top:.6em;
+ padding-top:.3em;font-size:.9em}
+.derivpad .dp-math{overflow-x:auto;overflow-y:hidden}
+.derivpad figure{margin:.4em 0}
+.derivpad figure svg{max-width:100%;height:auto;background:#fff}
+@media print{.derivpad .dp-tools{display:none}.derivpad details{border-left:none}}
+"""
+
+_EXPAND = ("this.closest('.derivpad').querySelectorAll('details.dp-step')"
+           ".forEach(function(d){d.open=%s})")
+
+
+def _esc(text: str) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def content_id(d: Derivation) -> str:
+    """A short id derived from the derivation's content: the same input, the same id."""
+    key = "\n".join([d.problem.text, repr(d.problem.coefficients), repr(d.problem.forcing),
+                     repr(d.problem.initial_values), repr(d.problem.parameters), repr(d.solution)])
+    return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
+
+
+class HtmlRenderer(Renderer):
+    """Renders a Derivation (or a Step, Verification, Check) as an HTML fragment."""
+
+    _default_settings = {"float_digits": 6, "open": False, "figure": True, "tools": True,
+                         "style": True}
+    _allowed = {"open": (True, False), "figure": (True, False), "tools": (True, False),
+                "style": (True, False)}
+
+    def _math(self, tex: str, display: bool = True) -> str:
+        return _esc(f"$${tex}$$" if display else f"${tex}$")
+
+    def _render_Step(self, step: Step, number: str = "", ids: str = "") -> str:
+        tex = LatexRenderer(float_digits=self.settings["float_digits"]).math(step)
+        rule = f'<span class="dp-rule">{_esc(step.rule.name)}</span>' if step.rule else ""
+        parts = [f'<details class="dp-step" id="{ids}"{" open" if self.settings["open"] else ""}>',
+                 f'<summary><b>{_esc(number)} {_esc(step.title)}</b>{rule}</summary>']
+        if step.rule is not None:
+            parts.append(f'<div class="dp-note">Rule: {self._math(step.rule.statement, False)} '
+                         f'<span class="dp-label">{_esc(step.rule.source)}</span></div>')
+        if step.note:
+            parts.append(f'<div class="dp-note">{_esc(step.note)}</div>')
+        if tex:
+            parts.append(f'<div class="dp-math">{self._math(tex)}</div>')
+            parts.append(f'<details class="dp-latex"><summary>LaTeX</summary><pre>{_esc(tex)}'
+                         "</pre></details>")
+        for i, sub in enumerate(step.substeps, 1):
+            parts.append(self._render_Step(sub, f"{number}{i}.", f"{ids}-{i}"))
+        parts.append("</details>")
+        return "\n".join(parts)
+
+    def _render_Check(self, check: Check) -> str:
+        err = "" if check.error != check.error else f"{check.error:.2e}"
+        return (f"<tr><td>{_esc(check.name)}</td><td>{_esc(check.method)}</td>"
+                f'<td class="dp-num">{err}</td><td class="dp-num">{check.tolerance:.0e}</td>'
+                f"<td>{_esc(check.status)}</td><td>{_esc(check.detail)}</td></tr>")
+
+    def _render_Verification(self, ver: Verification) -> str:
+        rows = "\n".join(self.render(c) for c in ver.checks)
+        return ('<table class="dp-checks"><tr><th>Check</th><th>Method</th><th>Error</th>'
+                f"<th>Tolerance</th><th>Outcome</th><th>Detail</th></tr>\n{rows}</table>")
+
+    def results(self, results) -> str:
+        if not results:
+            return ("<p>No engineering results: give numbers for the symbolic parameters "
+                    "(<code>values=</code>).</p>")
+        rows = "\n".join(
+            f"<tr><td>{_esc(r.label)}</td><td class=\"dp-num\">"
+            f"{_esc(format_value(r.magnitude, self.settings['float_digits']))}</td>"
+            f"<td>{_esc(r.unit)}</td><td>{_esc(r.formula)}</td></tr>" for r in results.values())
+        return ('<table class="dp-results"><tr><th>Result</th><th>Value</th><th>Unit</th>'
+                f"<th>How</th></tr>\n{rows}</table>")
+
+    def badge(self, ver: Verification) -> str:
+        if ver.passed:
+            n = sum(1 for c in ver.checks if c.status == "passed")
+            return f'<span class="dp-badge dp-pass">verified: {n} checks passed</span>'
+        bad = "; ".join(f"{c.name}: {c.status}" + (f" (error {c.error:.2e} > {c.tolerance:.0e})"
+                                                    if c.status == "FAILED" else "")
+                        for c in ver.failed)
+        return f'<span class="dp-badge dp-fail">NOT VERIFIED — {_esc(bad)}</span>'
+
+    def figure(self, d: Derivation) -> str:
+        if not self.settings["figure"] or d.verification.samples is None:
+            return ""
+        try:
+            from .figure import figure_svg
+            svg = figure_svg(d)
+        except ImportError as exc:  # MissingExtraError: say so in place of the figure
+            return f"<p>{_esc(exc)}</p>"
+        return f"<figure>{svg}<figcaption>Verification figure.</figcaption></figure>"
+
+    def _render_Derivation(self, d: Derivation) -> str:
+        did = content_id(d)
+        y = d.unknown
+        out = [f'<div class="derivpad" id="{did}">']
+        if self.settings["style"]:
+            out.append(f"<style>{STYLE}</style>")
+        out.append('<div class="dp-head">')
+        out.append(f'<div class="dp-label">Equation</div>'
+                   f'<div class="dp-math">{self._math(latex_expr(d.problem.equation))}</div>')
+        ics = ", \\quad ".join(f"{latex_expr(line.lhs)} = {latex_expr(line.rhs)}"
+                               for line in d.steps[0].lines[1:1 + d.problem.order])
+        out.append(f'<div class="dp-math">{self._math(ics)}</div>')
+        out.append(f'<div class="dp-label">Solution</div>'
+                   f'<div class="dp-math">{self._math(y + "(t) = " + latex_expr(d.solution))}</div>')
+        out.append(f"<div>{self.badge(d.verification)}</div></div>")
+        if self.settings["tools"]:
+            out.append('<div class="dp-tools">'
+                       f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
+                       f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
+                       "</button></div>")
+        for i, step in enumerate(d.steps, 1):
+            out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
+        out.append('<div class="dp-label">Verification</div>')
+        out.append(self.render(d.verification))
+        out.append('<div class="dp-label">Engineering results</div>')
+        out.append(self.results(d.results))
+        out.append(self.figure(d))
+        if d.assumptions:
+            out.append('<div class="dp-label">Assumptions</div><ul>'
+                       + "".join(f"<li>{_esc(a)}</li>" for a in d.assumptions) + "</ul>")
+        out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
+        out.append("</div>")
+        return "\n".join(part for part in out if part)
+
+
+def to_html(obj, **settings) -> str:
+    """HTML fragment of a Derivation (or a Step, Verification, Check)."""
+    return HtmlRenderer(**settings).render(obj)
