@@ -1,0 +1,67 @@
+"""The explorer, tested through widget state without a browser."""
+
+import pytest
+
+import derivpad
+from derivpad import ParameterError
+
+ipywidgets = pytest.importorskip("ipywidgets")
+
+EQ = "m*x'' + c*x' + k*x = F0*u(t - 0.1)"
+ICS = {"x(0)": 0, "x'(0)": 0}
+PARAMS = {"m": "2 kg", "c": "4 N*s/m", "k": "800 N/m", "F0": "50 N"}
+
+
+@pytest.fixture
+def view():
+    return derivpad.explore(EQ, ICS, PARAMS, controls={"k": (400, 1600), "c": (0, 200)},
+                            units={"x": "mm"})
+
+
+def test_controls_start_at_the_given_values_with_units(view):
+    rows = view.children[:2]
+    slider, entry, unit = rows[0].children
+    assert slider.get_state()["value"] == 800 and slider.get_state()["min"] == 400
+    assert entry.get_state()["value"] == 800
+    assert unit.get_state()["value"] == "N/m"
+    assert view.derivation.verification.passed
+    assert "dp-step" in view._html.get_state()["value"]
+
+
+def test_moving_a_control_rederives_and_redraws(view):
+    before_html = view._html.value
+    peak_before = view.derivation.results["peak"].magnitude
+    view._sliders["k"].value = 1200.0
+    assert view.derivation.problem.coefficients[0] == 1200
+    assert view.derivation.results["peak"].magnitude < peak_before  # stiffer: smaller peak
+    assert view._html.value != before_html
+    assert "k = 1200" in view.get_state()["status"]
+
+
+def test_crossing_the_damping_boundary_is_announced(view):
+    # critical damping c = 2√(km) = 80 N·s/m at k = 800, m = 2 (vibration texts; from memory)
+    view._sliders["c"].value = 120.0
+    assert "regime changed: underdamped → overdamped" in view.status
+
+
+def test_record_prints_exactly_the_values_shown(view):
+    view._sliders["k"].value = 1000.0
+    line = view._on_record()
+    assert line == ("params={'m': '2 kg', 'c': '4.0 N*s/m', 'k': '1000.0 N/m', 'F0': '50 N'}")
+    assert derivpad.derive(EQ, ICS, eval(line[7:]), units={"x": "mm"}).solution == \
+        view.derivation.solution  # test-only eval of our own printed literal
+
+
+def test_entry_and_slider_are_linked(view):
+    entry = view.children[0].children[1]
+    entry.value = 1500.0
+    assert view._sliders["k"].value == 1500.0
+
+
+def test_bad_controls_are_refused():
+    with pytest.raises(ParameterError, match="starting value"):
+        derivpad.explore(EQ, ICS, PARAMS, controls={"k": (1000, 2000)})
+    with pytest.raises(ParameterError, match="no starting value"):
+        derivpad.explore(EQ, ICS, PARAMS, controls={"q": (0, 1)})
+    with pytest.raises(ParameterError, match="controls="):
+        derivpad.explore(EQ, ICS, PARAMS)
