@@ -1,24 +1,23 @@
-"""Every example notebook executes top to bottom in a fresh kernel without an error."""
+"""The example calc notebooks: at least three, each stating its question, inputs, assumptions
+and the cautions. (Their execution against stored outputs is nbval's job: see pyproject.)"""
 
 from pathlib import Path
 
 import nbformat
-import pytest
-from nbclient import NotebookClient
 
 NOTEBOOKS = sorted((Path(__file__).resolve().parents[1] / "example_notebooks").glob("*.ipynb"))
 
 
-@pytest.mark.parametrize("path", NOTEBOOKS, ids=[p.name for p in NOTEBOOKS])
-def test_notebook_executes(path):
-    nb = nbformat.read(path, as_version=4)
-    NotebookClient(nb, timeout=300, kernel_name="python3",
-                   resources={"metadata": {"path": str(path.parent)}}).execute()
-    outputs = [o for cell in nb.cells if cell.cell_type == "code" for o in cell.get("outputs", [])]
-    assert not [o for o in outputs if o.get("output_type") == "error"]
-    text = "".join(o.get("text", "") for o in outputs)
-    assert "all checks passed" in text
+def test_there_are_at_least_three_examples():
+    assert len(NOTEBOOKS) >= 3
 
 
-def test_there_is_at_least_one_example():
-    assert NOTEBOOKS
+def test_each_states_question_inputs_assumptions_and_cautions():
+    for path in NOTEBOOKS:
+        nb = nbformat.read(path, as_version=4)
+        text = "\n".join(c.source for c in nb.cells if c.cell_type == "markdown")
+        for needed in ("**Question.**", "**Inputs**", "**Assumptions.**", "qualified engineer",
+                       "local codes"):
+            assert needed in text, (path.name, needed)
+        outputs = [o for c in nb.cells if c.cell_type == "code" for o in c.get("outputs", [])]
+        assert outputs and not [o for o in outputs if o.output_type == "error"], path.name

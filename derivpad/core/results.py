@@ -139,9 +139,12 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
     marginal = all(z.real <= 1e-12 for z in zs) and not stable
     add("stability", "stability", "stable" if stable else ("marginal" if marginal else "unstable"),
         "", "stable when every pole is in the open left half-plane", _CTRL)
-    decays = sorted({round(-z.real, 12) for z in zs if z.real < 0})
+    decays = []
+    for rate in sorted(-z.real for z in zs if z.real < 0):
+        if not decays or rate > decays[-1] * (1 + 1e-9):  # a conjugate pair has one rate
+            decays.append(rate)
     if decays:
-        add("time_constants", "time constants", tuple(1 / d for d in decays), "s" if units else "",
+        add("time_constants", "time constants", tuple(to_t(1 / d) for d in decays), t_unit,
             "τ = 1/|Re p| for each decaying pole", _CTRL)
 
     # Damping figures: the ODE's own for order 2, the dominant complex pair otherwise.
@@ -210,10 +213,12 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
         decay = min(decays) if decays else 1.0
         t_far = far + 60.0 / decay
         final = float(y(np.array([t_far]))[0])
+        if abs(final) <= 1e-12 * max(abs(peak), 1e-300):
+            final = 0.0  # the response dies away: what is left is rounding
         add("final_value", "final value", to_y(final), y_unit,
             "lim y(t), t → ∞ (the closed form far past the last breakpoint)",
             "closed form of the derivation")
-        if abs(final) > 1e-300:
+        if final != 0.0:
             y0 = float(y(np.array([0.0]))[0])
             over = (peak - final) / final * 100 if np.sign(peak) == np.sign(final) else 0.0
             add("percent_overshoot", "percent overshoot", max(0.0, over), "%" if units else "",

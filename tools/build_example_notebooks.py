@@ -1,0 +1,102 @@
+"""Write the example calculation notebooks and execute them, storing their outputs.
+
+Run:  python tools/build_example_notebooks.py
+
+The test suite re-executes each notebook with nbval and compares against the stored outputs,
+so run this after any change that alters what the notebooks show.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import nbformat as nbf
+from nbclient import NotebookClient
+
+HERE = Path(__file__).resolve().parents[1] / "example_notebooks"
+CAUTION = ("**Caution.** A linear model with constant coefficients. Results are to be reviewed by a "
+           "qualified engineer before use; local codes and licensed professional practice govern.")
+
+md, code = nbf.v4.new_markdown_cell, nbf.v4.new_code_cell
+
+NOTEBOOKS = {
+    "skid_surge_history.ipynb": [
+        md("# Compressor skid on isolators: response to a measured surge-load history\n\n"
+           "**Question.** Does the skid's peak deflection under the surge stay within the "
+           "isolators' allowable travel of 3 mm?\n\n"
+           "**Inputs** (scenario data of our own): a 900 kg skid on four spring isolators of total "
+           "stiffness 3.6 MN/m with 1.8 kN·s/m of damping. The surge force history below was read "
+           "from a piping-load record (time, force).\n\n"
+           "**Assumptions.** Rigid skid, one vertical degree of freedom; isolators linear; skid at "
+           "rest before the surge.\n\n" + CAUTION),
+        code("import derivpad\nfrom derivpad import forcing\n\n"
+             "surge = forcing.table([(0.0, 0), (0.005, 4000), (0.015, 4000), (0.02, 1500), "
+             "(0.03, 0)])\n"
+             "d = derivpad.derive(\"m*x'' + c*x' + k*x = F\", ics={\"x(0)\": 0, \"x'(0)\": 0},\n"
+             "                    params={\"m\": \"900 kg\", \"c\": \"1.8 kN*s/m\", "
+             "\"k\": \"3.6 MN/m\", \"F\": surge},\n"
+             "                    units={\"x\": \"mm\", \"t\": \"s\"})\nd"),
+        md("## Check against the allowable"),
+        code("allowable = 3.0  # mm, isolator travel\npeak = d.results[\"peak\"].magnitude\n"
+             "print(f\"peak deflection {peak:.3f} mm, dynamic load factor "
+             "{d.results['dynamic_load_factor'].magnitude:.3f}\")\n"
+             "print(\"within the allowable\" if abs(peak) <= allowable else \"EXCEEDS the allowable\")\n"
+             "assert d.verification.passed"),
+    ],
+    "relay_coil_current.ipynb": [
+        md("# Relay coil: current during a 60 ms drive pulse\n\n"
+           "**Question.** What peak current does the coil draw during a 60 ms drive pulse, and how "
+           "long after switch-off is the current below 2 % of that peak?\n\n"
+           "**Inputs** (scenario data of our own): coil inductance 0.8 H, resistance 40 Ω, "
+           "drive 24 V applied for 60 ms.\n\n"
+           "**Assumptions.** Lumped RL model; the driver is an ideal voltage source; the "
+           "inductance does not saturate; the coil is unenergised before the pulse.\n\n" + CAUTION),
+        code("%load_ext derivpad"),
+        code("%%derivation d\nL*i' + R*i = V0*(u(t) - u(t - toff))\ni(0) = 0\nL = 0.8 H\n"
+             "R = 40 ohm\nV0 = 24 V\ntoff = 60 ms\nunits: i = mA, t = ms"),
+        code("import numpy as np\ntau = d.results[\"time_constants\"].magnitude[0]\n"
+             "peak = d.results[\"peak\"].magnitude\n"
+             "print(f\"time constant {tau:.1f} ms, peak current {peak:.1f} mA at "
+             "{d.results['time_of_peak'].magnitude:.1f} ms\")\n"
+             "# after switch-off the current decays as exp(-(t - 60 ms)/tau): below 2 % after\n"
+             "print(f\"below 2 % of the peak {tau * np.log(50):.1f} ms after switch-off\")"),
+    ],
+    "enclosure_heater_delay.ipynb": [
+        md("# Heated instrument enclosure: time to reach the working temperature\n\n"
+           "**Question.** The heater switches on 10 minutes after power-up. When does the enclosure "
+           "reach 40 K above ambient, the instruments' working point?\n\n"
+           "**Inputs** (scenario data of our own): thermal capacity 12 kJ/K, resistance to "
+           "ambient 0.5 K/W, heater 150 W.\n\n"
+           "**Assumptions.** One lumped thermal mass; T is the rise above a constant ambient; "
+           "the heater power is constant once on.\n\n" + CAUTION),
+        code("import derivpad\nd = derivpad.derive(\"Cth*T' + T/Rth = P*u(t - td)\", "
+             "ics={\"T(0)\": 0},\n"
+             "                    params={\"Cth\": \"12 kJ/K\", \"Rth\": \"0.5 K/W\", "
+             "\"P\": \"150 W\", \"td\": \"10 min\"},\n"
+             "                    units={\"T\": \"K\", \"t\": \"min\"})\nd"),
+        code("from scipy.optimize import brentq\n"
+             "target = 40.0  # K above ambient\n"
+             "t_hit = brentq(lambda t: float(d([t])[0]) - target, 600.0, 60000.0)  # seconds\n"
+             "print(f\"final rise {d.results['final_value'].magnitude:.1f} K; "
+             "{target:.0f} K reached after {t_hit / 60:.1f} min\")"),
+    ],
+}
+
+
+def main() -> None:
+    for name, cells in NOTEBOOKS.items():
+        nb = nbf.v4.new_notebook()
+        nb.cells = cells
+        nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
+                                     "language": "python"}
+        NotebookClient(nb, timeout=600, kernel_name="python3",
+                       resources={"metadata": {"path": str(HERE)}}).execute()
+        for cell in nb.cells:
+            if cell.cell_type == "code":
+                cell.metadata.pop("execution", None)
+        nbf.write(nb, HERE / name)
+        print("wrote", name)
+
+
+if __name__ == "__main__":
+    main()
