@@ -23,7 +23,7 @@ from .partial_fractions import fraction_steps, partial_fractions
 from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
-from .transform import Laplace, Ysym, derivative_transform, transform_groups
+from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, not_run
 from .results import engineering_results
 from .verify import Verification, self_check
@@ -132,8 +132,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
 
     # 2. Transform the forcing, term by term
     groups, forcing_steps = transform_groups(pieces)
-    F_total = sp.Add(*[sp.Mul(sp.exp(-g.delay * S), _group_transform(g), evaluate=False)
-                       if g.delay != 0 else _group_transform(g) for g in groups])
+    F_total = sp.Add(*[delayed(g.delay, _group_transform(g)) for g in groups])
     lhs_laplace = sp.Add(*[a[k] * Laplace(problem.function.diff(T, k) if k else problem.function)
                            for k in range(n + 1) if a[k] != 0])
     transform_step = Step(
@@ -180,8 +179,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
     labels = _labels(y, group_data)
     for (delay, numerator, poles), label in zip(group_data, labels):
         part = numerator / _denominator(poles)
-        solved_parts.append(part if delay == 0 else
-                            sp.Mul(sp.exp(-delay * S), part, evaluate=False))
+        solved_parts.append(delayed(delay, part))
     transform = sp.Add(*solved_parts) if solved_parts else sp.Integer(0)
     regime_note = _regime_sentence(char_poles, n)
     solve_lines = (
@@ -349,7 +347,7 @@ def _labelled_sum(group_data, labels):
     parts = []
     for (delay, _, _), label in zip(group_data, labels):
         sym = sp.Symbol(label)
-        parts.append(sym if delay == 0 else sp.Mul(sp.exp(-delay * S), sym, evaluate=False))
+        parts.append(delayed(delay, sym))
     return sp.Add(*parts)
 
 

@@ -17,6 +17,7 @@ from .parse import S, T
 from .partial_fractions import FractionTerm
 from .rules import rule
 from .steps import Line, Rule, Step
+from .transform import delayed
 
 __all__ = ["InverseTerm", "invert_term", "inversion_step", "shift"]
 
@@ -82,8 +83,7 @@ def inversion_step(label: str, delay: sp.Expr, inverses: list[InverseTerm]) -> S
     note = "Each term inverts by its table pair."
     if delay != 0:
         shifted = shift(sp.Add(*[inv.time for inv in inverses]), delay)
-        lines.append(Line(InverseLaplace(sp.Mul(sp.exp(-delay * S), sp.Symbol(label),
-                                                evaluate=False)), shifted, "=",
+        lines.append(Line(InverseLaplace(delayed(delay, sp.Symbol(label))), shifted, "=",
                           rule("second_shift").name))
         used = {"second_shift": rule("second_shift"), **used}
         note += (f" The delay factor e^(-{sp.sstr(delay)} s) shifts the result to start at "

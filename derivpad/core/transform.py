@@ -22,7 +22,7 @@ from .steps import Line, Rule, Step
 
 __all__ = ["TableTerm", "TransformedTerm", "ForcingGroup", "table_terms", "transform_piece",
            "derivative_transform", "Laplace", "Ysym", "real_factor", "complex_factor",
-           "transform_term", "transform_groups"]
+           "transform_term", "transform_groups", "delayed"]
 
 
 class Laplace(sp.Function):
@@ -34,6 +34,16 @@ class Laplace(sp.Function):
 def Ysym(unknown: str) -> sp.Expr:
     """The transform of the unknown, Y(s) for y(t), as an applied function for display."""
     return sp.Function(unknown.upper() if unknown.islower() else unknown + "_L")(S)
+
+
+def delayed(delay: sp.Expr, expr: sp.Expr) -> sp.Expr:
+    """e^{-cs}·F(s) kept unevaluated, for display; a negative F puts its sign in front, so a
+    sum prints '- e^{-cs} F' rather than '+ e^{-cs}(-F)'."""
+    if delay == 0:
+        return expr
+    if expr.could_extract_minus_sign():
+        return sp.Mul(-1, sp.Mul(sp.exp(-delay * S), -expr, evaluate=False), evaluate=False)
+    return sp.Mul(sp.exp(-delay * S), expr, evaluate=False)
 
 
 def real_factor(a: sp.Expr) -> sp.Expr:
@@ -211,8 +221,7 @@ def transform_groups(pieces: list[ForcingPiece]) -> tuple[list[ForcingGroup], li
         if shifted:
             g = sp.Mul(shape_t.subs(T, T - piece.delay), sp.Heaviside(T - piece.delay),
                        evaluate=False)
-            lines.insert(0, Line(Laplace(g), sp.Mul(sp.exp(-piece.delay * S),
-                                                   Laplace(shape_t), evaluate=False),
+            lines.insert(0, Line(Laplace(g), delayed(piece.delay, Laplace(shape_t)),
                                  "=", "second shifting theorem"))
             used = (rule("second_shift"),) + used
         if any(tr.term.a != 0 for tr in terms):

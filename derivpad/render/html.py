@@ -41,9 +41,9 @@ STYLE = """
 .derivpad details.dp-latex pre{white-space:pre-wrap;background:var(--jp-layout-color2,#f3f3f3);
  padding:.4em;margin:.2em 0}
 .derivpad table{border-collapse:collapse;margin:.4em 0;font-size:.92em}
-.derivpad th,.derivpad td{border:1px solid var(--jp-border-color2,#ccc);padding:.15em .5em;
- text-align:left;vertical-align:top}
-.derivpad td.dp-num{text-align:right;font-variant-numeric:tabular-nums}
+.derivpad.derivpad th,.derivpad.derivpad td{border:1px solid var(--jp-border-color2,#ccc);
+ padding:.15em .5em;text-align:left;vertical-align:top}
+.derivpad.derivpad td.dp-num{text-align:right;font-variant-numeric:tabular-nums}
 .derivpad .dp-caution{border-top:1px solid var(--jp-border-color1,#bbb);margin-top:.6em;
  padding-top:.3em;font-size:.9em}
 .derivpad .dp-math{overflow-x:auto;overflow-y:hidden}

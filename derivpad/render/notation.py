@@ -130,12 +130,9 @@ class NotationLatexPrinter(LatexPrinter):
         delay, tail = _split_delay(expr)
         if delay is None:
             return super()._print_Mul(expr)
-        sign = ""
-        if tail.could_extract_minus_sign():
-            sign, tail = "- ", -tail
         body = self._print(tail)
-        return r"%se^{%s}\,%s" % (sign, self._print(delay), r"\left(%s\right)" % body
-                                  if isinstance(tail, sp.Add) else body)
+        return r"e^{%s}\,%s" % (self._print(delay), r"\left(%s\right)" % body
+                                if isinstance(tail, sp.Add) else body)
 
 
 class NotationTextPrinter(StrPrinter):
@@ -179,7 +176,7 @@ class NotationTextPrinter(StrPrinter):
         if delay is None:
             return super()._print_Mul(expr)
         sign = ""
-        if tail.could_extract_minus_sign():
+        if tail.could_extract_minus_sign():  # StrPrinter's sums read a leading '-' as the sign
             sign, tail = "-", -tail
         body = self._print(tail)
         return "%sexp(%s)*%s" % (sign, self._print(delay), "(%s)" % body

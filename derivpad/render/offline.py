@@ -17,7 +17,7 @@ __all__ = ["MATHJAX_SHA256", "mathjax_source", "standalone_page"]
 MATHJAX_SHA256 = "a4354ff94fd868aea0cc6eaaa79a57fda0588646fc46ee3700a349ee0a11cbe6"
 
 _CONFIG = """window.MathJax = {tex: {inlineMath: [['$', '$']], displayMath: [['$$', '$$']]},
-  svg: {fontCache: 'global'}, startup: {typeset: true}};"""
+  svg: {fontCache: 'global'}, options: {enableMenu: false}, startup: {typeset: true}};"""
 
 
 @lru_cache(maxsize=1)
