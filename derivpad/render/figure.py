@@ -82,7 +82,7 @@ _METADATA = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": Non
 
 def _write(fig, target, fmt: str) -> None:
     import matplotlib
-    with matplotlib.rc_context({"svg.hashsalt": "derivpad", "svg.fonttype": "path"}):
+    with matplotlib.rc_context({"svg.hashsalt": "derivpad", "svg.fonttype": "none"}):
         fig.savefig(target, format=fmt, metadata=_METADATA[fmt], dpi=150)
 
 
