@@ -18,7 +18,7 @@ from .algebra import (PoleSet, characteristic_polynomial, initial_condition_poly
 from .derivation import Derivation
 from .forcing import TAU, heaviside_pieces
 from .inverse import invert_term, inversion_step, shift
-from .parse import S, T
+from .parse import T
 from .partial_fractions import fraction_steps, partial_fractions
 from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
@@ -178,7 +178,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
                 conditions.extend(c for c in poles.conditions if c not in conditions)
     labels = _labels(y, group_data)
     for (delay, numerator, poles), label in zip(group_data, labels):
-        part = numerator / _denominator(poles)
+        part = numerator / poles.factored
         solved_parts.append(delayed(delay, part))
     transform = sp.Add(*solved_parts) if solved_parts else sp.Integer(0)
     regime_note = _regime_sentence(char_poles, n)
@@ -186,7 +186,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
         Line(Y, sp.Mul(sp.Add(F_total, Q), sp.Pow(P, -1), evaluate=False), "="),
         Line(sp.Symbol("P(s)"), P, "=", "characteristic polynomial"),
         Line(sp.Symbol("P(s)"), char_poles.factored, "=", "factored"),
-    ) + tuple(Line(sp.Symbol(lbl), num / _denominator(poles), "=",
+    ) + tuple(Line(sp.Symbol(lbl), num / poles.factored, "=",
                    "part delayed by " + sp.sstr(delay) if delay != 0 else "undelayed part")
               for (delay, num, poles), lbl in zip(group_data, labels)) + (
         Line(Y, _labelled_sum(group_data, labels), "="),)
@@ -229,7 +229,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
     for start in [sp.Integer(0)] + breaks:
         active = [(d, g) for d, g in delayed_solutions if _not_after(d, start)]
         expr = sp.Add(*[g.subs(TAU, T - d) for d, g in active])
-        intervals.append((start, _tidy_time(expr)))
+        intervals.append((start, expr))
     impulses = tuple((p.delay, p.shape) for p in pieces if p.impulse)
     assemble_lines = (Line(problem.function, solution, "=", "Heaviside form"),) + tuple(
         Line(problem.function, expr, "=", _interval_text(i, intervals))
@@ -261,7 +261,7 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
                "no answer is returned. Please report this equation")
         raise VerificationFailedError(msg, checks_own)
 
-    parts = tuple((delay, numerator / _denominator(poles)) for delay, numerator, poles in group_data)
+    parts = tuple((delay, numerator / poles.factored) for delay, numerator, poles in group_data)
     all_poles = char_poles
     for _, _, poles in group_data:
         all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
@@ -334,10 +334,6 @@ def _group_fraction(g, extra_numerator: sp.Expr):
     return sp.expand(num), list(lcd.items())
 
 
-def _denominator(poles: PoleSet) -> sp.Expr:
-    return poles.factored
-
-
 def _labels(y: str, group_data) -> list[str]:
     base = Ysym(y).func.__name__
     return [f"{base}_{i}(s)" for i in range(len(group_data))]
@@ -374,11 +370,6 @@ def _not_after(d, start) -> bool:
     if d.is_number and start.is_number:
         return bool(d <= start)
     return d == start or (sp.simplify(start - d).is_nonnegative is True)
-
-
-def _tidy_time(expr: sp.Expr) -> sp.Expr:
-    """A piece of the solution as the sum of its shifted parts, each kept in (t - c) form."""
-    return expr
 
 
 def _interval_text(i: int, intervals) -> str:
