@@ -13,7 +13,7 @@ import sympy as sp
 
 from .algebra import Pole
 from .forcing import TAU
-from .parse import S, T
+from .parse import T
 from .partial_fractions import FractionTerm
 from .rules import rule
 from .steps import Line, Rule, Step
