@@ -9,7 +9,7 @@ import derivpad
 def test_all_is_sorted_and_matches_the_namespace():
     assert derivpad.__all__ == sorted(derivpad.__all__)
     public = {name for name in vars(derivpad) if not name.startswith("_")}
-    modules = {"core", "errors", "render", "cli", "demo", "notebook"}
+    modules = {"core", "errors", "render", "cli", "demo", "notebook", "export"}
     assert public - modules == set(derivpad.__all__)
 
 

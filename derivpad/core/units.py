@@ -25,7 +25,8 @@ _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s
 
 # Names for common SI dimensions, so results read "N" rather than "kg·m/s²".
 _NAMED = ["N", "N*m", "Pa", "J", "W", "V", "A", "ohm", "F", "H", "C", "K", "N*s", "N/m",
-          "N*s/m", "kg", "m", "s", "rad/s", "1/s", "m/s", "m/s**2", "kg*m**2", "N*m*s/rad"]
+          "N*s/m", "kg", "m", "s", "rad/s", "1/s", "m/s", "m/s**2", "kg*m**2", "N*m*s/rad",
+          "J/K", "K/W", "W/K", "V/s", "A/s", "Wb", "S", "m**2", "m**3", "m**3/s", "Pa*s"]
 
 
 @lru_cache(maxsize=1)
