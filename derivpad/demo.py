@@ -10,7 +10,8 @@ from __future__ import annotations
 from .core.derivation import Derivation
 from .core.engine import derive
 
-__all__ = ["DEMO_EQUATION", "DEMO_ICS", "DEMO_PARAMS", "DEMO_TIMES", "DEMO_TITLE", "demo"]
+__all__ = ["DEMO_EQUATION", "DEMO_ICS", "DEMO_PARAMS", "DEMO_TIMES", "DEMO_TITLE", "DEMO_UNITS",
+           "demo"]
 
 DEMO_TITLE = "Pump skid on spring isolators: response to a pressure-surge pulse"
 DEMO_EQUATION = "m*x'' + c*x' + k*x = F0*(u(t - t1) - u(t - t2))"
