@@ -63,7 +63,8 @@ def _json_number(v):
         return {"re": v.real, "im": v.imag}
     if isinstance(v, (bool, str)):
         return v
-    return float(v)
+    v = float(v)
+    return v if math.isfinite(v) else None
 
 
 def _quantity(value, unit: str, units):

@@ -10,6 +10,7 @@ given sample values that satisfy the derivation's assumptions.
 
 from __future__ import annotations
 
+import math
 import random
 from dataclasses import dataclass
 
@@ -54,9 +55,14 @@ class Check:
         return "passed" if self.passed else "FAILED"
 
     def to_dict(self) -> dict:
-        return {"name": self.name, "method": self.method, "tolerance": self.tolerance,
-                "error": self.error, "passed": self.passed, "ran": self.ran,
+        """JSON-safe: a check with no measured error (not run, not applicable) has null."""
+        return {"name": self.name, "method": self.method, "tolerance": _finite(self.tolerance),
+                "error": _finite(self.error), "passed": self.passed, "ran": self.ran,
                 "applicable": self.applicable, "status": self.status, "detail": self.detail}
+
+
+def _finite(x):
+    return x if isinstance(x, (int, float)) and math.isfinite(x) else None
 
 
 @dataclass(frozen=True, slots=True, eq=False)

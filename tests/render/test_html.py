@@ -57,3 +57,10 @@ def test_display_never_raises(d, monkeypatch):
     monkeypatch.setattr(mimebundle, "_build", broken)
     bundle = d._repr_mimebundle_()
     assert list(bundle) == ["text/plain"] and "renderer broke" in bundle["text/plain"]
+
+
+def test_vendor_json_is_strict_json_even_with_checks_that_did_not_run():
+    d = derive("y'' + 4*y = u(t)", ics={"y(0)": 0, "y'(0)": 0})  # final-value theorem n/a
+    data = d._repr_mimebundle_(include=[DERIVATION_MIME_TYPE])[DERIVATION_MIME_TYPE]
+    text = json.dumps(data, allow_nan=False)
+    assert '"status": "not applicable"' in text and '"error": null' in text
