@@ -83,6 +83,18 @@ def _unit(text: str, name: str):
 
 def read_quantity(value, name: str) -> Quantity | None:
     """A Quantity for a value with a unit (text or pint); None for a plain number."""
+    if isinstance(value, str):
+        return _read_text_quantity(value, name)
+    return _read_quantity(value, name)
+
+
+@lru_cache(maxsize=512)
+def _read_text_quantity(value: str, name: str) -> Quantity | None:
+    """Text quantities are read once: an explorer re-reads the same strings on every change."""
+    return _read_quantity(value, name)
+
+
+def _read_quantity(value, name: str) -> Quantity | None:
     ureg = registry() if not isinstance(value, (int, float, Fraction)) else None
     if ureg is not None and hasattr(value, "magnitude") and hasattr(value, "units"):
         magnitude, units, given = value.magnitude, value.units, f"{value:~P}"

@@ -48,7 +48,8 @@ def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
     keep = t <= (t_max if t_max is not None else np.inf)
     name = d.unknown
 
-    fig = Figure(figsize=(width, height), layout="constrained")
+    fig = Figure(figsize=(width, height))
+    fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
     ax_y, ax_f, ax_e = fig.subplots(3, 1, sharex=True, height_ratios=[3, 1.3, 1.3])
     ax_y.plot(t[keep], samples.integrated[keep] * ys, color="0.65", lw=3.2,
               label="numerical integration (solve_ivp)")
