@@ -12,7 +12,7 @@ from .core.rules import RULES
 from .core.steps import Line, Rule, Step
 from .core.verify import Check, Verification
 from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
-                     MissingExtraError, NonlinearTermError, ParameterError, ParseError,
+                     ManifestMismatchError, MissingExtraError, NonlinearTermError, ParameterError, ParseError,
                      RenderSettingError, SolveError, UnitError, UnknownNameError,
                      UnsafeInputError, VariableCoefficientError, VerificationFailedError)
 
@@ -20,7 +20,7 @@ __version__ = "0.1.0"
 
 __all__ = sorted([
     "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
-    "InitialConditionError", "Line", "MissingExtraError", "NonlinearTermError",
+    "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "explore",

@@ -1,4 +1,4 @@
-"""The command line: ``derivpad demo`` and ``derivpad solve``.
+"""The command line: ``derivpad demo``, ``derivpad solve`` and ``derivpad audit``.
 
 Errors of the derivpad family print their message and exit with status 2, never a traceback.
 """
@@ -45,7 +45,22 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
                        help="also print the solution's value at time T (repeat)")
     solve.add_argument("--format", choices=FORMATS, default="text")
+
+    audit = sub.add_parser("audit", help="check a calc package against its SHA-256 manifest")
+    audit.add_argument("package", help="the package folder or its .zip")
     return parser
+
+
+def _audit(path: str) -> tuple[str, int]:
+    from .export.manifest import audit_manifest
+    result = audit_manifest(path)
+    rows = result.rows()
+    width = max(len(name) for name, _ in rows)
+    lines = [f"Audit of {path}", "", f"| {'file':<{width}} | finding |",
+             f"|{'-' * (width + 2)}|---------|"]
+    lines += [f"| {name:<{width}} | {finding} |" for name, finding in rows]
+    lines += ["", "manifest: " + ("INTACT" if result.intact else "BROKEN")]
+    return "\n".join(lines), 0 if result.intact else 1
 
 
 _IC = re.compile(r"^(.*\))\s*=\s*(.+)$")
@@ -99,6 +114,10 @@ def main(argv=None) -> int:
     """Entry point of the ``derivpad`` console script."""
     args = _parser().parse_args(argv)
     try:
+        if args.command == "audit":
+            text, code = _audit(args.package)
+            print(text)
+            return code
         if args.command == "demo":
             from .demo import DEMO_TIMES, DEMO_TITLE, demo
             text = _emit(demo(), args.format, DEMO_TIMES, DEMO_TITLE)

@@ -16,6 +16,7 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
     ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
     ├── ExportError (OSError)          a file cannot be written as asked (format, place)
+    │   └── ManifestMismatchError      a package's files do not match its MANIFEST.sha256
     ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
@@ -30,6 +31,7 @@ __all__ = [
     "ExportError",
     "ForcingError",
     "InitialConditionError",
+    "ManifestMismatchError",
     "MissingExtraError",
     "NonlinearTermError",
     "ParameterError",
@@ -136,6 +138,16 @@ class UnitError(DerivpadError, ValueError):
 
 class ExportError(DerivpadError, OSError):
     """An output cannot be produced or written as asked (format, missing samples, place)."""
+
+
+class ManifestMismatchError(ExportError):
+    """A package's files differ from its manifest: names each missing, extra or altered file."""
+
+    def __init__(self, message: str, missing: tuple = (), extra: tuple = (), altered: tuple = ()):
+        self.missing = tuple(missing)
+        self.extra = tuple(extra)
+        self.altered = tuple(altered)
+        super().__init__(message)
 
 
 class MissingExtraError(DerivpadError, ImportError):

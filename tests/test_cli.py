@@ -53,3 +53,18 @@ def test_console_entry_point_runs_as_module():
                            "--ic", "y(0)=0"], capture_output=True, text=True)
     assert proc.returncode == 2
     assert "underscore" in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_audit_reports_a_table_and_exit_code(tmp_path, capsys):
+    from derivpad.export.manifest import write_manifest
+    root = tmp_path / "C-7-rev0"
+    root.mkdir()
+    (root / "results.json").write_text("{}")
+    write_manifest(root)
+    assert main(["audit", str(root)]) == 0
+    assert "INTACT" in capsys.readouterr().out
+    (root / "results.json").write_text("{ }")
+    assert main(["audit", str(root)]) == 1
+    out = capsys.readouterr().out
+    assert "| results.json | ALTERED (checksum differs) |" in out and "BROKEN" in out
+    assert main(["audit", str(tmp_path / "missing")]) == 2
