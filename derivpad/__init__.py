@@ -7,6 +7,7 @@ from . import forcing
 from .core.derivation import Derivation
 from .core.engine import derive
 from .core.problem import Problem
+from .core.record import CalcRecord
 from .core.results import Result
 from .core.rules import RULES
 from .core.steps import Line, Rule, Step
@@ -19,7 +20,7 @@ from .errors import (DerivpadError, EquationError, ExportError, ForcingError, In
 __version__ = "0.1.0"
 
 __all__ = sorted([
-    "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
+    "CalcRecord", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
