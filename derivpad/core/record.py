@@ -52,21 +52,32 @@ def _text(value, what: str, required: bool = False) -> str:
     return value.strip()
 
 
-def _inputs(items) -> tuple[RecordInput, ...]:
+def _triples(items, cls, what: str, shape: str) -> list:
+    """Entries given as ``cls`` objects or as 3-tuples, the tuples checked for their shape."""
     out = []
     for i, item in enumerate(items or ()):
-        if isinstance(item, RecordInput):
+        if isinstance(item, cls):
             out.append(item)
             continue
         try:
-            name, value, source = item
+            first, second, third = item
         except (TypeError, ValueError) as exc:
-            raise ParameterError(f"record input #{i} is {item!r}; give (name, value with unit, "
-                                 "source of the value)", "inputs") from exc
-        value = str(value)
-        read_quantity(value, str(name))  # a unit pint does not know is refused here
-        out.append(RecordInput(_text(name, "input name", True), value,
-                               _text(source, f"source of input {name!r}", True)))
+            raise ParameterError(f"{what} #{i} is {item!r}; give ({shape})", what) from exc
+        out.append((first, second, third))
+    return out
+
+
+def _inputs(items) -> tuple[RecordInput, ...]:
+    out = []
+    for item in _triples(items, RecordInput, "record input",
+                         "name, value with unit, source of the value"):
+        if not isinstance(item, RecordInput):
+            name, value, source = item
+            value = str(value)
+            read_quantity(value, str(name))  # a unit pint does not know is refused here
+            item = RecordInput(_text(name, "input name", True), value,
+                               _text(source, f"source of input {name!r}", True))
+        out.append(item)
     names = [inp.name for inp in out]
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
@@ -75,18 +86,9 @@ def _inputs(items) -> tuple[RecordInput, ...]:
 
 
 def _revisions(items) -> tuple[Revision, ...]:
-    out = []
-    for i, item in enumerate(items or ()):
-        if isinstance(item, Revision):
-            out.append(item)
-            continue
-        try:
-            rev, date, description = item
-        except (TypeError, ValueError) as exc:
-            raise ParameterError(f"revision-history entry #{i} is {item!r}; give (revision, "
-                                 "date, description)", "revision_history") from exc
-        out.append(Revision(str(rev), str(date), str(description)))
-    return tuple(out)
+    return tuple(item if isinstance(item, Revision) else Revision(*(str(v) for v in item))
+                 for item in _triples(items, Revision, "revision-history entry",
+                                      "revision, date, description"))
 
 
 @dataclass(frozen=True, slots=True)

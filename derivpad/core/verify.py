@@ -75,6 +75,11 @@ class Samples:
     forcing: "object"        # f(t)
     breakpoints: tuple[float, ...]
 
+    @property
+    def difference(self):
+        """|closed form - integration| at each sample time."""
+        return abs(self.closed_form - self.integrated)
+
 
 @dataclass(frozen=True, slots=True, eq=False)
 class Verification:

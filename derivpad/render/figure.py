@@ -63,7 +63,7 @@ def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
                       xytext=(2, 8), textcoords="offset points")
         ax_f.axvline(float(c) * ts, color="#8f3f1f", lw=0.8, ls="--")
     ax_f.set_ylabel("f(t)" + (f" [{f_unit}]" if f_unit else ""))
-    err = np.abs(samples.closed_form - samples.integrated) * ys
+    err = samples.difference * ys
     floor = max(float(np.max(np.abs(samples.closed_form))) * ys * 1e-17, 1e-300)
     ax_e.semilogy(t[keep], np.maximum(err[keep], floor), color="0.2", lw=0.8)
     ax_e.set_ylabel("|difference|" + (f" [{y_unit}]" if y_unit else ""))
