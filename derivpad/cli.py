@@ -1,4 +1,4 @@
-"""The command line: ``derivpad demo``, ``derivpad solve`` and ``derivpad audit``.
+"""The command line: ``derivpad demo``, ``solve``, ``package`` and ``audit``.
 
 Errors of the derivpad family print their message and exit with status 2, never a traceback.
 """
@@ -45,6 +45,15 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
                        help="also print the solution's value at time T (repeat)")
     solve.add_argument("--format", choices=FORMATS, default="text")
+
+    package = sub.add_parser("package", help="execute a calc notebook and write its package")
+    package.add_argument("notebook", help="the calculation notebook (.ipynb)")
+    package.add_argument("-o", "--output", default=".", help="folder to write the package in")
+    package.add_argument("--allow-failed", action="store_true",
+                         help="package even if a derivation is not verified (marked NOT VERIFIED)")
+    package.add_argument("--force", action="store_true",
+                         help="replace an existing package of this revision (kept aside)")
+    package.add_argument("--no-pdf", action="store_true", help="skip the PDF")
 
     audit = sub.add_parser("audit", help="check a calc package against its SHA-256 manifest")
     audit.add_argument("package", help="the package folder or its .zip")
@@ -120,6 +129,11 @@ def main(argv=None) -> int:
     """Entry point of the ``derivpad`` console script."""
     args = _parser().parse_args(argv)
     try:
+        if args.command == "package":
+            from .export.package import make_package
+            result = make_package(args.notebook, args.output, allow_failed=args.allow_failed,
+                                  force=args.force, pdf=not args.no_pdf)
+            return 0 if result.verified else 1
         if args.command == "audit":
             text, code = _audit(args.package)
             print(text)

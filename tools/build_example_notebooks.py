@@ -19,6 +19,34 @@ CAUTION = ("**Caution.** A linear model with constant coefficients. Results are 
 
 md, code = nbf.v4.new_markdown_cell, nbf.v4.new_code_cell
 
+
+def record(title, number, purpose, method, inputs):
+    """The notebook's first code cell: its calc record."""
+    return code("import derivpad\nrecord = derivpad.CalcRecord(\n"
+                f"    title={title!r}, calc_number={number!r}, revision='0',\n"
+                "    project='Demonstration calcs (scenario data of our own)',\n"
+                f"    purpose={purpose!r},\n    method={method!r},\n"
+                "    preparer='(preparer)', checker='(checker)',\n"
+                f"    inputs={inputs!r})\nrecord")
+
+
+METHOD = ("Laplace-transform solution by derivpad, each step with its rule; verified by "
+          "back-substitution, numerical integration and numerical inversion.")
+REC_SKID = record("Compressor skid isolators: surge-load response", "DEMO-001",
+                  "Peak isolator deflection under the recorded surge, against 3 mm travel.",
+                  METHOD, [("m", "900 kg", "skid datasheet"),
+                           ("k", "3.6 MN/m", "isolator catalogue"),
+                           ("c", "1.8 kN*s/m", "isolator catalogue"),
+                           ("F", "load table", "piping surge record")])
+REC_RELAY = record("Relay coil: drive-pulse current", "DEMO-002",
+                   "Peak coil current and decay after switch-off.", METHOD,
+                   [("L", "0.8 H", "coil datasheet"), ("R", "40 ohm", "coil datasheet"),
+                    ("V0", "24 V", "driver specification"), ("toff", "60 ms", "drive timing")])
+REC_ENCLOSURE = record("Instrument enclosure: warm-up time", "DEMO-003",
+                       "Time for the enclosure to reach 40 K above ambient.", METHOD,
+                       [("Cth", "12 kJ/K", "thermal test"), ("Rth", "0.5 K/W", "thermal test"),
+                        ("P", "150 W", "heater rating"), ("td", "10 min", "controller setting")])
+
 NOTEBOOKS = {
     "skid_surge_history.ipynb": [
         md("# Compressor skid on isolators: response to a measured surge-load history\n\n"
@@ -29,6 +57,7 @@ NOTEBOOKS = {
            "from a piping-load record (time, force).\n\n"
            "**Assumptions.** Rigid skid, one vertical degree of freedom; isolators linear; skid at "
            "rest before the surge.\n\n" + CAUTION),
+        REC_SKID,
         code("import derivpad\nfrom derivpad import forcing\n\n"
              "surge = forcing.table([(0.0, 0), (0.005, 4000), (0.015, 4000), (0.02, 1500), "
              "(0.03, 0)])\n"
@@ -51,6 +80,7 @@ NOTEBOOKS = {
            "drive 24 V applied for 60 ms.\n\n"
            "**Assumptions.** Lumped RL model; the driver is an ideal voltage source; the "
            "inductance does not saturate; the coil is unenergised before the pulse.\n\n" + CAUTION),
+        REC_RELAY,
         code("%load_ext derivpad"),
         code("%%derivation d\nL*i' + R*i = V0*(u(t) - u(t - toff))\ni(0) = 0\nL = 0.8 H\n"
              "R = 40 ohm\nV0 = 24 V\ntoff = 60 ms\nunits: i = mA, t = ms"),
@@ -69,6 +99,7 @@ NOTEBOOKS = {
            "ambient 0.5 K/W, heater 150 W.\n\n"
            "**Assumptions.** One lumped thermal mass; T is the rise above a constant ambient; "
            "the heater power is constant once on.\n\n" + CAUTION),
+        REC_ENCLOSURE,
         code("import derivpad\nd = derivpad.derive(\"Cth*T' + T/Rth = P*u(t - td)\", "
              "ics={\"T(0)\": 0},\n"
              "                    params={\"Cth\": \"12 kJ/K\", \"Rth\": \"0.5 K/W\", "

@@ -1,0 +1,102 @@
+"""Execute a calculation notebook fresh, and read back what it showed.
+
+The notebook runs in a new kernel (nbclient); stored outputs are never trusted. From the
+executed cells the packager reads the calc record and every derivation through derivpad's
+own MIME types, and the HTML the notebook displayed for each, so the package holds exactly
+what a reader of the notebook saw.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import ExportError, MissingExtraError
+from ..render.mimebundle import DERIVATION_MIME_TYPE
+from ..render.record import RECORD_MIME_TYPE
+
+__all__ = ["ExecutedCalc", "CellFailure", "execute_notebook", "PackageRefusedError"]
+
+
+class PackageRefusedError(ExportError):
+    """The notebook cannot be packaged as it is: a cell failed, or a derivation is not verified."""
+
+    def __init__(self, message: str, failures: tuple = ()):
+        self.failures = tuple(failures)
+        super().__init__(message)
+
+
+@dataclass(frozen=True, slots=True)
+class CellFailure:
+    """Where packaging found a problem: the cell (1-based, code cells counted) and what."""
+
+    cell: int
+    what: str
+
+
+@dataclass(frozen=True, slots=True)
+class ExecutedCalc:
+    """An executed notebook: its node, the record, and each derivation's JSON and HTML."""
+
+    notebook: object
+    record: dict | None
+    derivations: tuple[dict, ...]
+    html: tuple[str, ...]
+    cells: tuple[int, ...]        # the code cell each derivation came from
+    failures: tuple[CellFailure, ...]
+
+
+def _libs():
+    try:
+        import nbformat
+        from nbclient import NotebookClient
+    except ImportError as exc:
+        msg = 'packaging needs nbclient; install it with: pip install "derivpad[notebook]"'
+        raise MissingExtraError(msg, extra="notebook") from exc
+    return nbformat, NotebookClient
+
+
+def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
+    """Run every cell in a fresh kernel; collect record, derivations and failures."""
+    nbformat, NotebookClient = _libs()
+    path = Path(path)
+    if not path.is_file():
+        raise ExportError(f"no notebook at {path}")
+    nb = nbformat.read(path, as_version=4)
+    for cell in nb.cells:
+        if cell.cell_type == "code":
+            cell.outputs, cell.execution_count = [], None
+    code_cells = [c for c in nb.cells if c.cell_type == "code"]
+    client = NotebookClient(nb, timeout=timeout, kernel_name="python3", allow_errors=True,
+                            resources={"metadata": {"path": str(path.parent)}})
+    failures = []
+    with client.setup_kernel():
+        for n, cell in enumerate(code_cells, 1):
+            if progress:
+                progress(f"cell {n} of {len(code_cells)}")
+            client.execute_cell(cell, nb.cells.index(cell))
+            for out in cell.outputs:
+                if out.output_type == "error":
+                    failures.append(CellFailure(n, f"{out.ename}: {out.evalue}"))
+    record, derivations, html, cells = None, [], [], []
+    for n, cell in enumerate(code_cells, 1):
+        for out in cell.outputs:
+            data = out.get("data", {}) if out.output_type in ("display_data", "execute_result") \
+                else {}
+            if RECORD_MIME_TYPE in data and record is None:
+                record = dict(data[RECORD_MIME_TYPE])
+            if DERIVATION_MIME_TYPE in data:
+                d = data[DERIVATION_MIME_TYPE]
+                derivations.append(d)
+                html.append(data.get("text/html", ""))
+                cells.append(n)
+                if not d["verification"]["passed"]:
+                    bad = [c for c in d["verification"]["checks"]
+                           if c["status"] in ("FAILED", "not run")]
+                    what = "; ".join(f"{c['name']}: {c['status']}"
+                                     + (f" (error {c['error']:.3g} > {c['tolerance']:.0g})"
+                                        if c["status"] == "FAILED" else "") for c in bad)
+                    failures.append(CellFailure(n, f"derivation of {d['problem']['equation']!r} "
+                                                   f"not verified: {what}"))
+    return ExecutedCalc(nb, record, tuple(derivations), tuple(html), tuple(cells),
+                        tuple(failures))

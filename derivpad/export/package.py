@@ -1,0 +1,201 @@
+"""Assemble a calc package: executed fresh, written in a temporary folder, then moved into place.
+
+``<calc-number>-rev<R>/`` holds report.html (offline), report.pdf (headless Chromium), the
+executed notebook, inputs.json, results.json, figures/, environment.json and MANIFEST.sha256
+over every other file; ``<calc-number>-rev<R>.zip`` holds the same. Nothing is written where
+the package goes until it is complete: an existing package of the same revision is never
+overwritten (``force`` moves it aside first), and a failure leaves nothing behind.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import importlib.metadata as _md
+import json
+import os
+import platform
+import re
+import shutil
+import sys
+import tempfile
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import ExportError
+from .manifest import MANIFEST_NAME, write_manifest
+from .notebook_io import PackageRefusedError, execute_notebook
+from .report import print_pdf, report_html
+
+__all__ = ["PackageResult", "make_package"]
+
+_ZIP_TIME = (1980, 1, 1, 0, 0, 0)  # fixed: the same files give the same archive
+_PACKAGES = ("derivpad", "sympy", "numpy", "scipy", "mpmath", "pint", "matplotlib",
+             "nbclient", "nbformat", "ipykernel", "ipython", "ipywidgets", "nbconvert")
+
+
+@dataclass(frozen=True, slots=True)
+class PackageResult:
+    """Where the package went, whether it is verified, and anything that was left out."""
+
+    folder: Path
+    archive: Path
+    verified: bool
+    notes: tuple[str, ...]
+
+
+def _json(data) -> str:
+    return json.dumps(data, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _results(derivations) -> list:
+    out = []
+    for i, d in enumerate(derivations, 1):
+        p = d["problem"]
+        out.append({
+            "id": f"derivation-{i}", "equation": p["equation"], "unknown": p["unknown"],
+            "initial_conditions": {k: v["text"] for k, v in p["initial_conditions"].items()},
+            "parameters": {k: v["text"] for k, v in p["parameters"].items()},
+            "parameters_given": (d.get("units") or {}).get("parameters", {}),
+            "solution": {"latex": d["solution"]["latex"], "text": d["solution"]["text"],
+                         "tree": d["solution"]["tree"]},
+            "results": d["results"], "verification": d["verification"],
+            "assumptions": d["assumptions"]})
+    return out
+
+
+def _inputs(record, derivations) -> dict:
+    return {"record": record.get("inputs", []),
+            "derivations": [{"equation": d["problem"]["equation"],
+                             "parameters": {k: v["text"] for k, v in
+                                            d["problem"]["parameters"].items()},
+                             "given": (d.get("units") or {}).get("parameters", {})}
+                            for d in derivations]}
+
+
+def _environment(created: str) -> dict:
+    versions = {}
+    for name in _PACKAGES:
+        try:
+            versions[name] = _md.version(name)
+        except _md.PackageNotFoundError:
+            continue
+    return {"created": created, "python": sys.version.split()[0],
+            "implementation": platform.python_implementation(), "platform": platform.platform(),
+            "machine": platform.machine(), "packages": versions}
+
+
+_SVG = re.compile(r"<svg\b.*?</svg>", re.S)
+
+
+def _figures(fragments) -> dict[str, bytes]:
+    """Each derivation's inline verification figure, as its own SVG file."""
+    out = {}
+    for i, fragment in enumerate(fragments, 1):
+        match = _SVG.search(fragment)
+        if match:
+            out[f"figures/derivation-{i}.svg"] = (
+                '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n'
+                + match.group(0) + "\n").encode("utf-8")
+    return out
+
+
+def _zip(folder: Path, archive: Path) -> None:
+    with zipfile.ZipFile(archive, "w", compression=zipfile.ZIP_DEFLATED) as zf:
+        for path in sorted(folder.rglob("*")):
+            if path.is_file():
+                info = zipfile.ZipInfo(f"{folder.name}/{path.relative_to(folder).as_posix()}",
+                                       _ZIP_TIME)
+                info.compress_type = zipfile.ZIP_DEFLATED
+                zf.writestr(info, path.read_bytes())
+
+
+def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bool = False,
+                 pdf: bool = True, progress=print) -> PackageResult:
+    """Execute ``notebook`` fresh and write its calc package under ``out_dir``.
+
+    Raises
+    ------
+    PackageRefusedError
+        A cell failed, the notebook has no CalcRecord, or a derivation is not verified (unless
+        ``allow_failed``); the report names the cell and the check.
+    ExportError
+        The package of this revision exists already (pass ``force`` to replace it).
+    """
+    say = progress or (lambda *_: None)
+    notebook = Path(notebook)
+    out_dir = Path(out_dir)
+    calc = execute_notebook(notebook, progress=say)
+    errors = [f for f in calc.failures if "not verified" not in f.what]
+    unverified = [f for f in calc.failures if "not verified" in f.what]
+    if errors:
+        raise PackageRefusedError("not packaged: " + "; ".join(
+            f"code cell {f.cell}: {f.what}" for f in errors), errors)
+    if calc.record is None:
+        raise PackageRefusedError("not packaged: the notebook displays no derivpad.CalcRecord; "
+                                  "put one (with calc_number and revision) in its first cell")
+    if not calc.derivations:
+        raise PackageRefusedError("not packaged: the notebook displays no derivation")
+    if unverified and not allow_failed:
+        raise PackageRefusedError("not packaged: " + "; ".join(
+            f"code cell {f.cell}: {f.what}" for f in unverified)
+            + ". Fix the calculation, or pass --allow-failed to package it marked NOT VERIFIED",
+            unverified)
+    name = f"{calc.record['calc_number']}-rev{calc.record['revision']}"
+    final, archive = out_dir / name, out_dir / f"{name}.zip"
+    if (final.exists() or archive.exists()) and not force:
+        raise ExportError(f"{final} already exists; a revision is never overwritten. Raise the "
+                          "revision in the CalcRecord, or pass --force to replace it (the old "
+                          "package is kept aside)")
+    out_dir.mkdir(parents=True, exist_ok=True)
+    created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
+    verified = not unverified
+    notes = []
+    with tempfile.TemporaryDirectory(prefix=f".{name}-", dir=out_dir) as work:
+        stage = Path(work) / name
+        stage.mkdir()
+        files = {"results.json": _json(_results(calc.derivations)).encode(),
+                 "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
+                 "environment.json": _json(_environment(created)).encode(),
+                 notebook.name: _notebook_bytes(calc.notebook),
+                 **_figures(calc.html)}
+        for rel, data in files.items():
+            say(f"writing {rel}")
+            (stage / rel).parent.mkdir(parents=True, exist_ok=True)
+            (stage / rel).write_bytes(data)
+        say("writing report.html")
+        report = stage / "report.html"
+        report.write_text(report_html(calc.record, calc.derivations, calc.html,
+                                      verified=verified, created=created), encoding="utf-8")
+        if pdf:
+            say("printing report.pdf")
+            why = print_pdf(report, stage / "report.pdf")
+            if why:
+                notes.append(why)
+                say(why)
+        say(f"writing {MANIFEST_NAME}")
+        write_manifest(stage)
+        staged_zip = Path(work) / f"{name}.zip"
+        _zip(stage, staged_zip)
+        if force:
+            _set_aside(final, archive)
+        os.replace(stage, final)
+        os.replace(staged_zip, archive)
+    say(f"package written: {final} and {archive}")
+    return PackageResult(final, archive, verified, tuple(notes))
+
+
+def _notebook_bytes(nb) -> bytes:
+    import nbformat
+    return (nbformat.writes(nb) + "\n").encode("utf-8")
+
+
+def _set_aside(final: Path, archive: Path) -> None:
+    """Move an existing package out of the way (never delete it): '<name>.replaced-<n>'."""
+    n = 1
+    while (final.with_name(f"{final.name}.replaced-{n}")).exists():
+        n += 1
+    if final.exists():
+        shutil.move(str(final), str(final.with_name(f"{final.name}.replaced-{n}")))
+    if archive.exists():
+        shutil.move(str(archive), str(archive.with_name(f"{archive.stem}.replaced-{n}.zip")))

@@ -1,0 +1,124 @@
+"""The calc package's report: one self-contained HTML page, and its PDF printed by Chromium.
+
+Layout: a cover block (calc number, revision, title, project, preparer and checker with
+sign-off fields, status), contents, the calc record, each derivation as the notebook showed it
+with every step opened, then the collected assumptions and references, and the cautions.
+A package made with ``--allow-failed`` carries NOT VERIFIED on every printed page.
+"""
+
+from __future__ import annotations
+
+import html
+import subprocess
+import tempfile
+from pathlib import Path
+
+from ..render.latex import CAUTION
+from ..render.offline import standalone_page
+from ..render.record import record_html
+
+__all__ = ["report_html", "print_pdf", "CHROMIUM"]
+
+CHROMIUM = "/usr/bin/chromium"
+
+_STYLE = """
+body{font-family:system-ui,sans-serif;margin:1.5em auto;max-width:60em;color:#1d1d1d}
+.dp-cover{border:3px double #444;padding:.8em 1.2em;margin-bottom:1.2em}
+.dp-cover h1{margin:.1em 0 .4em;font-size:1.5em}
+.dp-cover table{border-collapse:collapse}
+.dp-cover td,.dp-cover th{border:1px solid #999;padding:.25em .6em;text-align:left}
+.dp-sign{min-width:14em}
+.dp-status-ok{color:#2e7d4f;font-weight:700}
+.dp-status-bad{color:#b3261e;font-weight:700}
+.dp-unverified{position:fixed;top:0;left:0;right:0;text-align:center;background:#b3261e;
+ color:#fff;font-weight:700;padding:.2em;z-index:10}
+h2.dp-section{border-bottom:1px solid #888;margin-top:1.4em}
+@media print{.dp-tools,details.dp-latex{display:none} h2.dp-section{break-before:page}
+ .dp-unverified{position:fixed} .derivpad .dp-math{overflow:visible}}
+"""
+
+_OPEN_ALL = ("<script>document.addEventListener('DOMContentLoaded',function(){"
+             "document.querySelectorAll('details.dp-step').forEach(function(d){d.open=true})});</script>")
+
+
+def _e(text) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def report_html(record: dict, derivations, fragments, *, verified: bool, created: str) -> str:
+    """The report page: cover, contents, record, derivations, assumptions, references."""
+    status = ("VERIFIED: every derivation passed all its checks" if verified else
+              "NOT VERIFIED: packaged with failed or unrun checks")
+    cover = (f'<div class="dp-cover"><h1>{_e(record["title"])}</h1><table>'
+             f'<tr><th>Calc number</th><td>{_e(record["calc_number"])}</td>'
+             f'<th>Revision</th><td>{_e(record["revision"])}</td></tr>'
+             f'<tr><th>Project</th><td colspan="3">{_e(record.get("project", ""))}</td></tr>'
+             f'<tr><th>Prepared by</th><td>{_e(record.get("preparer", ""))}</td>'
+             f'<th>Signature / date</th><td class="dp-sign">&nbsp;</td></tr>'
+             f'<tr><th>Checked by</th><td>{_e(record.get("checker", ""))}</td>'
+             f'<th>Signature / date</th><td class="dp-sign">&nbsp;</td></tr>'
+             f'<tr><th>Status</th><td colspan="3" class="{"dp-status-ok" if verified else "dp-status-bad"}">'
+             f"{_e(status)}</td></tr>"
+             f'<tr><th>Packaged</th><td colspan="3">{_e(created)}</td></tr></table></div>')
+    contents = ['<h2 class="dp-section">Contents</h2><ol>',
+                '<li><a href="#record">Calc record</a></li>']
+    contents += [f'<li><a href="#derivation-{i}">Derivation {i}: {_e(d["problem"]["equation"])}'
+                 "</a></li>" for i, d in enumerate(derivations, 1)]
+    contents += ['<li><a href="#assumptions">Assumptions and references</a></li>',
+                 '<li><a href="#cautions">Cautions</a></li></ol>']
+    body = [("" if verified else '<div class="dp-unverified">NOT VERIFIED</div>'), cover,
+            "".join(contents), '<h2 class="dp-section" id="record">Calc record</h2>',
+            record_html(_record_object(record))]
+    for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):
+        body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
+    assumptions = list(record.get("assumptions", []))
+    for d in derivations:
+        assumptions += [a for a in d["assumptions"] if a not in assumptions]
+    references = list(record.get("references", []))
+    for d in derivations:
+        for rule in d["rules"].values():
+            text = f"{rule['name']}: {rule['source']}"
+            if text not in references:
+                references.append(text)
+    body.append('<h2 class="dp-section" id="assumptions">Assumptions and references</h2>'
+                "<h3>Assumptions</h3><ul>" + "".join(f"<li>{_e(a)}</li>" for a in assumptions)
+                + "</ul><h3>References</h3><ul>"
+                + "".join(f"<li>{_e(r)}</li>" for r in references) + "</ul>")
+    body.append(f'<h2 class="dp-section" id="cautions">Cautions</h2><p>{_e(CAUTION)}</p>')
+    page = standalone_page(f"<style>{_STYLE}</style>{_OPEN_ALL}" + "\n".join(body),
+                           f"{record['calc_number']} rev {record['revision']}: {record['title']}")
+    return page
+
+
+def _record_object(record: dict):
+    from ..core.record import CalcRecord
+    fields = dict(record)
+    fields["inputs"] = [(i["name"], i["value"], i["source"]) for i in record.get("inputs", [])]
+    fields["revision_history"] = [(r["revision"], r["date"], r["description"])
+                                  for r in record.get("revision_history", [])]
+    return CalcRecord(**fields)
+
+
+def print_pdf(html_path: Path, pdf_path: Path, chromium: str = CHROMIUM,
+              timeout: int = 120) -> str | None:
+    """Print the report with headless Chromium; None when done, else why it was not printed.
+
+    ``--virtual-time-budget`` lets the page's scripts (opening every section, MathJax
+    typesetting) finish before printing.
+    """
+    if not Path(chromium).exists():
+        return (f"no PDF: Chromium is not installed at {chromium}; install Debian's package "
+                "with: apt-get install -y chromium")
+    with tempfile.TemporaryDirectory() as profile:
+        cmd = [chromium, "--headless", "--no-sandbox", "--disable-gpu",
+               "--disable-background-networking", "--disable-component-update", "--no-first-run",
+               f"--user-data-dir={profile}", "--virtual-time-budget=30000",
+               "--no-pdf-header-footer", f"--print-to-pdf={pdf_path}", html_path.as_uri()]
+        try:
+            subprocess.run(cmd, capture_output=True, timeout=timeout, check=False)
+        except subprocess.TimeoutExpired:
+            return f"no PDF: Chromium did not finish printing within {timeout} s"
+    if not pdf_path.is_file() or pdf_path.stat().st_size == 0:
+        return "no PDF: Chromium ran but wrote no file"
+    return None
+

@@ -1,0 +1,103 @@
+"""Calc packages: made from a fresh run, atomic, never overwriting, audited."""
+
+import json
+import shutil
+from pathlib import Path
+
+import nbformat
+import pytest
+
+from derivpad.errors import ExportError
+from derivpad.export import package as package_module
+from derivpad.export.manifest import audit_manifest
+from derivpad.export.notebook_io import PackageRefusedError
+from derivpad.export.package import make_package
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "example_notebooks"
+quiet = dict(progress=None)
+
+
+@pytest.fixture(scope="module")
+def packaged(tmp_path_factory):
+    out = tmp_path_factory.mktemp("packages")
+    result = make_package(EXAMPLES / "relay_coil_current.ipynb", out, **quiet)
+    return result
+
+
+def test_package_has_every_part_and_an_intact_manifest(packaged):
+    folder = packaged.folder
+    assert folder.name == "DEMO-002-rev0" and packaged.archive.name == "DEMO-002-rev0.zip"
+    for name in ("report.html", "results.json", "inputs.json", "environment.json",
+                 "relay_coil_current.ipynb", "figures/derivation-1.svg", "MANIFEST.sha256"):
+        assert (folder / name).is_file(), name
+    assert audit_manifest(folder).intact and audit_manifest(packaged.archive).intact
+    results = json.loads((folder / "results.json").read_text())
+    assert results[0]["verification"]["passed"] is True
+    assert results[0]["results"]["peak"]["unit"] == "mA"
+    html = (folder / "report.html").read_text()
+    assert "DEMO-002" in html and "qualified engineer" in html and "<script src=" not in html
+
+
+def test_pdf_has_pages_and_the_calc_number(packaged):
+    pdf = packaged.folder / "report.pdf"
+    if not pdf.exists():
+        pytest.skip("Chromium not installed: " + "; ".join(packaged.notes))
+    pypdf = pytest.importorskip("pypdf")
+    reader = pypdf.PdfReader(str(pdf))
+    assert len(reader.pages) >= 3
+    assert "DEMO-002" in reader.pages[0].extract_text()
+
+
+def test_results_are_deterministic(packaged, tmp_path):
+    again = make_package(EXAMPLES / "relay_coil_current.ipynb", tmp_path, pdf=False, **quiet)
+    for name in ("results.json", "figures/derivation-1.svg"):
+        assert (again.folder / name).read_bytes() == (packaged.folder / name).read_bytes()
+
+
+def test_existing_revision_is_not_overwritten_and_force_keeps_it_aside(packaged, tmp_path):
+    shutil.copytree(packaged.folder, tmp_path / packaged.folder.name)
+    shutil.copy(packaged.archive, tmp_path / packaged.archive.name)
+    with pytest.raises(ExportError, match="never overwritten"):
+        make_package(EXAMPLES / "relay_coil_current.ipynb", tmp_path, pdf=False, **quiet)
+    make_package(EXAMPLES / "relay_coil_current.ipynb", tmp_path, pdf=False, force=True, **quiet)
+    assert (tmp_path / "DEMO-002-rev0.replaced-1" / "report.pdf").exists()
+    assert (tmp_path / "DEMO-002-rev0").is_dir()
+
+
+def test_a_failure_midway_leaves_nothing_behind(tmp_path, monkeypatch):
+    def broken(*args, **kwargs):
+        raise RuntimeError("disk full while writing the report")
+
+    monkeypatch.setattr(package_module, "report_html", broken)
+    with pytest.raises(RuntimeError):
+        make_package(EXAMPLES / "relay_coil_current.ipynb", tmp_path, pdf=False, **quiet)
+    assert list(tmp_path.iterdir()) == []
+
+
+def _notebook(tmp_path, body: str) -> Path:
+    nb = nbformat.v4.new_notebook()
+    nb.cells = [nbformat.v4.new_code_cell(
+        "import derivpad\nderivpad.CalcRecord(title='t', calc_number='T-1', revision='0')"),
+        nbformat.v4.new_code_cell(body)]
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
+                                 "language": "python"}
+    path = tmp_path / "calc.ipynb"
+    nbformat.write(nb, path)
+    return path
+
+
+def test_failing_verification_is_refused_naming_cell_and_check(tmp_path):
+    path = _notebook(tmp_path, "derivpad.derive(\"y'' + 4*y = u(t)\", ics={'y(0)': 0, "
+                               "\"y'(0)\": 0}, tolerances={'integration': 1e-30})")
+    with pytest.raises(PackageRefusedError) as err:
+        make_package(path, tmp_path / "out", pdf=False, **quiet)
+    assert "code cell 2" in str(err.value) and "Numerical integration: FAILED" in str(err.value)
+    result = make_package(path, tmp_path / "out", pdf=False, allow_failed=True, **quiet)
+    assert not result.verified
+    assert "NOT VERIFIED" in (result.folder / "report.html").read_text()
+
+
+def test_a_cell_error_is_refused(tmp_path):
+    path = _notebook(tmp_path, "1/0")
+    with pytest.raises(PackageRefusedError, match="code cell 2: ZeroDivisionError"):
+        make_package(path, tmp_path / "out", pdf=False, **quiet)
