@@ -57,19 +57,17 @@ def _parser() -> argparse.ArgumentParser:
 
     audit = sub.add_parser("audit", help="check a calc package against its SHA-256 manifest")
     audit.add_argument("package", help="the package folder or its .zip")
+    audit.add_argument("--rerun", action="store_true",
+                       help="re-execute the notebook and compare its results with the package's")
+    audit.add_argument("--notebook", help="with --rerun: run this notebook instead of the "
+                                          "packaged one (a working copy)")
     return parser
 
 
-def _audit(path: str) -> tuple[str, int]:
-    from .export.manifest import audit_manifest
-    result = audit_manifest(path)
-    rows = result.rows()
-    width = max(len(name) for name, _ in rows)
-    lines = [f"Audit of {path}", "", f"| {'file':<{width}} | finding |",
-             f"|{'-' * (width + 2)}|---------|"]
-    lines += [f"| {name:<{width}} | {finding} |" for name, finding in rows]
-    lines += ["", "manifest: " + ("INTACT" if result.intact else "BROKEN")]
-    return "\n".join(lines), 0 if result.intact else 1
+def _audit(args) -> tuple[str, int]:
+    from .export.audit import audit_package
+    result = audit_package(args.package, rerun=args.rerun, notebook=args.notebook)
+    return f"Audit of {args.package}\n\n" + result.table(), 0 if result.holds else 1
 
 
 _IC = re.compile(r"^(.*\))\s*=\s*(.+)$")
@@ -135,7 +133,7 @@ def main(argv=None) -> int:
                                   force=args.force, pdf=not args.no_pdf)
             return 0 if result.verified else 1
         if args.command == "audit":
-            text, code = _audit(args.package)
+            text, code = _audit(args)
             print(text)
             return code
         if args.command == "demo":

@@ -59,12 +59,13 @@ def test_audit_reports_a_table_and_exit_code(tmp_path, capsys):
     from derivpad.export.manifest import write_manifest
     root = tmp_path / "C-7-rev0"
     root.mkdir()
-    (root / "results.json").write_text("{}")
+    (root / "results.json").write_text("[]")
     write_manifest(root)
-    assert main(["audit", str(root)]) == 0
-    assert "INTACT" in capsys.readouterr().out
-    (root / "results.json").write_text("{ }")
+    assert main(["audit", str(root)]) == 1          # intact, but nothing in it is verified
+    out = capsys.readouterr().out
+    assert "intact: every file present and matching" in out and "| verified" in out
+    (root / "results.json").write_text("[ ]")
     assert main(["audit", str(root)]) == 1
     out = capsys.readouterr().out
-    assert "| results.json | ALTERED (checksum differs) |" in out and "BROKEN" in out
+    assert "results.json | ALTERED (checksum differs)" in out and "DOES NOT HOLD" in out
     assert main(["audit", str(tmp_path / "missing")]) == 2

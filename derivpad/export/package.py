@@ -1,7 +1,7 @@
 """Assemble a calc package: executed fresh, written in a temporary folder, then moved into place.
 
 ``<calc-number>-rev<R>/`` holds report.html (offline), report.pdf (headless Chromium), the
-executed notebook, inputs.json, results.json, figures/, environment.json and MANIFEST.sha256
+executed notebook, record.json, inputs.json, results.json, figures/, environment.json and MANIFEST.sha256
 over every other file; ``<calc-number>-rev<R>.zip`` holds the same. Nothing is written where
 the package goes until it is complete: an existing package of the same revision is never
 overwritten (``force`` moves it aside first), and a failure leaves nothing behind.
@@ -154,7 +154,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
     with tempfile.TemporaryDirectory(prefix=f".{name}-", dir=out_dir) as work:
         stage = Path(work) / name
         stage.mkdir()
-        files = {"results.json": _json(_results(calc.derivations)).encode(),
+        files = {"record.json": _json(calc.record).encode(),
+                 "results.json": _json(_results(calc.derivations)).encode(),
                  "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
                  "environment.json": _json(_environment(created)).encode(),
                  notebook.name: _notebook_bytes(calc.notebook),

@@ -1,0 +1,162 @@
+"""Audit a calc package: manifest first, then the record's status, and optionally a re-run.
+
+The re-run executes the packaged notebook (or a working copy given instead) in a fresh kernel
+and compares each derivation's solution and results with the packaged ones, listing every
+value that moved and by how much, and every difference of environment. The notebook is run
+only after the manifest holds: a notebook whose checksum does not match is never executed.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import tempfile
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from .manifest import MANIFEST_NAME, audit_manifest
+
+__all__ = ["PackageAudit", "audit_package", "RERUN_TOLERANCE"]
+
+RERUN_TOLERANCE = 1e-9
+"""Relative change above which a re-run value counts as moved."""
+
+
+@dataclass(frozen=True, slots=True)
+class PackageAudit:
+    """Everything the audit found, as rows for a review record, and whether all holds."""
+
+    manifest_rows: tuple
+    status_rows: tuple = ()
+    rerun_rows: tuple = ()
+    environment_rows: tuple = ()
+    holds: bool = False
+    notes: tuple = field(default=())
+
+    def table(self) -> str:
+        rows = ([("manifest", f, s) for f, s in self.manifest_rows]
+                + [("record", k, v) for k, v in self.status_rows]
+                + [("re-run", k, v) for k, v in self.rerun_rows]
+                + [("environment", k, v) for k, v in self.environment_rows])
+        w1 = max(len(r[0]) for r in rows)
+        w2 = max(len(str(r[1])) for r in rows)
+        out = [f"| {'part':<{w1}} | {'item':<{w2}} | finding |",
+               f"|{'-' * (w1 + 2)}|{'-' * (w2 + 2)}|---------|"]
+        out += [f"| {a:<{w1}} | {str(b):<{w2}} | {c} |" for a, b, c in rows]
+        out.append("")
+        out.append("audit: " + ("everything holds" if self.holds else "DOES NOT HOLD"))
+        out += list(self.notes)
+        return "\n".join(out)
+
+
+def _unpacked(package: Path, work: Path) -> Path:
+    if package.is_dir():
+        return package
+    with zipfile.ZipFile(package) as zf:
+        zf.extractall(work)
+    tops = [p for p in work.iterdir() if p.is_dir()]
+    return tops[0] if len(tops) == 1 else work
+
+
+def _numbers(value):
+    if isinstance(value, bool) or value is None or isinstance(value, str):
+        return None
+    if isinstance(value, (int, float)):
+        return [float(value)]
+    if isinstance(value, dict) and set(value) == {"re", "im"}:
+        return [float(value["re"]), float(value["im"])]
+    if isinstance(value, list):
+        flat = []
+        for v in value:
+            n = _numbers(v)
+            if n is None:
+                return None
+            flat += n
+        return flat
+    return None
+
+
+def _compare(old: list, new: list, tolerance: float) -> list[tuple[str, str]]:
+    rows = []
+    if len(old) != len(new):
+        return [("derivations", f"{len(old)} packaged, {len(new)} now")]
+    for a, b in zip(old, new):
+        tag = a["id"]
+        if a["solution"]["text"] != b["solution"]["text"]:
+            rows.append((f"{tag} solution", "CHANGED"))
+        for key in sorted(set(a["results"]) | set(b["results"])):
+            ra, rb = a["results"].get(key), b["results"].get(key)
+            if ra is None or rb is None:
+                rows.append((f"{tag} {key}", "only in " + ("the re-run" if ra is None else
+                                                            "the package")))
+                continue
+            na, nb = _numbers(ra["value"]), _numbers(rb["value"])
+            if na is None or nb is None:
+                if ra["value"] != rb["value"]:
+                    rows.append((f"{tag} {key}", f"{ra['value']} → {rb['value']}"))
+                continue
+            for x, y in zip(na, nb):
+                scale = max(abs(x), abs(y), 1e-300)
+                if abs(x - y) > tolerance * scale and not (math.isclose(x, y, abs_tol=1e-300)):
+                    rows.append((f"{tag} {key}", f"moved {x:.6g} → {y:.6g} {ra['unit']} "
+                                                f"({(y - x) / scale:+.2e} relative)"))
+                    break
+        if a["verification"]["passed"] != b["verification"]["passed"]:
+            rows.append((f"{tag} verification", f"{a['verification']['passed']} → "
+                                                f"{b['verification']['passed']}"))
+    return rows
+
+
+def _environment_rows(old: dict, new: dict) -> list[tuple[str, str]]:
+    rows = []
+    for key in ("python", "implementation", "platform", "machine"):
+        if old.get(key) != new.get(key):
+            rows.append((key, f"{old.get(key)} → {new.get(key)}"))
+    a, b = old.get("packages", {}), new.get("packages", {})
+    for name in sorted(set(a) | set(b)):
+        if a.get(name) != b.get(name):
+            rows.append((name, f"{a.get(name, 'absent')} → {b.get(name, 'absent')}"))
+    return rows
+
+
+def audit_package(package, *, rerun: bool = False, notebook=None,
+                  tolerance: float = RERUN_TOLERANCE) -> PackageAudit:
+    """Check the manifest, show the record's status, and (``rerun``) reproduce the results."""
+    from .package import _environment, _results  # the same builders the package used
+    package = Path(package)
+    manifest = audit_manifest(package)
+    rows = tuple(manifest.rows())
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = _unpacked(package, Path(tmp))
+        record = json.loads((folder / "record.json").read_text()) \
+            if (folder / "record.json").is_file() else {}
+        results = json.loads((folder / "results.json").read_text()) \
+            if (folder / "results.json").is_file() else []
+        verified = bool(results) and all(r["verification"]["passed"] for r in results)
+        status = (("calc number", record.get("calc_number", "?")),
+                  ("revision", record.get("revision", "?")),
+                  ("title", record.get("title", "?")),
+                  ("prepared by", record.get("preparer", "") or "—"),
+                  ("checked by", record.get("checker", "") or "—"),
+                  ("verified", "yes" if verified else "NO"))
+        if not rerun:
+            return PackageAudit(rows, status, holds=manifest.intact and verified)
+        if not manifest.intact:
+            return PackageAudit(rows, status, holds=False, notes=(
+                "re-run refused: the package does not match its manifest, so its notebook is "
+                "not executed",))
+        if notebook is None:
+            candidates = [p for p in folder.glob("*.ipynb") if p.name != MANIFEST_NAME]
+            notebook = candidates[0]
+        from .notebook_io import execute_notebook
+        calc = execute_notebook(notebook)
+        new_results = _results(calc.derivations)
+        moved = tuple(_compare(results, new_results, tolerance))
+        env_old = json.loads((folder / "environment.json").read_text())
+        env_rows = tuple(_environment_rows(env_old, _environment(env_old.get("created", ""))))
+        errors = tuple((f"code cell {f.cell}", f.what) for f in calc.failures)
+        rerun_rows = errors + moved or (("results", f"reproduced within {tolerance:g} "
+                                                    "(relative)"),)
+        return PackageAudit(rows, status, rerun_rows, env_rows,
+                            holds=manifest.intact and verified and not moved and not errors)
