@@ -13,7 +13,8 @@ from .core.rules import RULES
 from .core.steps import Line, Rule, Step
 from .core.verify import Check, Verification
 from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
-                     ManifestMismatchError, MissingExtraError, NonlinearTermError, ParameterError, ParseError,
+                     ManifestMismatchError, MissingExtraError, NonlinearTermError,
+                     PackageRefusedError, ParameterError, ParseError,
                      RenderSettingError, SolveError, UnitError, UnknownNameError,
                      UnsafeInputError, VariableCoefficientError, VerificationFailedError)
 
@@ -22,7 +23,7 @@ __version__ = "0.1.0"
 __all__ = sorted([
     "CalcRecord", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
-    "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
+    "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "explore",
     "forcing", "load_ipython_extension",

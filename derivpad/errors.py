@@ -16,6 +16,7 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
     ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
     ├── ExportError (OSError)          a file cannot be written as asked (format, place)
+    │   ├── PackageRefusedError        a notebook that cannot be packaged (cell error, unverified)
     │   └── ManifestMismatchError      a package's files do not match its MANIFEST.sha256
     ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
@@ -35,6 +36,7 @@ __all__ = [
     "MissingExtraError",
     "NonlinearTermError",
     "ParameterError",
+    "PackageRefusedError",
     "ParseError",
     "RenderSettingError",
     "SolveError",
@@ -138,6 +140,14 @@ class UnitError(DerivpadError, ValueError):
 
 class ExportError(DerivpadError, OSError):
     """An output cannot be produced or written as asked (format, missing samples, place)."""
+
+
+class PackageRefusedError(ExportError):
+    """The notebook cannot be packaged as it is: a cell failed, or a derivation is not verified."""
+
+    def __init__(self, message: str, failures: tuple = ()):
+        self.failures = tuple(failures)
+        super().__init__(message)
 
 
 class ManifestMismatchError(ExportError):

@@ -11,19 +11,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import ExportError, MissingExtraError
+from ..errors import ExportError, MissingExtraError, PackageRefusedError
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
 
 __all__ = ["ExecutedCalc", "CellFailure", "execute_notebook", "PackageRefusedError"]
-
-
-class PackageRefusedError(ExportError):
-    """The notebook cannot be packaged as it is: a cell failed, or a derivation is not verified."""
-
-    def __init__(self, message: str, failures: tuple = ()):
-        self.failures = tuple(failures)
-        super().__init__(message)
 
 
 @dataclass(frozen=True, slots=True)
