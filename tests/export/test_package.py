@@ -46,6 +46,9 @@ def test_pdf_has_pages_and_the_calc_number(packaged):
     reader = pypdf.PdfReader(str(pdf))
     assert len(reader.pages) >= 3
     assert "DEMO-002" in reader.pages[0].extract_text()
+    text = "".join(page.extract_text() for page in reader.pages)
+    assert "$$" not in text and "\\begin{aligned}" not in text  # math typeset before printing
+    assert "brings down a power of s" in text  # a step's note: the steps were opened
 
 
 def test_results_are_deterministic(packaged, tmp_path):
