@@ -18,7 +18,7 @@ import sympy as sp
 from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
                       ParseError, UnitError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
-from .units import (UnitContext, _dim_of, check_homogeneity, dimension_text, display_unit_for,
+from .units import (UnitContext, dimension_of, check_homogeneity, dimension_text, display_unit_for,
                     read_quantity, registry)
 
 __all__ = ["Problem", "make_problem", "to_exact", "derivative_name"]
@@ -412,14 +412,14 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
     if declared is None:
         dims[unknown] = one
         if load_free:
-            f_dim = _dim_of(load_free[0].expr, {**dims, **{n: one for n in loads}}, unknown, "")
-            per_y = _dim_of(y_terms[0].expr, dims, unknown, "")
+            f_dim = dimension_of(load_free[0].expr, {**dims, **{n: one for n in loads}}, unknown, "")
+            per_y = dimension_of(y_terms[0].expr, dims, unknown, "")
             declared = f_dim / per_y
         else:
             declared = one
     dims[unknown] = declared
     for name in loads:  # a load history carries the dimension of the equation's terms
-        dims[name] = _dim_of(y_terms[0].expr, dims, unknown, "")
+        dims[name] = dimension_of(y_terms[0].expr, dims, unknown, "")
     forcing_dim = check_homogeneity(terms, dims, unknown, text)
     for k, q in ic_quantities.items():
         want = declared / dims["t"] ** k

@@ -19,6 +19,7 @@ import sympy as sp
 from ..errors import UnitError
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
+           "dimension_of",
            "dimension_text", "unit_text", "display_unit_for", "display_factor", "to_display"]
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
@@ -175,7 +176,7 @@ def to_display(si_value: float, si_unit: str, display: str) -> float:
 # --- homogeneity --------------------------------------------------------------------------
 
 
-def _dim_of(expr, dims: dict, unknown: str, where: str):
+def dimension_of(expr, dims: dict, unknown: str, where: str):
     """Dimension (pint UnitsContainer) of an expression, or raise UnitError."""
     ureg = registry()
     one = ureg.Quantity(1, "").dimensionality
@@ -191,7 +192,7 @@ def _dim_of(expr, dims: dict, unknown: str, where: str):
         # A bare number in a sum takes the sum's dimension: numbers written in the equation
         # are in the SI unit of their place (u(t - 0.1) means 0.1 s).
         args = [a for a in expr.args if not a.is_number] or list(expr.args)
-        parts = [_dim_of(a, dims, unknown, where) for a in args]
+        parts = [dimension_of(a, dims, unknown, where) for a in args]
         for a, d in zip(args[1:], parts[1:]):
             if d != parts[0]:
                 msg = (f"{where}: {sp.sstr(args[0])} is {dimension_text(parts[0])} but "
@@ -202,23 +203,23 @@ def _dim_of(expr, dims: dict, unknown: str, where: str):
     if isinstance(expr, sp.Mul):
         out = one
         for a in expr.args:
-            out = out * _dim_of(a, dims, unknown, where)
+            out = out * dimension_of(a, dims, unknown, where)
         return out
     if isinstance(expr, sp.Pow):
-        base = _dim_of(expr.base, dims, unknown, where)
-        if _dim_of(expr.exp, dims, unknown, where) != one or not expr.exp.is_number:
+        base = dimension_of(expr.base, dims, unknown, where)
+        if dimension_of(expr.exp, dims, unknown, where) != one or not expr.exp.is_number:
             if base == one:
                 return one
             msg = f"{where}: the exponent of {sp.sstr(expr)} must be a plain number"
             raise UnitError(msg, terms=(sp.sstr(expr),))
         return base ** float(expr.exp) if not expr.exp.is_Integer else base ** int(expr.exp)
     if isinstance(expr, sp.Heaviside):
-        _dim_of(expr.args[0], dims, unknown, where)
+        dimension_of(expr.args[0], dims, unknown, where)
         return one
     if isinstance(expr, sp.DiracDelta):
-        return one / _dim_of(expr.args[0], dims, unknown, where)
+        return one / dimension_of(expr.args[0], dims, unknown, where)
     if isinstance(expr, (sp.exp, sp.sin, sp.cos, sp.sinh, sp.cosh)):
-        d = _dim_of(expr.args[0], dims, unknown, where)
+        d = dimension_of(expr.args[0], dims, unknown, where)
         if d != one:
             msg = (f"{where}: the argument of {type(expr).__name__}({sp.sstr(expr.args[0])}) is "
                    f"{dimension_text(d)}; it must be dimensionless (e.g. ω·t with ω in rad/s)")
@@ -232,7 +233,7 @@ def check_homogeneity(terms, dims: dict, unknown: str, text: str):
     found = []
     for term in (tm for tm in terms if tm.expr != 0):  # 0 has every dimension
         fragment = text[term.start:term.end] if text and term.end > term.start else sp.sstr(term.expr)
-        found.append((fragment, _dim_of(term.expr, dims, unknown, f"in the term {fragment!r}")))
+        found.append((fragment, dimension_of(term.expr, dims, unknown, f"in the term {fragment!r}")))
     first = found[0]
     bad = [(frag, d) for frag, d in found if d != first[1]]
     if bad:
