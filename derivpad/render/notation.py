@@ -62,11 +62,12 @@ def _ordered(printer_cls, self, expr, order=None):
         return [terms[i] for _, i in sorted(keyed)]
     if any(isinstance(t, sp.Derivative) or t.atoms(sp.Derivative) for t in terms) and \
             all(_derivative_order(t) >= 0 for t in terms if t.atoms(sp.core.function.AppliedUndef)):
-        with_y = [t for t in terms if _derivative_order(t) >= 0]
+        with_y = sorted((t for t in terms if _derivative_order(t) >= 0),
+                        key=lambda t: -_derivative_order(t))
         rest = [t for t in terms if _derivative_order(t) < 0]
-        return sorted(with_y, key=lambda t: -_derivative_order(t)) + \
-            printer_cls._as_ordered_terms(self, sp.Add(*rest), order) if rest else \
-            sorted(with_y, key=lambda t: -_derivative_order(t))
+        if not rest:
+            return with_y
+        return with_y + list(printer_cls._as_ordered_terms(self, sp.Add(*rest), order))
     return printer_cls._as_ordered_terms(self, expr, order)
 
 
