@@ -168,6 +168,16 @@ class MissingExtraError(DerivpadError, ImportError):
         super().__init__(message)
 
 
+def import_extra(names, what: str, extra: str = "notebook") -> tuple:
+    """Import optional modules, or raise MissingExtraError naming the pip command for ``what``."""
+    import importlib
+    try:
+        return tuple(importlib.import_module(name) for name in names)
+    except ImportError as exc:
+        msg = f'{what} needs {exc.name or names[0]}; install it with: pip install "derivpad[{extra}]"'
+        raise MissingExtraError(msg, extra=extra) from exc
+
+
 class RenderSettingError(DerivpadError, ValueError):
     """A renderer was given a setting it does not have, or a value it does not allow."""
 

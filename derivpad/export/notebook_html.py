@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..errors import ExportError, MissingExtraError
+from ..errors import ExportError, import_extra
 from ..render.offline import mathjax_source
 
 __all__ = ["export_html", "TEMPLATE_DIR"]
@@ -19,12 +19,8 @@ TEMPLATE_DIR = Path(__file__).resolve().parent / "templates"
 
 def export_html(notebook, out_path) -> Path:
     """Write ``notebook`` (a path or an nbformat node) as offline HTML at ``out_path``."""
-    try:
-        import nbformat
-        from nbconvert import HTMLExporter
-    except ImportError as exc:
-        msg = 'exporting needs nbconvert; install it with: pip install "derivpad[notebook]"'
-        raise MissingExtraError(msg, extra="notebook") from exc
+    nbformat, nbconvert = import_extra(("nbformat", "nbconvert"), "exporting")
+    HTMLExporter = nbconvert.HTMLExporter
     if isinstance(notebook, (str, Path)):
         path = Path(notebook)
         if not path.is_file():

@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..errors import ExportError, MissingExtraError, PackageRefusedError
+from ..errors import ExportError, PackageRefusedError, import_extra
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
 
@@ -39,13 +39,8 @@ class ExecutedCalc:
 
 
 def _libs():
-    try:
-        import nbformat
-        from nbclient import NotebookClient
-    except ImportError as exc:
-        msg = 'packaging needs nbclient; install it with: pip install "derivpad[notebook]"'
-        raise MissingExtraError(msg, extra="notebook") from exc
-    return nbformat, NotebookClient
+    nbformat, nbclient = import_extra(("nbformat", "nbclient"), "packaging")
+    return nbformat, nbclient.NotebookClient
 
 
 def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:

@@ -25,7 +25,7 @@ from __future__ import annotations
 import re
 
 from ..core.engine import derive
-from ..errors import DerivpadError, MissingExtraError, ParseError
+from ..errors import DerivpadError, ParseError, import_extra
 
 __all__ = ["load_ipython_extension", "parse_cell", "derivation_magic", "show"]
 
@@ -71,12 +71,8 @@ def parse_cell(cell: str) -> dict:
 
 
 def _ipython():
-    try:
-        from IPython.display import display
-    except ImportError as exc:
-        msg = 'the notebook side needs IPython; install it with: pip install "derivpad[notebook]"'
-        raise MissingExtraError(msg, extra="notebook") from exc
-    return display
+    (ipython_display,) = import_extra(("IPython.display",), "the notebook side")
+    return ipython_display.display
 
 
 def show(derivation) -> None:

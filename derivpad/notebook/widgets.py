@@ -15,7 +15,7 @@ import re
 
 from ..core.derivation import Derivation
 from ..core.engine import derive
-from ..errors import DerivpadError, MissingExtraError, ParameterError
+from ..errors import DerivpadError, ParameterError, import_extra
 
 __all__ = ["explore", "DerivationView"]
 
@@ -23,13 +23,7 @@ _QUANTITY = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)
 
 
 def _widgets():
-    try:
-        import ipywidgets
-        import traitlets
-    except ImportError as exc:
-        msg = 'the explorer needs ipywidgets; install it with: pip install "derivpad[notebook]"'
-        raise MissingExtraError(msg, extra="notebook") from exc
-    return ipywidgets, traitlets
+    return import_extra(("ipywidgets", "traitlets"), "the explorer")
 
 
 def _split(value, name: str) -> tuple[float, str]:

@@ -12,21 +12,17 @@ from pathlib import Path
 import numpy as np
 
 from ..core.units import display_factor
-from ..errors import ExportError, MissingExtraError
+from ..errors import ExportError, import_extra
 
 __all__ = ["verification_figure", "save_figure", "figure_svg", "FIGURE_FORMATS"]
 
 FIGURE_FORMATS = ("svg", "png", "pdf")
-_INSTALL = 'pip install "derivpad[notebook]"'
 
 
 def _figure_class():
-    try:
-        from matplotlib.figure import Figure  # the Figure class needs no GUI backend
-    except ImportError as exc:
-        msg = f"the verification figure needs matplotlib; install it with: {_INSTALL}"
-        raise MissingExtraError(msg, extra="notebook") from exc
-    return Figure
+    # the Figure class needs no GUI backend
+    (figure_module,) = import_extra(("matplotlib.figure",), "the verification figure")
+    return figure_module.Figure
 
 
 def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
