@@ -24,6 +24,7 @@ from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
+from .evaluate import numpy_function
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, not_run
 from .results import engineering_results
 from .verify import Verification, self_check
@@ -275,18 +276,25 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
                           verification=Verification(checks_own + skipped), notes=tuple(notes),
                           results=MappingProxyType({}), transform_parts=parts,
                           values=tuple(value_map.items()))
+    numeric = all(name in value_map for name in problem.symbols)
+    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
+    closed = numpy_function(solution.subs(subs)) if numeric else None  # compiled once, shared
     extra, samples = independent_checks(
         problem, solution, parts, all_poles.poles, breaks, impulses, value_map,
         {k: v for k, v in tolerances.items() if k != "back_substitution"},
-        lambda poles, bps: time_window(poles, bps, window))
+        lambda poles, bps: time_window(poles, bps, window), closed_form=closed)
     verification = Verification(checks_own + extra, samples)
-    results = _results(problem, solution, char_poles, breaks, impulses, value_map, samples)
-    return Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
-                      intervals=tuple(intervals), impulses=impulses,
-                      poles=char_poles.poles, assumptions=tuple(assumptions),
-                      conditions=tuple(conditions), verification=verification,
-                      notes=tuple(notes), results=results, transform_parts=parts,
-                      values=tuple(value_map.items()))
+    results = _results(problem, solution, char_poles, breaks, impulses, value_map, samples,
+                       closed)
+    derivation = Derivation(problem=problem, steps=steps, transform=transform,
+                            solution=solution, intervals=tuple(intervals), impulses=impulses,
+                            poles=char_poles.poles, assumptions=tuple(assumptions),
+                            conditions=tuple(conditions), verification=verification,
+                            notes=tuple(notes), results=results, transform_parts=parts,
+                            values=tuple(value_map.items()))
+    if closed is not None and not problem.symbols:
+        derivation._cache["numpy"] = closed  # d(times) uses the same compiled solution
+    return derivation
 
 
 def _values(problem: Problem, values) -> dict:
@@ -302,7 +310,7 @@ def _values(problem: Problem, values) -> dict:
     return out
 
 
-def _results(problem, solution, char_poles, breaks, impulses, value_map, samples):
+def _results(problem, solution, char_poles, breaks, impulses, value_map, samples, closed):
     if samples is None:
         return MappingProxyType({})
     subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
@@ -312,7 +320,7 @@ def _results(problem, solution, char_poles, breaks, impulses, value_map, samples
         [c.subs(subs) for c in problem.coefficients], solution.subs(subs),
         problem.forcing.subs(subs), poles, [float(b.subs(subs)) for b in breaks],
         [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
-         for c, a in impulses], float(samples.times[-1]), problem.units)
+         for c, a in impulses], float(samples.times[-1]), problem.units, closed_form=closed)
 
 
 def _group_transform(g) -> sp.Expr:

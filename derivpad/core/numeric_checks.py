@@ -227,8 +227,12 @@ def limit_checks(parts, poles, initial_value: float, late_value, peak: float,
 
 
 def independent_checks(problem, solution, parts, poles, breakpoints, impulses, values,
-                       tolerances, t_end) -> tuple[tuple[Check, ...], Samples | None]:
+                       tolerances, t_end, closed_form=None) -> tuple[tuple[Check, ...],
+                                                                     Samples | None]:
     """The four independent checks, with numbers for any symbolic parameters from ``values``.
+
+    ``closed_form`` is the solution already compiled for NumPy (with those numbers), when the
+    caller has it; otherwise it is compiled here.
 
     Returns the checks and the samples for the figure (None when the checks could not run).
     """
@@ -247,7 +251,7 @@ def independent_checks(problem, solution, parts, poles, breakpoints, impulses, v
     bps = [float(b.subs(subs)) for b in breakpoints]
     kicks = [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
              for c, a in impulses]
-    closed = numpy_function(solution.subs(subs))
+    closed = closed_form or numpy_function(solution.subs(subs))
     num_parts = [((sp.Integer(0) + c).subs(subs), r.subs(subs)) for c, r in parts]
     num_poles = [type(p)(p.kind, p.value.subs(subs), p.beta.subs(subs), p.multiplicity,
                          p.numeric) for p in poles]

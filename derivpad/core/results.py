@@ -106,8 +106,9 @@ def _zeros(f, times) -> list[float]:
 
 
 def engineering_results(coefficients, solution, forcing, poles, breakpoints, impulses,
-                        t_end: float, units=None):
-    """The results mapping (read-only) for a numeric derivation."""
+                        t_end: float, units=None, closed_form=None):
+    """The results mapping (read-only) for a numeric derivation (``closed_form``: the solution
+    already compiled for NumPy, when the caller has it)."""
     res: dict[str, Result] = {}
     y_unit = units.unknown_display if units else ""
     y_si = units.unknown_si if units else ""
@@ -173,7 +174,7 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
                   "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
         add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
 
-    y = numpy_function(solution)
+    y = closed_form or numpy_function(solution)
     dy = numpy_function(sp.diff(solution, T))
     times = np.linspace(0.0, t_end, 20001)
     candidates = [0.0, t_end] + [float(b) for b in breakpoints if 0 < b < t_end]

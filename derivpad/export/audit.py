@@ -123,7 +123,7 @@ def _environment_rows(old: dict, new: dict) -> list[tuple[str, str]]:
 def audit_package(package, *, rerun: bool = False, notebook=None,
                   tolerance: float = RERUN_TOLERANCE) -> PackageAudit:
     """Check the manifest, show the record's status, and (``rerun``) reproduce the results."""
-    from .package import _environment, _results  # the same builders the package used
+    from .package import environment_info, results_records  # the same builders the package used
     package = Path(package)
     manifest = audit_manifest(package)
     rows = tuple(manifest.rows())
@@ -151,10 +151,10 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
             notebook = candidates[0]
         from .notebook_io import execute_notebook
         calc = execute_notebook(notebook)
-        new_results = _results(calc.derivations)
+        new_results = results_records(calc.derivations)
         moved = tuple(_compare(results, new_results, tolerance))
         env_old = json.loads((folder / "environment.json").read_text())
-        env_rows = tuple(_environment_rows(env_old, _environment(env_old.get("created", ""))))
+        env_rows = tuple(_environment_rows(env_old, environment_info(env_old.get("created", ""))))
         errors = tuple((f"code cell {f.cell}", f.what) for f in calc.failures)
         rerun_rows = errors + moved or (("results", f"reproduced within {tolerance:g} "
                                                     "(relative)"),)

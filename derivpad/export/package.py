@@ -48,7 +48,8 @@ def _json(data) -> str:
     return json.dumps(data, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def _results(derivations) -> list:
+def results_records(derivations) -> list:
+    """Each derivation's entry of results.json (also what an audit re-run is compared on)."""
     out = []
     for i, d in enumerate(derivations, 1):
         p = d["problem"]
@@ -73,7 +74,8 @@ def _inputs(record, derivations) -> dict:
                             for d in derivations]}
 
 
-def _environment(created: str) -> dict:
+def environment_info(created: str) -> dict:
+    """Python, platform and package versions, for environment.json."""
     versions = {}
     for name in _PACKAGES:
         try:
@@ -155,9 +157,9 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         stage = Path(work) / name
         stage.mkdir()
         files = {"record.json": _json(calc.record).encode(),
-                 "results.json": _json(_results(calc.derivations)).encode(),
+                 "results.json": _json(results_records(calc.derivations)).encode(),
                  "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
-                 "environment.json": _json(_environment(created)).encode(),
+                 "environment.json": _json(environment_info(created)).encode(),
                  notebook.name: _notebook_bytes(calc.notebook),
                  **_figures(calc.html)}
         for rel, data in files.items():
