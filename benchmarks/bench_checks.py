@@ -23,7 +23,7 @@ from scipy.integrate import solve_ivp  # noqa: E402
 from timing import median_time  # noqa: E402
 from derivpad.core import numeric_checks as nc  # noqa: E402
 from derivpad.core.engine import derive  # noqa: E402
-from derivpad.core.evaluate import numpy_function  # noqa: E402
+from derivpad.core.engine import compile_model, solve_stages  # noqa: E402
 from derivpad.core.forcing import TAU  # noqa: E402
 from derivpad.core.parse import T  # noqa: E402
 from derivpad.core.verify import self_check  # noqa: E402
@@ -50,19 +50,19 @@ def main(argv=None):
     p = d.problem
     bps = [float(b) for b in d.breakpoints]
     end = time_window(d.poles, bps)
-    closed = numpy_function(d.solution)
+    model = compile_model(p, solve_stages(p)).at({})
+    closed = model.closed_form
     peak = float(np.max(np.abs(closed(np.linspace(0, end, 2000)))))
-    parts = list(d.transform_parts)
     tau_parts = _parts_in_tau(d)
     timings = {
         "back-substitution, ICs, jumps": lambda: self_check(
             p, tau_parts, d.breakpoints, dict(d.impulses), d.conditions),
-        "numerical integration": lambda: nc.integration_check(
-            p.coefficients, p.initial_values, p.forcing, bps, [], closed, end, 1e-7),
+        "numerical integration": lambda: nc.integration_check(model, end, 1e-7),
         "numerical inversion": lambda: nc.inversion_check(
-            parts, closed, nc.inversion_horizon(d.poles, end, bps), bps, peak, 1e-7),
+            model.parts, closed, nc.inversion_horizon(model.response_poles, end, bps), bps,
+            peak, 1e-7),
         "limit theorems": lambda: nc.limit_checks(
-            parts, d.poles, 0.0, lambda: closed(np.array([60.0]))[0], peak, 1e-9),
+            model, 0.0, lambda: closed(np.array([60.0]))[0], peak, 1e-9),
     }
     split = {name: median_time(fn, args.repeat) for name, fn in timings.items()}
     total = sum(split.values())

@@ -8,11 +8,12 @@ laplace_transform, inverse_laplace_transform and dsolve never run here.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from types import MappingProxyType
 
 import sympy as sp
 
-from ..errors import VerificationFailedError
+from ..errors import ParameterError, VerificationFailedError
 from .algebra import (PoleSet, characteristic_polynomial, initial_condition_polynomial,
                       merge_poles, poles_of, solve_system)
 from .derivation import Derivation
@@ -24,13 +25,14 @@ from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
-from .evaluate import numpy_function
-from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, not_run
+from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
+from .numeric_model import ParametricModel
 from .results import engineering_results
 from .verify import Verification, self_check
-from .window import time_window
+from .window import window_end
 
-__all__ = ["derive", "derive_problem"]
+__all__ = ["Stages", "check_options", "compile_model", "complete", "derive", "derive_problem",
+           "engine_check", "parameter_values", "solve_stages"]
 
 
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
@@ -92,6 +94,34 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
 def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=None,
                    values=None, window: float | None = None, checks: str = "all") -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
+    tolerances = check_options(checks, tolerances)
+    stages = solve_stages(problem, regime)
+    checks_own = engine_check(problem, stages, tolerances.get("back_substitution"))
+    return complete(problem, stages, checks_own, parameter_values(problem, values),
+                    tolerances=tolerances, window=window, checks=checks)
+
+
+@dataclass(frozen=True)
+class Stages:
+    """What the symbolic stages produce, before any check: steps, Y(s), y(t) and its parts."""
+
+    steps: tuple
+    transform: sp.Expr
+    solution: sp.Expr
+    intervals: tuple
+    impulses: tuple
+    system_poles: tuple
+    response_poles: tuple
+    assumptions: tuple
+    conditions: tuple
+    notes: tuple
+    parts: tuple
+    breakpoints: tuple
+    delayed_solutions: tuple
+
+
+def solve_stages(problem: Problem, regime: str = "underdamped") -> Stages:
+    """Stages 1-7: problem, transform, derivatives, Y(s), partial fractions, inversion, y(t)."""
     y = problem.unknown
     Y = Ysym(y)
     n = problem.order
@@ -242,18 +272,21 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
 
     steps = (problem_step, transform_step, derivative_step, solve_step, decompose, invert,
              assemble)
-    if checks not in ("all", "engine"):
-        from ..errors import ParameterError
-        raise ParameterError(f"checks must be 'all' or 'engine', not {checks!r}", "checks")
-    tolerances = dict(tolerances or {})
-    unknown_keys = set(tolerances) - {"back_substitution", "integration", "inversion", "limits"}
-    if unknown_keys:
-        from ..errors import ParameterError
-        msg = (f"unknown tolerance {sorted(unknown_keys)[0]!r}; the keys are back_substitution, "
-               "integration, inversion, limits")
-        raise ParameterError(msg, sorted(unknown_keys)[0])
-    checks_own = self_check(problem, delayed_solutions, breaks, dict(impulses), conditions,
-                            tolerances.get("back_substitution"))
+    parts = tuple((delay, numerator / poles.factored) for delay, numerator, poles in group_data)
+    all_poles = char_poles
+    for _, _, poles in group_data:
+        all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
+    return Stages(steps=steps, transform=transform, solution=solution,
+                  intervals=tuple(intervals), impulses=impulses, system_poles=char_poles.poles,
+                  response_poles=all_poles.poles, assumptions=tuple(assumptions),
+                  conditions=tuple(conditions), notes=tuple(notes), parts=parts,
+                  breakpoints=tuple(breaks), delayed_solutions=tuple(delayed_solutions))
+
+
+def engine_check(problem: Problem, stages: Stages, tolerance=None) -> tuple:
+    """The engine's own back-substitution, ICs and jumps; raises when it rejects the answer."""
+    checks_own = self_check(problem, list(stages.delayed_solutions), list(stages.breakpoints),
+                            dict(stages.impulses), list(stages.conditions), tolerance)
     own = Verification(checks_own)
     if not own.passed:
         worst = "; ".join(f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}"
@@ -261,66 +294,74 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
         msg = (f"the engine's own check rejected the solution of {problem.text!r} ({worst}); "
                "no answer is returned. Please report this equation")
         raise VerificationFailedError(msg, checks_own)
+    return checks_own
 
-    parts = tuple((delay, numerator / poles.factored) for delay, numerator, poles in group_data)
-    all_poles = char_poles
-    for _, _, poles in group_data:
-        all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
-    value_map = _values(problem, values)
+
+def check_options(checks: str, tolerances) -> dict:
+    """The checks= and tolerances= options, validated."""
+    if checks not in ("all", "engine"):
+        raise ParameterError(f"checks must be 'all' or 'engine', not {checks!r}", "checks")
+    tolerances = dict(tolerances or {})
+    unknown_keys = set(tolerances) - {"back_substitution", "integration", "inversion", "limits"}
+    if unknown_keys:
+        msg = (f"unknown tolerance {sorted(unknown_keys)[0]!r}; the keys are back_substitution, "
+               "integration, inversion, limits")
+        raise ParameterError(msg, sorted(unknown_keys)[0])
+    return tolerances
+
+
+def compile_model(problem: Problem, stages: Stages, symbols=()) -> ParametricModel:
+    """The derivation compiled once for numbers, with ``symbols`` as arguments."""
+    return ParametricModel(problem, stages.solution, stages.parts, stages.response_poles,
+                           stages.system_poles, stages.breakpoints, stages.impulses, symbols)
+
+
+def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, tolerances,
+             window, checks: str = "all", model: ParametricModel | None = None) -> Derivation:
+    """The Derivation: the stages, the engine's checks, and (for checks="all" with numbers
+    for every symbolic parameter) the independent checks and the engineering results.
+
+    ``model`` is the derivation already compiled (the explorer compiles once per family).
+    """
+    fields = dict(problem=problem, steps=stages.steps, transform=stages.transform,
+                  solution=stages.solution, intervals=stages.intervals,
+                  impulses=stages.impulses, poles=stages.system_poles,
+                  assumptions=stages.assumptions, conditions=stages.conditions,
+                  notes=stages.notes, transform_parts=stages.parts,
+                  values=tuple(value_map.items()))
+    numeric_tol = {k: v for k, v in tolerances.items() if k != "back_substitution"}
     if checks == "engine":
         skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
                         for name in INDEPENDENT_CHECKS)
-        return Derivation(problem=problem, steps=steps, transform=transform, solution=solution,
-                          intervals=tuple(intervals), impulses=impulses, poles=char_poles.poles,
-                          assumptions=tuple(assumptions), conditions=tuple(conditions),
-                          verification=Verification(checks_own + skipped), notes=tuple(notes),
-                          results=MappingProxyType({}), transform_parts=parts,
-                          values=tuple(value_map.items()))
-    numeric = all(name in value_map for name in problem.symbols)
-    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
-    closed = numpy_function(solution.subs(subs)) if numeric else None  # compiled once, shared
-    extra, samples = independent_checks(
-        problem, solution, parts, all_poles.poles, breaks, impulses, value_map,
-        {k: v for k, v in tolerances.items() if k != "back_substitution"},
-        lambda poles, bps: time_window(poles, bps, window), closed_form=closed)
-    verification = Verification(checks_own + extra, samples)
-    results = _results(problem, solution, char_poles, breaks, impulses, value_map, samples,
-                       closed)
-    derivation = Derivation(problem=problem, steps=steps, transform=transform,
-                            solution=solution, intervals=tuple(intervals), impulses=impulses,
-                            poles=char_poles.poles, assumptions=tuple(assumptions),
-                            conditions=tuple(conditions), verification=verification,
-                            notes=tuple(notes), results=results, transform_parts=parts,
-                            values=tuple(value_map.items()))
-    if closed is not None and not problem.symbols:
-        derivation._cache["numpy"] = closed  # d(times) uses the same compiled solution
+        return Derivation(**fields, verification=Verification(tuple(checks_own) + skipped),
+                          results=MappingProxyType({}))
+    if not all(name in value_map for name in problem.symbols):
+        skipped = missing_values(problem.symbols, value_map, numeric_tol)
+        return Derivation(**fields, verification=Verification(tuple(checks_own) + skipped),
+                          results=MappingProxyType({}))
+    if model is None:
+        model = compile_model(problem, stages, tuple(value_map))
+    numbers = model.at(value_map)
+    extra, samples = independent_checks(numbers, numeric_tol,
+                                        lambda poles, bps: window_end(poles, bps, window))
+    results = engineering_results(numbers, float(samples.times[-1]), problem.units)
+    derivation = Derivation(**fields, verification=Verification(tuple(checks_own) + extra,
+                                                                samples), results=results)
+    if not problem.symbols:
+        derivation._cache["numpy"] = numbers.closed_form  # d(times) uses the same compiled form
     return derivation
 
 
-def _values(problem: Problem, values) -> dict:
+def parameter_values(problem: Problem, values) -> dict:
     """Numbers for symbolic parameters, for the numerical checks and results only."""
     out = {}
     for name, value in dict(values or {}).items():
         if name not in problem.symbols:
-            from ..errors import ParameterError
             msg = (f"values= gives {name!r}, which is not a symbolic parameter of this problem "
                    f"(symbolic: {', '.join(problem.symbols) or 'none'})")
             raise ParameterError(msg, name)
         out[name] = to_exact(value, name)
     return out
-
-
-def _results(problem, solution, char_poles, breaks, impulses, value_map, samples, closed):
-    if samples is None:
-        return MappingProxyType({})
-    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
-    poles = [type(p)(p.kind, p.value.subs(subs), p.beta.subs(subs), p.multiplicity, p.numeric)
-             for p in char_poles.poles]
-    return engineering_results(
-        [c.subs(subs) for c in problem.coefficients], solution.subs(subs),
-        problem.forcing.subs(subs), poles, [float(b.subs(subs)) for b in breaks],
-        [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
-         for c, a in impulses], float(samples.times[-1]), problem.units, closed_form=closed)
 
 
 def _group_transform(g) -> sp.Expr:

@@ -16,16 +16,13 @@ import math
 
 import mpmath
 import numpy as np
-import sympy as sp
 from scipy.integrate import solve_ivp
 
-from .evaluate import numpy_function
-from .parse import S, T
+from .numeric_model import NumericModel
 from .verify import Check, Samples
-from .window import numeric_poles
 
-__all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integration_check", "inversion_check",
-           "limit_checks", "not_run"]
+__all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integration_check",
+           "inversion_check", "limit_checks", "missing_values", "not_run"]
 
 NUMERIC_TOLERANCES = {
     "integration": 1e-7,   # max |closed form - solve_ivp| / peak |y|
@@ -46,14 +43,6 @@ def not_run(name: str, method: str, tolerance: float, why: str) -> Check:
     return Check(name, method, tolerance, math.nan, False, ran=False, detail=why)
 
 
-def _forcing_function(forcing: sp.Expr):
-    smooth = forcing.replace(sp.DiracDelta, lambda *args: sp.Integer(0))
-    fn = sp.lambdify(T, smooth, modules=[{"Heaviside": lambda x, *_: np.heaviside(x, 1.0)},
-                                         "numpy"])
-    return lambda t: np.asarray(fn(np.asarray(t, dtype=float)), dtype=float) * np.ones_like(
-        np.asarray(t, dtype=float))
-
-
 def grid(t_end: float, breakpoints) -> np.ndarray:
     """Sample times over [0, t_end], with each breakpoint and the instant after it."""
     base = np.linspace(0.0, t_end, GRID_POINTS)
@@ -61,18 +50,21 @@ def grid(t_end: float, breakpoints) -> np.ndarray:
     return np.unique(np.concatenate([base, extra]))
 
 
-def integrate(coefficients, initial, forcing, breakpoints, impulses, times) -> np.ndarray:
-    """y(times) by DOP853 through each interval between breakpoints; impulses as jumps."""
+def integrate(coefficients, initial, forcing_at, breakpoints, impulses, times) -> np.ndarray:
+    """y(times) by DOP853 through each interval between breakpoints; impulses as jumps.
+
+    ``forcing_at`` is the forcing as a scalar function of t (impulses left out).
+    """
     a = np.array([float(c) for c in coefficients], dtype=float)
     n = len(a) - 1
     companion = np.zeros((n, n))
     companion[:-1, 1:] = np.eye(n - 1)
     companion[-1, :] = -a[:-1] / a[-1]
-    f = _forcing_function(forcing)
+    lead = float(a[-1])
 
     def rhs(t, z):
         dz = companion @ z
-        dz[-1] += float(f(t)) / a[-1]
+        dz[-1] += float(forcing_at(t)) / lead
         return dz
 
     kicks: dict[float, float] = {}
@@ -97,12 +89,14 @@ def integrate(coefficients, initial, forcing, breakpoints, impulses, times) -> n
     return out
 
 
-def integration_check(coefficients, initial, forcing, breakpoints, impulses, closed_form,
-                      t_end: float, tolerance: float) -> tuple[Check, Samples]:
+def integration_check(model: NumericModel, t_end: float,
+                      tolerance: float) -> tuple[Check, Samples]:
     """Closed form against solve_ivp on a grid over the window; also the figure's samples."""
+    breakpoints = model.breakpoints
     times = grid(t_end, breakpoints)
-    ours = closed_form(times)
-    ref = integrate(coefficients, initial, forcing, breakpoints, impulses, times)
+    ours = model.closed_form(times)
+    ref = integrate(model.coefficients, model.initial, model.forcing_at, breakpoints,
+                    model.impulses, times)
     peak = max(float(np.max(np.abs(ref))), float(np.max(np.abs(ours))), 1e-300)
     # At a breakpoint the closed form gives the value from the right; the integrator arrives
     # from the left. Compare at the grid points off the breakpoints.
@@ -111,8 +105,7 @@ def integration_check(coefficients, initial, forcing, breakpoints, impulses, clo
         off &= times != b
     abs_err = float(np.max(np.abs(ours[off] - ref[off])))
     rel = abs_err / peak
-    samples = Samples(times, ours, ref, _forcing_function(forcing)(times),
-                      tuple(float(b) for b in breakpoints))
+    samples = Samples(times, ours, ref, model.forcing(times), tuple(breakpoints))
     check = Check("Numerical integration",
                   "The ODE integrated by SciPy solve_ivp (DOP853, rtol 1e-10) between "
                   f"breakpoints, impulses as jumps in y^(n-1), compared on {off.sum()} grid points "
@@ -158,8 +151,9 @@ def _converged_inversion(fns, t: float, resolution: float) -> dict:
 
 def inversion_horizon(poles, t_end: float, breakpoints) -> float:
     """Where the inversion samples: at most ~3 oscillations of the fastest pole past the last
-    breakpoint, since the contour methods lose accuracy as t·|Im p| grows."""
-    freqs = [abs(z.imag) for z in numeric_poles(poles) if abs(z.imag) > 1e-12]
+    breakpoint, since the contour methods lose accuracy as t·|Im p| grows (``poles``: complex
+    numbers, conjugates included)."""
+    freqs = [abs(z.imag) for z in poles if abs(z.imag) > 1e-12]
     last = max((float(b) for b in breakpoints), default=0.0)
     if not freqs:
         return t_end
@@ -168,8 +162,11 @@ def inversion_horizon(poles, t_end: float, breakpoints) -> float:
 
 def inversion_check(parts, closed_form, horizon: float, breakpoints, peak: float,
                     tolerance: float) -> Check:
-    """Closed form against mpmath invertlaplace (Talbot, Cohen) of each delay part R_c(s)."""
-    fns = [(float(c), sp.lambdify(S, r, modules="mpmath")) for c, r in parts]
+    """Closed form against mpmath invertlaplace (Talbot, Cohen) of each delay part R_c(s).
+
+    ``parts`` are (c, R_c) with R_c callable on an mpmath number (``NumericModel.parts``).
+    """
+    fns = [(float(c), fn) for c, fn in parts]
     times = _inversion_times(horizon, breakpoints)
     ours = closed_form(np.array(times))
     worst = {"talbot": 0.0, "cohen": 0.0}
@@ -186,39 +183,27 @@ def inversion_check(parts, closed_form, horizon: float, breakpoints, peak: float
                  detail="max abs error: " + ", ".join(f"{m} {e:.3e}" for m, e in worst.items()))
 
 
-def _s_limit(parts, at_zero: bool) -> sp.Expr:
-    total = sp.Integer(0)
-    for c, r in parts:
-        num, den = sp.fraction(sp.cancel(sp.together(S * r)))
-        pn, pd = sp.Poly(num, S), sp.Poly(den, S)
-        if at_zero:
-            total += num.subs(S, 0) / den.subs(S, 0)
-        elif c == 0:  # delayed parts vanish as s → ∞ (e^{-cs} → 0)
-            total += pn.LC() / pd.LC() if pn.degree() == pd.degree() else 0
-    return total
-
-
-def limit_checks(parts, poles, initial_value: float, late_value, peak: float,
+def limit_checks(model: NumericModel, initial_value: float, late_value, peak: float,
                  tolerance: float) -> tuple[Check, Check]:
     """Initial-value theorem always; final-value theorem only where it applies."""
     scale = max(peak, 1e-300)
-    ivt = float(_s_limit(parts, at_zero=False))
+    ivt = model.initial_value_limit
     err = abs(ivt - initial_value) / max(scale, abs(ivt))
     first = Check("Initial-value theorem",
                   "y(0+) from the solution against lim s·Y(s) as s → ∞.", tolerance, err,
                   err <= tolerance, detail=f"theorem {ivt:.6g}, solution {initial_value:.6g}")
-    zs = numeric_poles(poles)
+    zs = model.response_poles
     at_zero = sum(1 for z in zs if abs(z) < 1e-14)
     bad = [z for z in zs if z.real >= -1e-14 and abs(z) >= 1e-14]
     method = "lim y(t) as t → ∞ from the solution against lim s·Y(s) as s → 0."
-    if bad or at_zero > 1:
-        why = ("a pole of sY(s) at s = 0" if at_zero > 1 else
-               "poles of sY(s) on or right of the imaginary axis: "
-               + ", ".join(f"{z.real:.4g}{z.imag:+.4g}i" for z in bad[:4]))
+    if bad or at_zero > 1 or model.final_value_limit is None:
+        why = ("poles of sY(s) on or right of the imaginary axis: "
+               + ", ".join(f"{z.real:.4g}{z.imag:+.4g}i" for z in bad[:4])) if bad else \
+            "a pole of sY(s) at s = 0"
         final = Check("Final-value theorem", method, tolerance, math.nan, False,
                       applicable=False, detail=f"does not apply: {why}; y(t) has no limit")
         return first, final
-    fvt = float(_s_limit(parts, at_zero=True))
+    fvt = model.final_value_limit
     late = float(late_value())
     err = abs(fvt - late) / max(scale, abs(fvt))
     final = Check("Final-value theorem", method, tolerance, err, err <= tolerance,
@@ -226,44 +211,34 @@ def limit_checks(parts, poles, initial_value: float, late_value, peak: float,
     return first, final
 
 
-def independent_checks(problem, solution, parts, poles, breakpoints, impulses, values,
-                       tolerances, t_end, closed_form=None) -> tuple[tuple[Check, ...],
-                                                                     Samples | None]:
-    """The four independent checks, with numbers for any symbolic parameters from ``values``.
+def independent_checks(model: NumericModel, tolerances, t_end) -> tuple[tuple[Check, ...],
+                                                                        Samples]:
+    """The four independent checks of a derivation's numeric model.
 
-    ``closed_form`` is the solution already compiled for NumPy (with those numbers), when the
-    caller has it; otherwise it is compiled here.
-
-    Returns the checks and the samples for the figure (None when the checks could not run).
+    ``t_end(poles, breakpoints)`` gives the window's end. Returns the checks and the samples
+    for the figure.
     """
     tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
-    subs = {sp.Symbol(k, positive=True): v for k, v in (values or {}).items()}
-    names = INDEPENDENT_CHECKS
-    keys = ("integration", "inversion", "limits", "limits")
-    missing = [n for n in problem.symbols if sp.Symbol(n, positive=True) not in subs]
-    if missing:
-        why = ("symbolic parameters without values (" + ", ".join(missing) + "); pass "
-               "values={...} to derive() to run the numerical checks")
-        return tuple(not_run(n, "", tol[k], why) for n, k in zip(names, keys)), None
-    coefficients = [c.subs(subs) for c in problem.coefficients]
-    initial = [v.subs(subs) for v in problem.initial_values]
-    forcing = problem.forcing.subs(subs)
-    bps = [float(b.subs(subs)) for b in breakpoints]
-    kicks = [(float((sp.Integer(0) + c).subs(subs)), float((sp.Integer(0) + a).subs(subs)))
-             for c, a in impulses]
-    closed = closed_form or numpy_function(solution.subs(subs))
-    num_parts = [((sp.Integer(0) + c).subs(subs), r.subs(subs)) for c, r in parts]
-    num_poles = [type(p)(p.kind, p.value.subs(subs), p.beta.subs(subs), p.multiplicity,
-                         p.numeric) for p in poles]
-    end = t_end(num_poles, bps)
-    integration, samples = integration_check(coefficients, initial, forcing, bps, kicks,
-                                             closed, end, tol["integration"])
+    bps = list(model.breakpoints)
+    end = t_end(model.response_poles, bps)
+    integration, samples = integration_check(model, end, tol["integration"])
     peak = float(np.max(np.abs(samples.closed_form)))
-    inversion = inversion_check(num_parts, closed, inversion_horizon(num_poles, end, bps), bps,
+    inversion = inversion_check(model.parts, model.closed_form,
+                                inversion_horizon(model.response_poles, end, bps), bps,
                                 peak, tol["inversion"])
-    decays = [-z.real for z in numeric_poles(num_poles) if z.real < 0]
+    decays = [-z.real for z in model.response_poles if z.real < 0]
     far = max(bps, default=0.0) + (60.0 / min(decays) if decays else end)
-    initial_value = float(closed(np.array([0.0]))[0])
-    ivt, fvt = limit_checks(num_parts, num_poles, initial_value,
-                            lambda: closed(np.array([far]))[0], peak, tol["limits"])
+    initial_value = float(model.closed_form(np.array([0.0]))[0])
+    ivt, fvt = limit_checks(model, initial_value,
+                            lambda: model.closed_form(np.array([far]))[0], peak, tol["limits"])
     return (integration, inversion, ivt, fvt), samples
+
+
+def missing_values(symbols, values, tolerances) -> tuple[Check, ...]:
+    """The independent checks marked not run, for symbolic parameters without numbers."""
+    tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
+    missing = [n for n in symbols if n not in values]
+    why = ("symbolic parameters without values (" + ", ".join(missing) + "); pass "
+           "values={...} to derive() to run the numerical checks")
+    keys = ("integration", "inversion", "limits", "limits")
+    return tuple(not_run(n, "", tol[k], why) for n, k in zip(INDEPENDENT_CHECKS, keys))

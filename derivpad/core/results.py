@@ -15,13 +15,9 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 import numpy as np
-import sympy as sp
 from scipy.optimize import brentq
 
-from .evaluate import numpy_function
-from .forcing import forcing_on_interval
-from .parse import T
-from .window import numeric_poles
+from .numeric_model import NumericModel
 
 __all__ = ["Result", "engineering_results"]
 
@@ -105,10 +101,8 @@ def _zeros(f, times) -> list[float]:
     return out
 
 
-def engineering_results(coefficients, solution, forcing, poles, breakpoints, impulses,
-                        t_end: float, units=None, closed_form=None):
-    """The results mapping (read-only) for a numeric derivation (``closed_form``: the solution
-    already compiled for NumPy, when the caller has it)."""
+def engineering_results(model: NumericModel, t_end: float, units=None):
+    """The results mapping (read-only) from a derivation's numeric model."""
     res: dict[str, Result] = {}
     y_unit = units.unknown_display if units else ""
     y_si = units.unknown_si if units else ""
@@ -129,9 +123,10 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
     def add(key, label, value, unit, formula, source):
         res[key] = Result(key, label, _quantity(value, unit, units), unit, formula, source)
 
-    a = [float(c) for c in coefficients]
+    a = list(model.coefficients)
     n = len(a) - 1
-    zs = numeric_poles(poles)
+    zs = list(model.system_poles)
+    breakpoints, impulses = model.breakpoints, model.impulses
     char = _polynomial_text(a)
     add("characteristic_polynomial", "characteristic polynomial", char, "",
         "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")
@@ -174,8 +169,7 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
                   "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
         add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
 
-    y = closed_form or numpy_function(solution)
-    dy = numpy_function(sp.diff(solution, T))
+    y, dy = model.closed_form, model.derivative
     times = np.linspace(0.0, t_end, 20001)
     candidates = [0.0, t_end] + [float(b) for b in breakpoints if 0 < b < t_end]
     candidates += _zeros(dy, times)
@@ -193,13 +187,11 @@ def engineering_results(coefficients, solution, forcing, poles, breakpoints, imp
 
     # Loads: final level and peak level (impulses aside).
     far = max([float(b) for b in breakpoints] + [0.0]) + 1.0
-    smooth = forcing.replace(sp.DiracDelta, lambda *args: sp.Integer(0))
-    final_load = forcing_on_interval(smooth, sp.Float(far) + 10 ** 6)
-    f_grid = numpy_function(smooth)(times)
+    f_grid = model.forcing(times)
     f_peak = float(np.max(np.abs(f_grid))) if f_grid.size else 0.0
-    settles = not final_load.has(T)
+    settles = model.final_load is not None
     if a[0] != 0 and settles:
-        static = float(final_load) / a[0]
+        static = model.final_load / a[0]
         add("static_response", "static response to the final load", to_y(static), y_unit,
             "f(∞)/a_0: the final load level over the stiffness term", _VIB)
     if a[0] != 0 and f_peak > 0 and not impulses:

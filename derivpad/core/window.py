@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["time_window", "numeric_poles"]
+__all__ = ["numeric_poles", "time_window", "window_end"]
 
 _EPS = 1e-12
 
@@ -29,11 +29,16 @@ def numeric_poles(poles) -> list[complex]:
 
 
 def time_window(poles, breakpoints=(), t_end: float | None = None) -> float:
-    """End of the window: last breakpoint plus five slowest time constants or two periods."""
+    """End of the window for the derivation's poles (see :func:`window_end`)."""
+    return window_end(numeric_poles(poles), breakpoints, t_end)
+
+
+def window_end(zs, breakpoints=(), t_end: float | None = None) -> float:
+    """End of the window: last breakpoint plus five slowest time constants or two periods
+    (``zs``: the poles as complex numbers, conjugates included; ``t_end`` overrides)."""
     if t_end is not None:
         return float(t_end)
     last = max((float(b) for b in breakpoints), default=0.0)
-    zs = numeric_poles(poles)
     decays = [-z.real for z in zs if z.real < -_EPS]
     growths = [z.real for z in zs if z.real > _EPS]
     freqs = [abs(z.imag) for z in zs if abs(z.imag) > _EPS]

@@ -1,6 +1,7 @@
 """The independent checks: they pass on right answers, catch wrong ones, and say when they
 cannot run or do not apply."""
 
+import dataclasses
 import math
 
 import numpy as np
@@ -8,8 +9,10 @@ import pytest
 import sympy as sp
 
 from derivpad import ParameterError, derive
+from derivpad.core.engine import compile_model, solve_stages
 from derivpad.core.numeric_checks import integration_check, inversion_check
-from derivpad.core.parse import S, T
+from derivpad.core.parse import S
+from derivpad.core.problem import make_problem
 
 ZERO2 = {"y(0)": 0, "y'(0)": 0}
 NAMES = ["ODE on every interval", "Initial conditions at 0+", "Jump conditions at breakpoints",
@@ -69,17 +72,24 @@ def test_tolerances_can_be_set_per_call():
         derive("y' + y = 1", ics={"y(0)": 0}, tolerances={"speed": 1})
 
 
+def _model(equation, ics):
+    problem = make_problem(equation, ics, None, None, None)
+    return compile_model(problem, solve_stages(problem)).at({})
+
+
 def test_integration_check_catches_a_wrong_closed_form():
-    # closed form of y'' + 4y = u(t) from rest is (1 - cos 2t)/4; give it 1 % wrong
+    # closed form of y'' + 4y = u(t) from rest is (1 - cos 2t)/4 (SymPy dsolve agrees; common
+    # practice, no source); give it 1 % wrong
     wrong = lambda t: 1.01 * (1 - np.cos(2 * np.asarray(t))) / 4  # noqa: E731
-    check, samples = integration_check([4, 0, 1], [0, 0], sp.Heaviside(T), [], [], wrong, 6.0, 1e-7)
+    model = dataclasses.replace(_model("y'' + 4*y = u(t)", ZERO2), closed_form=wrong)
+    check, samples = integration_check(model, 6.0, 1e-7)
     assert check.status == "FAILED" and 5e-3 < check.error < 2e-2
     assert samples.times[-1] == 6.0 and len(samples.integrated) == len(samples.times)
 
 
 def test_inversion_check_catches_a_wrong_closed_form():
     right = lambda t: (1 - np.cos(2 * np.asarray(t))) / 4  # noqa: E731
-    parts = [(sp.Integer(0), 1 / (S * (S ** 2 + 4)))]
+    parts = [(0.0, sp.lambdify(S, 1 / (S * (S ** 2 + 4)), modules="mpmath"))]
     ok = inversion_check(parts, right, 5.0, [], 0.5, 1e-7)
     assert ok.status == "passed" and ok.error < 1e-12
     bad = inversion_check(parts, lambda t: right(t) + 1e-4, 5.0, [], 0.5, 1e-7)
