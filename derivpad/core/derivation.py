@@ -78,17 +78,46 @@ class Derivation:
 
         At a breakpoint the value from the right is returned.
         """
-        if self.problem.symbols:
+        given = dict(self.values)
+        open_symbols = [n for n in self.problem.symbols if n not in given]
+        if open_symbols:
             from ..errors import ParameterError
             msg = ("the solution still has symbolic parameters "
-                   f"({', '.join(self.problem.symbols)}); derive again with params= giving "
-                   "their values to evaluate it")
+                   f"({', '.join(open_symbols)}); derive again with params= (or values=) "
+                   "giving their values to evaluate it")
             raise ParameterError(msg)
         fn = self._cache.get("numpy")
         if fn is None:
-            fn = numpy_function(self.solution)
+            fn = numpy_function(self.evaluated_solution)
             self._cache["numpy"] = fn
         return fn(times)
+
+    def value_table(self) -> tuple[tuple[str, float, str], ...]:
+        """The numbers used for symbolic parameters, each in its declared unit:
+        ((name, number, unit), ...) (SI numbers and no unit where none was declared)."""
+        ctx = self.problem.units
+        out = []
+        for name, v in self.values:
+            unit = ctx.symbol_unit(name) if ctx else None
+            if unit:
+                from .units import display_unit_for, to_display
+                si = display_unit_for(dict(ctx.dimensions)[name])
+                out.append((name, to_display(float(v), si, unit), unit))
+            else:
+                out.append((name, float(v), ""))
+        return tuple(out)
+
+    @property
+    def evaluated_solution(self) -> sp.Expr:
+        """y(t) with the numbers of ``values`` put in for the symbolic parameters (the solution
+        itself when there are none)."""
+        if not self.values:
+            return self.solution
+        out = self._cache.get("evaluated")
+        if out is None:
+            out = self.solution.subs({sp.Symbol(k, positive=True): v for k, v in self.values})
+            self._cache["evaluated"] = out
+        return out
 
     def figure(self, **settings):
         """The verification figure (matplotlib): closed form over integration, forcing, error."""

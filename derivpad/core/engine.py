@@ -13,7 +13,7 @@ from types import MappingProxyType
 
 import sympy as sp
 
-from ..errors import ParameterError, VerificationFailedError
+from ..errors import ParameterError, UnitError, VerificationFailedError
 from .algebra import (PoleSet, characteristic_polynomial, initial_condition_polynomial,
                       merge_poles, poles_of, solve_system)
 from .derivation import Derivation
@@ -24,6 +24,7 @@ from .partial_fractions import fraction_steps, partial_fractions
 from .problem import Problem, derivative_name, make_problem, to_exact
 from .rules import rule
 from .steps import Line, Step
+from .units import dimension_text, read_quantity
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
 from .numeric_model import ParametricModel
@@ -95,10 +96,11 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
                    values=None, window: float | None = None, checks: str = "all") -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
     tolerances = check_options(checks, tolerances)
+    value_map = parameter_values(problem, values)
     stages = solve_stages(problem, regime)
-    checks_own = engine_check(problem, stages, tolerances.get("back_substitution"))
-    return complete(problem, stages, checks_own, parameter_values(problem, values),
-                    tolerances=tolerances, window=window, checks=checks)
+    checks_own = engine_check(problem, stages, tolerances.get("back_substitution"), value_map)
+    return complete(problem, stages, checks_own, value_map, tolerances=tolerances,
+                    window=window, checks=checks)
 
 
 @dataclass(frozen=True)
@@ -120,8 +122,11 @@ class Stages:
     delayed_solutions: tuple
 
 
-def solve_stages(problem: Problem, regime: str = "underdamped") -> Stages:
-    """Stages 1-7: problem, transform, derivatives, Y(s), partial fractions, inversion, y(t)."""
+def solve_stages(problem: Problem, regime: str = "underdamped", order=None) -> Stages:
+    """Stages 1-7: problem, transform, derivatives, Y(s), partial fractions, inversion, y(t).
+
+    ``order`` ({name: number}) orders symbolic switching times by those numbers.
+    """
     y = problem.unknown
     Y = Ysym(y)
     n = problem.order
@@ -253,12 +258,15 @@ def solve_stages(problem: Problem, regime: str = "underdamped") -> Stages:
     # 7. Assemble
     solution = sp.Add(*[shift(g, d) for d, g in delayed_solutions])
     breaks = sorted({p.delay for p in pieces if p.delay != 0} | {d for d, _ in delayed_solutions
-                                                                if d != 0}, key=_order_key)
+                                                                if d != 0},
+                    key=lambda c: _order_key(c, order))
     if any(not b.is_number for b in breaks) and len(breaks) > 1:
         assumptions.append("switching times in the order " + " < ".join(sp.sstr(b) for b in breaks))
     intervals = []
+    rank = {sp.Integer(0): 0, **{b: i + 1 for i, b in enumerate(breaks)}}
     for start in [sp.Integer(0)] + breaks:
-        active = [(d, g) for d, g in delayed_solutions if _not_after(d, start)]
+        # a part acts from its own switching time on, in the order just assumed
+        active = [(d, g) for d, g in delayed_solutions if rank[d] <= rank[start]]
         expr = sp.Add(*[g.subs(TAU, T - d) for d, g in active])
         intervals.append((start, expr))
     impulses = tuple((p.delay, p.shape) for p in pieces if p.impulse)
@@ -283,10 +291,15 @@ def solve_stages(problem: Problem, regime: str = "underdamped") -> Stages:
                   breakpoints=tuple(breaks), delayed_solutions=tuple(delayed_solutions))
 
 
-def engine_check(problem: Problem, stages: Stages, tolerance=None) -> tuple:
-    """The engine's own back-substitution, ICs and jumps; raises when it rejects the answer."""
+def engine_check(problem: Problem, stages: Stages, tolerance=None, preferred=None) -> tuple:
+    """The engine's own back-substitution, ICs and jumps; raises when it rejects the answer.
+
+    Symbolic parameters are sampled at ``preferred`` ({name: value}) where those satisfy the
+    derivation's conditions.
+    """
     checks_own = self_check(problem, list(stages.delayed_solutions), list(stages.breakpoints),
-                            dict(stages.impulses), list(stages.conditions), tolerance)
+                            dict(stages.impulses), list(stages.conditions), tolerance,
+                            preferred)
     own = Verification(checks_own)
     if not own.passed:
         worst = "; ".join(f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}"
@@ -347,8 +360,7 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
     results = engineering_results(numbers, float(samples.times[-1]), problem.units)
     derivation = Derivation(**fields, verification=Verification(tuple(checks_own) + extra,
                                                                 samples), results=results)
-    if not problem.symbols:
-        derivation._cache["numpy"] = numbers.closed_form  # d(times) uses the same compiled form
+    derivation._cache["numpy"] = numbers.closed_form  # d(times) uses the same compiled form
     return derivation
 
 
@@ -360,8 +372,30 @@ def parameter_values(problem: Problem, values) -> dict:
             msg = (f"values= gives {name!r}, which is not a symbolic parameter of this problem "
                    f"(symbolic: {', '.join(problem.symbols) or 'none'})")
             raise ParameterError(msg, name)
-        out[name] = to_exact(value, name)
+        out[name] = _symbol_value(problem, name, value)
     return out
+
+
+def _symbol_value(problem: Problem, name: str, value) -> sp.Expr:
+    """A value for a symbolic parameter in SI: a plain number is read in the parameter's
+    declared unit (units=), a quantity is converted after its dimension is checked."""
+    ctx = problem.units
+    unit = ctx.symbol_unit(name) if ctx else None
+    if unit and isinstance(value, (int, float)) and not isinstance(value, bool):
+        value = f"{value!r} {unit}"
+    q = read_quantity(value, name)
+    if q is None:
+        return to_exact(value, name)
+    want = dict(ctx.dimensions).get(name) if ctx else None
+    if unit is None:
+        raise UnitError(f"values= gives {name!r} with a unit ({q.given!r}) but {name} has no "
+                        f"declared unit; declare it in units=, e.g. units={{{name!r}: "
+                        f"{q.si_unit!r}}}", name=name)
+    if q.dimensionality != want:
+        raise UnitError(f"values= gives {name!r} in {q.given!r}, which is "
+                        f"{dimension_text(q.dimensionality)}; {name} is declared in {unit!r}, "
+                        f"which is {dimension_text(want)}", name=name)
+    return q.si_value
 
 
 def _group_transform(g) -> sp.Expr:
@@ -409,16 +443,17 @@ def _regime_sentence(poles: PoleSet, n: int) -> str:
     return ""
 
 
-def _order_key(c):
-    return (0, float(c)) if c.is_number else (1, 0.0)
-
-
-def _not_after(d, start) -> bool:
-    if d == 0:
-        return True
-    if d.is_number and start.is_number:
-        return bool(d <= start)
-    return d == start or (sp.simplify(start - d).is_nonnegative is True)
+def _order_key(c, order=None):
+    """Numeric switching times by value; symbolic ones by their value in ``order`` (numbers
+    for the parameters, e.g. an explorer's starting values) where given, else after the
+    numeric ones."""
+    if c.is_number:
+        return (0, float(c))
+    if order:
+        value = c.subs({sp.Symbol(k, positive=True): v for k, v in order.items()})
+        if value.is_number:
+            return (0, float(value))
+    return (1, 0.0)
 
 
 def _interval_text(i: int, intervals) -> str:

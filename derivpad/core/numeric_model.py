@@ -13,6 +13,7 @@ import math
 from dataclasses import dataclass
 from typing import Callable
 
+import mpmath
 import numpy as np
 import sympy as sp
 
@@ -168,8 +169,10 @@ class ParametricModel:
                         out += [complex(a.real, b), complex(a.real, -b)]
             return tuple(out)
 
+        exact = tuple(mpmath.mpf(x) for x in nums)  # a float is exact as an mpf; converted once
+
         def part(fn):
-            return lambda s: fn(s, *nums)
+            return lambda s: fn(s, *exact)
 
         def scalar(fn):
             return lambda t: fn(t, *nums)

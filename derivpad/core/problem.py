@@ -395,8 +395,15 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
             raise UnitError(f"units= names {key!r}, which is neither the unknown {unknown!r}, "
                             "t, nor a parameter of the equation", name=key)
     dims = {"t": tq.dimensionality}
+    symbol_units = []
     for name in names:
-        dims[name] = quantities[name].dimensionality if name in quantities else one
+        if name in quantities:
+            dims[name] = quantities[name].dimensionality
+        elif name in units and name not in loads:  # a symbolic parameter with a declared unit
+            dims[name] = read_quantity(f"1 {units[name]}", name).dimensionality
+            symbol_units.append((name, units[name]))
+        else:
+            dims[name] = one
     for name in loads:
         dims[name] = None  # a load history: takes the dimension the equation needs
     declared = None
@@ -431,4 +438,5 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
     display = units.get(unknown, unknown_si)
     return UnitContext(unknown_si=unknown_si, unknown_display=display, time_display=time_unit,
                        forcing_si=display_unit_for(forcing_dim),
-                       dimensions=tuple((k, v) for k, v in dims.items()))
+                       dimensions=tuple((k, v) for k, v in dims.items()),
+                       symbol_units=tuple(symbol_units))

@@ -88,17 +88,13 @@ def _polynomial_text(a) -> str:
 def _zeros(f, times) -> list[float]:
     """Roots of f on the grid's sign changes, refined by Brent's method."""
     values = f(times)
-    out = []
-    for i in range(len(times) - 1):
-        a, b = values[i], values[i + 1]
-        if not (np.isfinite(a) and np.isfinite(b)):
-            continue
-        if a == 0:
-            out.append(float(times[i]))
-        elif a * b < 0:
-            out.append(brentq(lambda x: float(f(np.array([x]))[0]), times[i], times[i + 1],
-                              xtol=1e-14, rtol=1e-13, maxiter=200))
-    return out
+    finite = np.isfinite(values[:-1]) & np.isfinite(values[1:])
+    exact = np.nonzero(finite & (values[:-1] == 0))[0]
+    change = np.nonzero(finite & (values[:-1] * values[1:] < 0))[0]
+    out = [float(times[i]) for i in exact]
+    out += [brentq(lambda x: float(f(np.array([x]))[0]), times[i], times[i + 1],
+                   xtol=1e-14, rtol=1e-13, maxiter=200) for i in change]
+    return sorted(out)
 
 
 def engineering_results(model: NumericModel, t_end: float, units=None):

@@ -61,6 +61,11 @@ class UnitContext:
     time_display: str
     forcing_si: str
     dimensions: tuple[tuple[str, object], ...]
+    symbol_units: tuple[tuple[str, str], ...] = ()   # units= of parameters left symbolic
+
+    def symbol_unit(self, name: str) -> str | None:
+        """The unit a symbolic parameter was declared in (units=), if any."""
+        return dict(self.symbol_units).get(name)
 
     def display(self, kind: str) -> str:
         return {"unknown": self.unknown_display, "time": self.time_display,

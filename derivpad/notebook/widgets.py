@@ -1,44 +1,32 @@
-"""The live parameter explorer: a thin ipywidgets shell over ``derive()``.
+"""The live parameter explorer: a thin ipywidgets shell over a derivation family.
 
 ``explore()`` builds a :class:`DerivationView`: one slider and one exact entry per controlled
 parameter (with its unit), a status line, and the derivation's HTML (collapsible steps, checks,
-results, figure). The view holds the current derivation in one trait; a control change calls
-``derive()`` with the new values and assigns the result, and an observer redraws. No
-mathematics here. Sliders report on release (``continuous_update=False``), which coalesces a
-drag into one derivation so the kernel keeps up. "Record these values" prints the exact
-``params={...}`` line for the calc record.
+results, figure). The mathematics lives in :class:`derivpad.core.family.DerivationFamily`: it
+derives once in symbols for the controlled parameters and, on each change, puts the numbers in
+and re-runs the checks and results; it re-derives (and says so) where a change crosses a
+regime boundary. The view holds the current derivation in one trait and redraws when it
+changes, reusing one figure. Sliders report on release (``continuous_update=False``), which
+coalesces a drag into one update so the kernel keeps up. "Record these values" prints the
+exact ``params={...}`` line for the calc record.
 """
 
 from __future__ import annotations
 
-import re
-
 from ..core.derivation import Derivation
-from ..core.engine import derive
+from ..core.family import DerivationFamily, what_changed
 from ..errors import DerivpadError, ParameterError, import_extra
 
 __all__ = ["explore", "DerivationView"]
-
-_QUANTITY = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
 
 def _widgets():
     return import_extra(("ipywidgets", "traitlets"), "the explorer")
 
 
-def _split(value, name: str) -> tuple[float, str]:
-    """A parameter value as (number, unit text)."""
-    if isinstance(value, (int, float)):
-        return float(value), ""
-    m = _QUANTITY.match(str(value))
-    if not m:
-        raise ParameterError(f"{name}: the explorer needs a number (with an optional unit) to "
-                             f"start from, not {value!r}", name)
-    return float(m.group(1)), m.group(2)
-
-
 def _make_view_class():
     widgets, traitlets = _widgets()
+    from ..render.figure import LiveFigure
 
     class DerivationView(widgets.VBox):
         """Controls, status and the derivation; ``derivation`` holds the current result."""
@@ -47,21 +35,16 @@ def _make_view_class():
                                         help="the derivation shown; replaced on every change")
         status = traitlets.Unicode("", help="what the last change did").tag(sync=True)
 
-        def __init__(self, equation, ics, params, controls, options):
-            self._equation, self._ics, self._options = equation, dict(ics or {}), dict(options)
-            self._params = dict(params or {})
-            self._units: dict[str, str] = {}
+        def __init__(self, family: DerivationFamily, controls):
+            self._family = family
+            self._figure = LiveFigure()
             self._sliders = {}
             rows = []
             for name, (low, high) in controls.items():
-                if name not in self._params:
-                    raise ParameterError(f"control {name!r} has no starting value in params",
-                                         name)
-                start, unit = _split(self._params[name], name)
+                start, unit = family.start[name], family.units_of[name]
                 if not low <= start <= high:
-                    raise ParameterError(f"{name}: the starting value {start} lies outside the "
-                                         f"control's range {low}..{high}", name)
-                self._units[name] = unit
+                    raise ParameterError(f"{name}: the starting value {start:g} lies outside "
+                                         f"the control's range {low}..{high}", name)
                 slider = widgets.FloatSlider(value=start, min=low, max=high,
                                              step=(high - low) / 200, description=name,
                                              continuous_update=False, readout=False)
@@ -79,36 +62,30 @@ def _make_view_class():
             super().__init__(rows + [widgets.HBox([self._record, self._status]),
                                      self._record_out, self._html])
             self.observe(self._redraw, names="derivation")
-            self._derive("derived")
+            self._update("start")
 
-        # -- behaviour: all of it goes through derive() -------------------------------
+        # -- behaviour: all of it goes through the family ---------------------------------
+        def current_values(self) -> dict:
+            return {name: slider.value for name, slider in self._sliders.items()}
+
         def current_params(self) -> dict:
-            out = dict(self._params)
-            for name, slider in self._sliders.items():
-                unit = self._units[name]
-                out[name] = f"{slider.value!r} {unit}".strip() if unit else slider.value
-            return out
+            """The full params= mapping of what is shown (varied values with their units)."""
+            return self._family.params_for(self.current_values())
 
-        def _derive(self, how: str) -> None:
+        def _update(self, what: str) -> None:
             before = self.derivation
             try:
-                d = derive(self._equation, ics=self._ics, params=self.current_params(),
-                           **self._options)
+                member = self._family.at(self.current_values())
             except DerivpadError as exc:
-                self.status = f"not derived: {exc}"
+                self.status = f"{what}: not derived: {exc}"
                 self._status.value = self.status
                 return
-            note = how
-            if before is not None and before.results and d.results:
-                old = before.results.get("regime")
-                new = d.results.get("regime")
-                if old is not None and new is not None and old.magnitude != new.magnitude:
-                    note += f"; regime changed: {old.magnitude} → {new.magnitude}"
-            self.status = note
-            self.derivation = d
+            notes = [f"{what}: {member.how}"] + what_changed(before, member.derivation)
+            self.status = "; ".join(notes)
+            self.derivation = member.derivation
 
         def _on_change(self, change) -> None:
-            self._derive(f"re-derived for {change['owner'].description} = {change['new']:.6g}")
+            self._update(f"{change['owner'].description} = {change['new']:.6g}")
 
         def _on_record(self, _button=None) -> str:
             line = "params=" + repr(self.current_params())
@@ -120,7 +97,8 @@ def _make_view_class():
         def _redraw(self, change) -> None:
             from ..render.html import to_html
             self._status.value = self.status
-            self._html.value = to_html(change["new"]) if change["new"] is not None else ""
+            self._html.value = (to_html(change["new"], figure_source=self._figure)
+                                if change["new"] is not None else "")
 
     return DerivationView
 
@@ -136,7 +114,8 @@ def DerivationView(*args, **kwargs):  # noqa: N802 - a class made on first use
     return _VIEW(*args, **kwargs)
 
 
-def explore(equation, ics=None, params=None, controls=None, **options):
+def explore(equation, ics=None, params=None, controls=None, *, unknown=None, units=None,
+            regime: str = "underdamped", tolerances=None, window=None):
     """A live explorer: sliders for ``controls`` ({name: (low, high)}), the derivation below.
 
     Parameters
@@ -146,10 +125,12 @@ def explore(equation, ics=None, params=None, controls=None, **options):
         ``params`` (a number, or a number with a unit: the slider then moves in that unit).
     controls : mapping
         Parameter name → (low, high) range of its slider.
-    **options
-        Passed to ``derive()`` (units, values, regime, tolerances, window, checks).
+    unknown, units, regime, tolerances, window
+        As for ``derive()``.
     """
     if not controls:
         raise ParameterError("explore() needs controls={'name': (low, high)} for at least one "
                              "parameter", "controls")
-    return DerivationView(equation, ics, params, dict(controls), options)
+    family = DerivationFamily(equation, ics, params, vary=list(controls), unknown=unknown,
+                              units=units, regime=regime, tolerances=tolerances, window=window)
+    return DerivationView(family, dict(controls))

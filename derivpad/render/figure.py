@@ -14,7 +14,7 @@ import numpy as np
 from ..core.units import display_factor
 from ..errors import ExportError, import_extra
 
-__all__ = ["verification_figure", "save_figure", "figure_svg", "FIGURE_FORMATS"]
+__all__ = ["FIGURE_FORMATS", "LiveFigure", "figure_svg", "save_figure", "verification_figure"]
 
 FIGURE_FORMATS = ("svg", "png", "pdf")
 
@@ -25,52 +25,104 @@ def _figure_class():
     return figure_module.Figure
 
 
+def _ticker():
+    (ticker,) = import_extra(("matplotlib.ticker",), "the verification figure")
+    return ticker
+
+
+class _Panels:
+    """The figure's three panels and their lines, made once; :meth:`fill` draws a derivation.
+
+    Making axes and ticks is most of matplotlib's cost, so a view that redraws on every change
+    keeps one ``_Panels`` and fills it again (see :class:`LiveFigure`).
+    """
+
+    def __init__(self, width: float, height: float):
+        Figure = _figure_class()
+        ticker = _ticker()
+        self.fig = fig = Figure(figsize=(width, height))
+        fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
+        self.ax_y, self.ax_f, self.ax_e = fig.subplots(3, 1, sharex=True,
+                                                       height_ratios=[3, 1.3, 1.3])
+        (self.integrated,) = self.ax_y.plot([], [], color="0.65", lw=3.2,
+                                            label="numerical integration (odeint)")
+        (self.closed,) = self.ax_y.plot([], [], color="#1f3f8f", lw=1.2,
+                                        label="closed form (this derivation)")
+        (self.forcing,) = self.ax_f.plot([], [], color="#8f3f1f", lw=1.2)
+        self.ax_e.set_yscale("log")
+        (self.error,) = self.ax_e.plot([], [], color="0.2", lw=0.8)
+        # plain "1e-06" tick labels: the default 10^{-6} labels go through mathtext, which
+        # costs more than all the rest of the figure
+        self.ax_e.yaxis.set_major_formatter(ticker.LogFormatter(labelOnlyBase=True))
+        self.ax_e.yaxis.set_minor_locator(ticker.NullLocator())  # 8 bare ticks per decade
+        self.ax_e.yaxis.set_major_locator(ticker.LogLocator(numticks=6))
+        for ax in (self.ax_y, self.ax_f, self.ax_e):
+            ax.grid(True, lw=0.3, color="0.85")
+        self._marks: list = []
+
+    def fill(self, d, t_max: float | None = None):
+        samples = d.verification.samples
+        if samples is None:
+            msg = ("this derivation has no numerical samples (symbolic parameters without "
+                   "values); derive again with values={...} to draw the figure")
+            raise ExportError(msg)
+        for mark in self._marks:
+            mark.remove()
+        self._marks = []
+        units = d.problem.units
+        y_unit = units.unknown_display if units else ""
+        t_unit = units.time_display if units else ""
+        f_unit = units.forcing_si if units else ""
+        ys = display_factor(units.unknown_si, y_unit) if units else 1.0
+        ts = display_factor("s", t_unit) if units else 1.0
+        t = samples.times * ts
+        keep = t <= (t_max if t_max is not None else np.inf)
+        self.integrated.set_data(t[keep], samples.integrated[keep] * ys)
+        self.closed.set_data(t[keep], samples.closed_form[keep] * ys)
+        self.forcing.set_data(t[keep], samples.forcing[keep])
+        err = samples.difference * ys
+        floor = max(float(np.max(np.abs(samples.closed_form))) * ys * 1e-17, 1e-300)
+        self.error.set_data(t[keep], np.maximum(err[keep], floor))
+        for ax in (self.ax_y, self.ax_f, self.ax_e):
+            ax.relim()
+            ax.autoscale_view()
+        self.ax_y.set_ylabel(f"{d.unknown}(t)" + (f" [{y_unit}]" if y_unit else ""))
+        self.ax_f.set_ylabel("f(t)" + (f" [{f_unit}]" if f_unit else ""))
+        self.ax_e.set_ylabel("|difference|" + (f" [{y_unit}]" if y_unit else ""))
+        self.ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
+        self._marks.append(self.ax_y.legend(loc="best", fontsize=8, frameon=False))
+        for c, area in d.impulses:
+            self._marks.append(self.ax_f.annotate(
+                f"impulse {float(area):.4g}", (float(c) * ts, 0), fontsize=7, xytext=(2, 8),
+                textcoords="offset points"))
+            self._marks.append(self.ax_f.axvline(float(c) * ts, color="#8f3f1f", lw=0.8,
+                                                 ls="--"))
+        for ax in (self.ax_y, self.ax_f, self.ax_e):
+            for b in samples.breakpoints:
+                self._marks.append(ax.axvline(b * ts, color="0.5", lw=0.6, ls=":"))
+        status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
+        self.ax_y.set_title(f"{d.problem.text}  —  {status}", fontsize=9, loc="left")
+        return self.fig
+
+
 def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
                         height: float = 6.5):
     """A matplotlib Figure of the derivation's verification samples."""
-    samples = d.verification.samples
-    if samples is None:
-        msg = ("this derivation has no numerical samples (symbolic parameters without values); "
-               "derive again with values={...} to draw the figure")
-        raise ExportError(msg)
-    Figure = _figure_class()
-    units = d.problem.units
-    y_unit = units.unknown_display if units else ""
-    t_unit = units.time_display if units else ""
-    f_unit = units.forcing_si if units else ""
-    ys = display_factor(units.unknown_si, y_unit) if units else 1.0
-    ts = display_factor("s", t_unit) if units else 1.0
-    t = samples.times * ts
-    keep = t <= (t_max if t_max is not None else np.inf)
-    name = d.unknown
+    return _Panels(width, height).fill(d, t_max)
 
-    fig = Figure(figsize=(width, height))
-    fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
-    ax_y, ax_f, ax_e = fig.subplots(3, 1, sharex=True, height_ratios=[3, 1.3, 1.3])
-    ax_y.plot(t[keep], samples.integrated[keep] * ys, color="0.65", lw=3.2,
-              label="numerical integration (solve_ivp)")
-    ax_y.plot(t[keep], samples.closed_form[keep] * ys, color="#1f3f8f", lw=1.2,
-              label="closed form (this derivation)")
-    ax_y.set_ylabel(f"{name}(t)" + (f" [{y_unit}]" if y_unit else ""))
-    ax_y.legend(loc="best", fontsize=8, frameon=False)
-    ax_f.plot(t[keep], samples.forcing[keep], color="#8f3f1f", lw=1.2)
-    for c, area in d.impulses:
-        ax_f.annotate(f"impulse {float(area):.4g}", (float(c) * ts, 0), fontsize=7,
-                      xytext=(2, 8), textcoords="offset points")
-        ax_f.axvline(float(c) * ts, color="#8f3f1f", lw=0.8, ls="--")
-    ax_f.set_ylabel("f(t)" + (f" [{f_unit}]" if f_unit else ""))
-    err = samples.difference * ys
-    floor = max(float(np.max(np.abs(samples.closed_form))) * ys * 1e-17, 1e-300)
-    ax_e.semilogy(t[keep], np.maximum(err[keep], floor), color="0.2", lw=0.8)
-    ax_e.set_ylabel("|difference|" + (f" [{y_unit}]" if y_unit else ""))
-    ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
-    for ax in (ax_y, ax_f, ax_e):
-        for b in samples.breakpoints:
-            ax.axvline(b * ts, color="0.5", lw=0.6, ls=":")
-        ax.grid(True, lw=0.3, color="0.85")
-    status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
-    ax_y.set_title(f"{d.problem.text}  —  {status}", fontsize=9, loc="left")
-    return fig
+
+class LiveFigure:
+    """The verification figure for a view that redraws on every change: one matplotlib
+    figure, filled again with each derivation (same look and bytes as :func:`figure_svg`)."""
+
+    def __init__(self, width: float = 7.5, height: float = 6.5):
+        self._panels = None
+        self._size = (width, height)
+
+    def svg(self, d, t_max: float | None = None) -> str:
+        if self._panels is None:
+            self._panels = _Panels(*self._size)
+        return _svg_text(self._panels.fill(d, t_max))
 
 
 _METADATA = {"svg": {"Date": None}, "pdf": {"CreationDate": None, "ModDate": None},
@@ -83,13 +135,17 @@ def _write(fig, target, fmt: str) -> None:
         fig.savefig(target, format=fmt, metadata=_METADATA[fmt], dpi=150)
 
 
-def figure_svg(d, **settings) -> str:
-    """The figure as an inline SVG element (no XML prolog), deterministic."""
+def _svg_text(fig) -> str:
     import io
     buffer = io.StringIO()
-    _write(verification_figure(d, **settings), buffer, "svg")
+    _write(fig, buffer, "svg")
     text = buffer.getvalue()
     return text[text.index("<svg"):]
+
+
+def figure_svg(d, **settings) -> str:
+    """The figure as an inline SVG element (no XML prolog), deterministic."""
+    return _svg_text(verification_figure(d, **settings))
 
 
 def save_figure(d, path, **settings) -> Path:

@@ -12,6 +12,8 @@ from __future__ import annotations
 import hashlib
 import html
 
+import sympy as sp
+
 from ..core.derivation import Derivation
 from ..core.steps import Step
 from ..core.verify import Check, Verification
@@ -63,8 +65,35 @@ def _esc(text: str) -> str:
 def content_id(d: Derivation) -> str:
     """A short id derived from the derivation's content: the same input, the same id."""
     key = "\n".join([d.problem.text, repr(d.problem.coefficients), repr(d.problem.forcing),
-                     repr(d.problem.initial_values), repr(d.problem.parameters), repr(d.solution)])
+                     repr(d.problem.initial_values), repr(d.problem.parameters), repr(d.solution)]
+                    + ([repr(d.values)] if d.values else []))
     return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
+
+
+_MATH_CACHE: dict = {}
+
+
+def _once(obj, kind: str, digits: int, make) -> str:
+    """LaTeX printed once per object: an explorer shows the same steps and the same symbolic
+    solution with new numbers on every change. An entry keeps its object, so the id is not
+    reused while it is cached."""
+    key = (id(obj), kind, digits)
+    hit = _MATH_CACHE.get(key)
+    if hit is not None and hit[0] is obj:
+        return hit[1]
+    tex = make()
+    if len(_MATH_CACHE) > 4096:
+        _MATH_CACHE.clear()
+    _MATH_CACHE[key] = (obj, tex)
+    return tex
+
+
+def _step_math(step: Step, digits: int) -> str:
+    return _once(step, "step", digits, lambda: LatexRenderer(float_digits=digits).math(step))
+
+
+def _expr_latex(expr, digits: int) -> str:
+    return _once(expr, "expr", digits, lambda: latex_expr(expr, float_digits=digits))
 
 
 class HtmlRenderer(Renderer):
@@ -78,8 +107,12 @@ class HtmlRenderer(Renderer):
     def _math(self, tex: str, display: bool = True) -> str:
         return _esc(f"$${tex}$$" if display else f"${tex}$")
 
+    def __init__(self, figure_source=None, **settings):
+        super().__init__(**settings)
+        self._figure_source = figure_source
+
     def _render_Step(self, step: Step, number: str = "", ids: str = "") -> str:
-        tex = LatexRenderer(float_digits=self.settings["float_digits"]).math(step)
+        tex = _step_math(step, self.settings["float_digits"])
         rule = f'<span class="dp-rule">{_esc(step.rule.name)}</span>' if step.rule else ""
         parts = [f'<details class="dp-step" id="{ids}"{" open" if self.settings["open"] else ""}>',
                  f'<summary><b>{_esc(number)} {_esc(step.title)}</b>{rule}</summary>']
@@ -132,8 +165,11 @@ class HtmlRenderer(Renderer):
         if not self.settings["figure"] or d.verification.samples is None:
             return ""
         try:
-            from .figure import figure_svg
-            svg = figure_svg(d)
+            if self._figure_source is not None:
+                svg = self._figure_source.svg(d)
+            else:
+                from .figure import figure_svg
+                svg = figure_svg(d)
         except ImportError as exc:  # MissingExtraError: say so in place of the figure
             return f"<p>{_esc(exc)}</p>"
         return f"<figure>{svg}<figcaption>Verification figure.</figcaption></figure>"
@@ -145,13 +181,26 @@ class HtmlRenderer(Renderer):
         if self.settings["style"]:
             out.append(f"<style>{STYLE}</style>")
         out.append('<div class="dp-head">')
-        out.append(f'<div class="dp-label">Equation</div>'
-                   f'<div class="dp-math">{self._math(latex_expr(d.problem.equation))}</div>')
-        ics = ", \\quad ".join(f"{latex_expr(line.lhs)} = {latex_expr(line.rhs)}"
+        digits = self.settings["float_digits"]
+        equation = _once(d.problem, "equation", digits,
+                         lambda: latex_expr(d.problem.equation, float_digits=digits))
+        out.append(f'<div class="dp-label">Equation</div><div class="dp-math">'
+                   f'{self._math(equation)}</div>')
+        ics = ", \\quad ".join(f"{_expr_latex(line.lhs, digits)} = "
+                               f"{_expr_latex(line.rhs, digits)}"
                                for line in d.steps[0].lines[1:1 + d.problem.order])
         out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-        out.append(f'<div class="dp-label">Solution</div>'
-                   f'<div class="dp-math">{self._math(y + "(t) = " + latex_expr(d.solution))}</div>')
+        out.append(f'<div class="dp-label">Solution</div><div class="dp-math">'
+                   f'{self._math(y + "(t) = " + _expr_latex(d.solution, digits))}</div>')
+        if d.values:
+            given = ", \\quad ".join(
+                f"{latex_expr(sp.Symbol(name))} = {format_value(v, self.settings['float_digits'])}"
+                + (f"\\ \\text{{{unit}}}" if unit else "")
+                for name, v, unit in d.value_table())
+            out.append('<div class="dp-label">With the values used for the checks and results'
+                       f'</div><div class="dp-math">{self._math(given)}</div>'
+                       f'<div class="dp-math">'
+                       f'{self._math(y + "(t) = " + latex_expr(d.evaluated_solution))}</div>')
         out.append(f"<div>{self.badge(d.verification)}</div></div>")
         if self.settings["tools"]:
             out.append('<div class="dp-tools">'
@@ -173,6 +222,10 @@ class HtmlRenderer(Renderer):
         return "\n".join(part for part in out if part)
 
 
-def to_html(obj, **settings) -> str:
-    """HTML fragment of a Derivation (or a Step, Verification, Check)."""
-    return HtmlRenderer(**settings).render(obj)
+def to_html(obj, figure_source=None, **settings) -> str:
+    """HTML fragment of a Derivation (or a Step, Verification, Check).
+
+    ``figure_source`` draws the figure instead of a fresh matplotlib figure: an object with
+    ``svg(derivation)``, such as :class:`derivpad.render.figure.LiveFigure`.
+    """
+    return HtmlRenderer(figure_source, **settings).render(obj)

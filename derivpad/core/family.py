@@ -1,0 +1,185 @@
+"""One derivation for many values: derive in symbols once, put numbers in on each change.
+
+A :class:`DerivationFamily` keeps the parameters that vary symbolic. It derives the problem in
+symbols once per form the answer can take (a quadratic factor's roots complex or real), checks
+the derivation once, and compiles it once; :meth:`DerivationFamily.at` then re-runs only what
+depends on the numbers — the independent checks and the engineering results — on the same
+steps. Where the numbers leave the form's stated conditions (damping through critical, a
+switching time past another), the family re-derives in the other form and says so; where no
+symbolic form holds (exactly critical damping) or the quick route does not verify, it derives
+with the numbers, as :func:`derivpad.derive` would.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import sympy as sp
+
+from ..errors import DerivpadError, ParameterError
+from .derivation import Derivation
+from .engine import (check_options, compile_model, complete, derive, engine_check,
+                     parameter_values, solve_stages)
+from .problem import make_problem
+
+__all__ = ["DerivationFamily", "FamilyMember", "what_changed"]
+
+_REGIMES = ("underdamped", "overdamped")
+_QUANTITY = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+@dataclass(frozen=True)
+class FamilyMember:
+    """The derivation for one set of values, and how it was obtained (one sentence)."""
+
+    derivation: Derivation
+    how: str
+    rederived: bool
+
+
+def split_quantity(value, name: str) -> tuple[float, str]:
+    """A starting value as (number, unit text): 480, "kN/m" for "480 kN/m"."""
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value), ""
+    m = _QUANTITY.match(str(value))
+    if not m:
+        raise ParameterError(f"{name}: a varied parameter needs a number (with an optional "
+                             f"unit) to start from, not {value!r}", name)
+    return float(m.group(1)), m.group(2)
+
+
+class DerivationFamily:
+    """``derive(equation, ics, params)`` for many values of the parameters named in ``vary``.
+
+    Each varied parameter needs a starting value in ``params`` (a number, or a number with a
+    unit, which is then the unit its values are given in). Other options as for ``derive()``.
+    """
+
+    def __init__(self, equation, ics=None, params=None, *, vary, unknown=None, units=None,
+                 regime: str = "underdamped", tolerances=None, window=None):
+        params = dict(params or {})
+        self.vary = tuple(vary)
+        if not self.vary:
+            raise ParameterError("a derivation family needs at least one parameter to vary",
+                                 "vary")
+        units = dict(units or {})
+        self.units_of: dict[str, str] = {}
+        start: dict[str, float] = {}
+        for name in self.vary:
+            if name not in params:
+                raise ParameterError(f"{name!r} is to vary but has no starting value in params",
+                                     name)
+            number, unit = split_quantity(params[name], name)
+            unit = unit or units.get(name, "")
+            self.units_of[name] = unit
+            start[name] = number
+            if unit:
+                units[name] = unit
+        self._args = dict(equation=equation, ics=ics, unknown=unknown, units=units or None,
+                          tolerances=tolerances, window=window)
+        self._params = params
+        self._tolerances = check_options("all", tolerances)
+        fixed = {k: v for k, v in params.items() if k not in self.vary}
+        self.problem = make_problem(equation, ics, fixed, unknown, units or None)
+        stray = [n for n in self.vary if n not in self.problem.symbols]
+        if stray:
+            raise ParameterError(f"{stray[0]!r} does not appear in the problem once the other "
+                                 "values are in; nothing would change", stray[0])
+        self._regime = regime if regime in _REGIMES else _REGIMES[0]
+        self._forms: dict = {}
+        self._compiled: dict = {}
+        self.start = start
+        # symbolic switching times are ordered as at the starting values
+        self._order = parameter_values(self.problem, start)
+
+    # -- the values ----------------------------------------------------------------------
+    def params_for(self, values: dict) -> dict:
+        """The full params= mapping for ``values`` of the varied parameters (with units)."""
+        out = dict(self._params)
+        for name in self.vary:
+            v = float(values[name])
+            unit = self.units_of[name]
+            out[name] = f"{v!r} {unit}" if unit else v
+        return out
+
+    def _exact(self, values: dict) -> dict:
+        missing = [n for n in self.vary if n not in values]
+        if missing:
+            raise ParameterError(f"no value for {missing[0]!r}; give every varied parameter "
+                                 f"({', '.join(self.vary)})", missing[0])
+        return parameter_values(self.problem, {n: float(values[n]) for n in self.vary})
+
+    # -- the forms -----------------------------------------------------------------------
+    def _stages(self, regime: str):
+        """The symbolic stages of one form (None where the problem has no such form)."""
+        if regime not in self._forms:
+            try:
+                self._forms[regime] = solve_stages(self.problem, regime, self._order)
+            except DerivpadError:  # e.g. roots of a symbolic cubic: derive with numbers
+                self._forms[regime] = None
+        return self._forms[regime]
+
+    def _derived_in_symbols(self, regime: str, value_map: dict):
+        """The form's derivation at these values, or None where the form does not hold or
+        does not verify there."""
+        stages = self._stages(regime)
+        if stages is None or not _holds(stages, value_map):
+            return None
+        if regime not in self._compiled:  # checked and compiled once, at values it holds for
+            own = engine_check(self.problem, stages, self._tolerances.get("back_substitution"),
+                               value_map)
+            self._compiled[regime] = (own, compile_model(self.problem, stages, self.vary))
+        own, model = self._compiled[regime]
+        d = complete(self.problem, stages, own, value_map, tolerances=self._tolerances,
+                     window=self._args["window"], model=model)
+        return d if d.verification.passed else None
+
+    def at(self, values: dict) -> FamilyMember:
+        """The derivation for ``values`` ({name: number in the parameter's unit})."""
+        value_map = self._exact(values)
+        first = not self._compiled
+        d = self._derived_in_symbols(self._regime, value_map)
+        if d is not None:
+            how = (f"derived in symbols for {', '.join(self.vary)}; values put in" if first
+                   else "values put into the symbolic derivation (no re-derivation)")
+            return FamilyMember(d, how, first)
+        for regime in _REGIMES:
+            if regime == self._regime:
+                continue
+            d = self._derived_in_symbols(regime, value_map)
+            if d is not None:
+                old, self._regime = self._regime, regime
+                how = (f"derived in symbols for {', '.join(self.vary)} ({regime} form)" if first
+                       else f"these values leave the {old} form: re-derived in symbols for "
+                            f"the {regime} form")
+                return FamilyMember(d, how, True)
+        d = derive(params=self.params_for(values), regime=self._regime, **self._args)
+        return FamilyMember(d, "no symbolic form holds at these values (e.g. exactly on a "
+                               "regime boundary): derived with the numbers", True)
+
+
+def _holds(stages, value_map: dict) -> bool:
+    """The form's stated conditions hold at the values, and its switching times keep their
+    order (the intervals were assembled in that order)."""
+    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
+    for c in stages.conditions:
+        if c.subs(subs) is not sp.true:
+            return False
+    times = [(sp.Integer(0) + b).subs(subs) for b in stages.breakpoints]
+    if any(not t.is_number for t in times):
+        return False
+    nums = [float(t) for t in times]
+    return all(a < b for a, b in zip(nums, nums[1:])) and all(t > 0 for t in nums)
+
+
+def what_changed(before: Derivation | None, after: Derivation) -> list[str]:
+    """Regime and stability changes between two derivations, as short sentences."""
+    if before is None or not before.results or not after.results:
+        return []
+    out = []
+    for key, label in (("regime", "regime"), ("stability", "stability")):
+        old, new = before.results.get(key), after.results.get(key)
+        if old is not None and new is not None and old.magnitude != new.magnitude:
+            out.append(f"{label} changed: {old.magnitude} → {new.magnitude}")
+    return out
