@@ -16,6 +16,26 @@ EXPLORER_CELL = (
     "view")
 
 
+CONTRAST_JS = """() => {
+  const rgb = s => s.match(/\\d+(\\.\\d+)?/g).slice(0, 3).map(Number);
+  const lum = c => { const v = c.map(x => { x /= 255;
+      return x <= 0.03928 ? x / 12.92 : Math.pow((x + 0.055) / 1.055, 2.4); });
+    return 0.2126 * v[0] + 0.7152 * v[1] + 0.0722 * v[2]; };
+  const ratio = (a, b) => { const [x, y] = [lum(rgb(a)), lum(rgb(b))].sort((p, q) => q - p);
+    return (x + 0.05) / (y + 0.05); };
+  const back = el => { for (; el; el = el.parentElement) {
+      const c = getComputedStyle(el).backgroundColor;
+      if (c && !c.startsWith('rgba(0, 0, 0, 0)') && c !== 'transparent') return c; }
+    return 'rgb(255, 255, 255)'; };
+  const pick = sel => document.querySelector(sel);
+  const text = pick('.derivpad .dp-head'), rule = pick('.derivpad .dp-rule'),
+        badge = pick('.derivpad .dp-badge');
+  return {text: ratio(getComputedStyle(text).color, back(text)),
+          rule: ratio(getComputedStyle(rule).color, back(rule)),
+          badge: ratio(getComputedStyle(badge).color, back(badge))};
+}"""
+
+
 def _notebook(root: Path) -> str:
     nb = nbformat.read(EXAMPLES / "relay_coil_current.ipynb", as_version=4)
     for cell in nb.cells:
@@ -62,12 +82,32 @@ def test_notebook_runs_live_with_collapsible_typeset_steps_and_a_working_explore
     # The explorer's control exists; changing it re-derives the displayed derivation.
     entry = page.locator(".widget-text input").last
     before = page.locator(".widget-label").all_inner_texts()
+    shown = page.locator(".widget-htmlmath").last.inner_html()
     entry.fill("1200")
     entry.press("Enter")
     page.wait_for_function(
         "Array.from(document.querySelectorAll('.widget-label'))"
-        ".some(e => e.innerText.includes('re-derived for k = 1200'))", timeout=60000)
+        ".some(e => e.innerText.includes('k = 1200: values put into the symbolic derivation'))",
+        timeout=60000)
     assert page.locator(".widget-label").all_inner_texts() != before
-    page.locator(".widget-slider").last.scroll_into_view_if_needed()
+    page.wait_for_function(  # the redrawn derivation arrives after the status line
+        "old => { const all = document.querySelectorAll('.widget-htmlmath');"
+        " return all[all.length - 1].innerHTML !== old; }", arg=shown, timeout=60000)
+    page.locator(".widget-htmlmath .dp-head").last.scroll_into_view_if_needed()
     screenshot(page, "jupyterlab-explorer")
+
+    # Dark theme, switched through the Settings menu: the derivation's text and badge keep
+    # enough contrast on the dark background (WCAG 2.1 §1.4.3: 4.5:1 for text, 3:1 for large
+    # or bold text and graphics).
+    page.click("li.lm-MenuBar-item:has-text('Settings')")
+    page.hover("li.lm-Menu-item:has-text('Theme')")
+    page.click("li.lm-Menu-item:has-text('JupyterLab Dark')")
+    page.wait_for_function("document.body.dataset.jpThemeLight === 'false'", timeout=30000)
+    page.wait_for_timeout(500)
+    page.locator(".derivpad .dp-head").first.scroll_into_view_if_needed()
+    screenshot(page, "jupyterlab-dark")
+    ratios = page.evaluate(CONTRAST_JS)
+    assert ratios["text"] >= 4.5, ratios
+    assert ratios["rule"] >= 4.5, ratios
+    assert ratios["badge"] >= 3.0, ratios
     assert not [u for u in page.blocked if "127.0.0.1" in u]
