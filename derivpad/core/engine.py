@@ -38,13 +38,16 @@ __all__ = ["Stages", "check_options", "compile_model", "complete", "derive", "de
 
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
            values=None, regime: str = "underdamped", tolerances=None,
-           window: float | None = None, checks: str = "all") -> Derivation:
-    """Solve a linear constant-coefficient ODE by the Laplace transform, step by step.
+           window: float | None = None, checks: str = "all", derived=None):
+    """Solve a linear constant-coefficient ODE (or a coupled system) by the Laplace
+    transform, step by step.
 
     Parameters
     ----------
-    equation : str or sympy.Eq
-        The ODE, e.g. ``"m*x'' + c*x' + k*x = F0*u(t - t1)"``; see docs/input-syntax.md.
+    equation : str, sympy.Eq, or a list of them
+        The ODE, e.g. ``"m*x'' + c*x' + k*x = F0*u(t - t1)"``; see docs/input-syntax.md. A
+        list is a coupled system (one equation per unknown; see docs/systems.md): the result
+        is then a :class:`~derivpad.core.system_derivation.SystemDerivation`.
     ics : mapping
         Initial values at 0⁻, one for each order below the ODE's: ``{"x(0)": 0, "x'(0)": 0}``.
     params : mapping, optional
@@ -69,6 +72,8 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     checks : {"all", "engine"}
         "all" runs the independent checks and the results too; "engine" only the engine's own
         back-substitution (for fast exploration; the derivation then counts as not verified).
+    derived : mapping, optional
+        For a system: named quantities to report, ``{"stroke": "x1 - x2"}``.
 
     Returns
     -------
@@ -87,6 +92,17 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     >>> d.solution
     sin(3*t)/3
     """
+    if isinstance(equation, (list, tuple)):
+        if unknown is not None:
+            raise ParameterError("unknown= is for a single equation; a system's unknowns are "
+                                 "the names written with primes", "unknown")
+        from .system_engine import derive_system
+        return derive_system(equation, ics, params, units=units, values=values,
+                             derived=derived, regime=regime, tolerances=tolerances,
+                             window=window, checks=checks)
+    if derived is not None:
+        raise ParameterError("derived= is for a system of equations; for one equation, "
+                             "evaluate the quantity from d.solution", "derived")
     problem = make_problem(equation, ics, params, unknown, units)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks)

@@ -30,7 +30,7 @@ import sympy as sp
 
 from ..errors import ParseError, UnknownNameError, UnsafeInputError
 
-__all__ = ["ParsedEquation", "Term", "parse_equation", "parse_value", "T", "S",
+__all__ = ["ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
            "FUNCTIONS", "RESERVED_NAMES"]
 
 T = sp.Symbol("t", real=True)
@@ -179,12 +179,30 @@ def _find_unknown(tokens: list[_Token], text: str) -> str | None:
     return next(iter(found), None)
 
 
+def primed_names(text: str) -> list[str]:
+    """The names written with primes or an order y^(n) in ``text``, in order of appearance
+    (the unknowns of one equation of a system)."""
+    tokens = _tokenize(text)
+    out: list[str] = []
+    for i, tok in enumerate(tokens):
+        if tok.kind != "name" or tok.text in out:
+            continue
+        nxt = tokens[i + 1]
+        if nxt.kind == "prime" or (nxt.text == "^" and tokens[i + 2].text == "(" and
+                                   tokens[i + 3].kind == "number" and tokens[i + 4].text == ")"):
+            out.append(tok.text)
+    return out
+
+
 class _Parser:
-    def __init__(self, text: str, tokens: list[_Token], unknown: str | None):
+    def __init__(self, text: str, tokens: list[_Token], unknown: str | None,
+                 unknowns: tuple[str, ...] = ()):
         self.text = text
         self.tokens = tokens
         self.i = 0
         self.unknown = unknown
+        self.funcs = {name: sp.Function(name)(T) for name in (unknowns or
+                                                             ((unknown,) if unknown else ()))}
         self.func = sp.Function(unknown)(T) if unknown else None
         self.names: list[str] = []
         self.symbols: dict[str, sp.Symbol] = {}
@@ -290,10 +308,12 @@ class _Parser:
 
     def name(self, tok: _Token) -> sp.Expr:
         name = tok.text
-        if name == self.unknown:
-            return self.unknown_term(tok)
+        if name in self.funcs:
+            return self.unknown_term(tok, self.funcs[name])
         if self.tok.kind == "prime":
-            raise self.error(f"only the unknown {self.unknown!r} may carry primes", tok)
+            which = (f"the unknown {self.unknown!r}" if len(self.funcs) <= 1 else
+                     "the unknowns (" + ", ".join(self.funcs) + ")")
+            raise self.error(f"only {which} may carry primes", tok)
         if self.tok.text == "(":
             return self.call(tok)
         if name in FUNCTIONS:
@@ -312,7 +332,7 @@ class _Parser:
             self.names.append(name)
         return self.symbols[name]
 
-    def unknown_term(self, tok: _Token) -> sp.Expr:
+    def unknown_term(self, tok: _Token, func) -> sp.Expr:
         order = 0
         while self.tok.kind == "prime":
             self.advance()
@@ -332,7 +352,7 @@ class _Parser:
                     f"{tok.text}(t - c) makes a delay equation, which this method does not solve",
                     self.text, open_tok.start, 1)
             self.i += 2
-        return self.func.diff(T, order) if order else self.func
+        return func.diff(T, order) if order else func
 
     def call(self, tok: _Token) -> sp.Expr:
         name = tok.text
@@ -350,7 +370,8 @@ class _Parser:
         return FUNCTIONS[name](arg)
 
 
-def parse_equation(text: str, unknown: str | None = None) -> ParsedEquation:
+def parse_equation(text: str, unknown: str | None = None,
+                   unknowns: tuple[str, ...] = ()) -> ParsedEquation:
     """Parse one equation ``lhs = rhs`` into SymPy objects without evaluating any text.
 
     Parameters
@@ -359,6 +380,9 @@ def parse_equation(text: str, unknown: str | None = None) -> ParsedEquation:
         The equation, e.g. ``"m*x'' + c*x' + k*x = F0*u(t - t1)"``.
     unknown : str, optional
         The unknown's name, when no name carries primes (or to choose one).
+    unknowns : tuple of str, optional
+        For one equation of a coupled system: every unknown's name (any of them may carry
+        primes); ``unknown`` is then the first.
 
     Returns
     -------
@@ -376,7 +400,9 @@ def parse_equation(text: str, unknown: str | None = None) -> ParsedEquation:
     if not text.strip():
         raise ParseError("the equation is empty; write it as, e.g., y'' + 4*y = u(t - 1)")
     tokens = _tokenize(text)
-    if unknown is None:
+    if unknowns:
+        unknown = unknowns[0]
+    elif unknown is None:
         unknown = _find_unknown(tokens, text)
         if unknown is None:
             raise ParseError("no derivative of an unknown found; write derivatives with primes "
@@ -392,7 +418,7 @@ def parse_equation(text: str, unknown: str | None = None) -> ParsedEquation:
                          len(text) - 1)
     if len(equals) > 1:
         raise ParseError("the equation has more than one '='", text, equals[1].start)
-    parser = _Parser(text, tokens, unknown)
+    parser = _Parser(text, tokens, unknown, tuple(unknowns))
     terms: list[Term] = []
     lhs = parser.expr("lhs", terms)
     parser.expect("=", "'=' or an operator")
@@ -421,6 +447,24 @@ def parse_value(text: str, what: str = "value") -> sp.Expr:
         pos = next(tok.start for tok in tokens if tok.kind == "prime")
         raise ParseError(f"the {what} may not contain derivatives", text, pos)
     parser = _Parser(text, tokens, None)
+    value = parser.expr()
+    if parser.tok.kind != "end":
+        raise parser.error(f"unexpected {parser.tok.text!r} in the {what}")
+    return value
+
+
+def parse_expression(text: str, unknowns: tuple[str, ...], what: str = "expression") -> sp.Expr:
+    """Parse an expression of the unknowns y_j(t) (primes allowed), parameters and t, such as
+    a derived quantity ``"k2*(x2 - x1)"``; the same whitelisting grammar, never evaluated."""
+    if not isinstance(text, str):
+        raise ParseError(f"the {what} must be text, not {type(text).__name__}")
+    if not text.strip():
+        raise ParseError(f"the {what} is empty")
+    tokens = _tokenize(text)
+    if any(tok.text == "=" for tok in tokens):
+        pos = next(tok.start for tok in tokens if tok.text == "=")
+        raise ParseError(f"the {what} may not contain '='", text, pos)
+    parser = _Parser(text, tokens, unknowns[0] if unknowns else None, tuple(unknowns))
     value = parser.expr()
     if parser.tok.kind != "end":
         raise parser.error(f"unexpected {parser.tok.text!r} in the {what}")

@@ -21,7 +21,7 @@ from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
 from .units import (UnitContext, dimension_of, check_homogeneity, dimension_text, display_unit_for,
                     read_quantity, registry)
 
-__all__ = ["Problem", "make_problem", "to_exact", "derivative_name"]
+__all__ = ["Problem", "classify_terms", "derivative_name", "make_problem", "to_exact"]
 
 
 def derivative_name(unknown: str, order: int) -> str:
@@ -169,37 +169,53 @@ def _sympy_ic_order(key: sp.Basic, unknown: str) -> int:
 
 def _classify(terms: tuple[Term, ...], text: str, y: sp.Expr):
     """Sort each top-level term into a_k y^(k) or forcing; refuse nonlinear or t-dependent ones."""
-    dummies: dict[int, sp.Symbol] = {}
-    coeffs: dict[int, sp.Expr] = {}
+    coeffs, forcing = classify_terms(terms, text, (y,))
+    return {k: v for (_, k), v in coeffs.items()}, forcing
+
+
+def classify_terms(terms: tuple[Term, ...], text: str, ys):
+    """Sort each top-level term into a_jk y_j^(k) or forcing, for the unknowns ``ys``
+    (applied functions y_j(t)); refuse terms nonlinear in the unknowns (products of two
+    unknowns included) or with coefficients varying in t.
+
+    Returns ({(j, k): a_jk}, forcing) with the forcing moved to the right side.
+    """
+    dummies: dict = {}
+    coeffs: dict = {}
     forcing = sp.Integer(0)
+    names = ", ".join(str(y.func) for y in ys)
     for term in terms:
         sign = 1 if term.side == "lhs" else -1
         expr = term.expr
-        orders = sorted({d.derivative_count for d in expr.atoms(sp.Derivative) if d.expr == y}
-                        | ({0} if expr.has(y) else set()), reverse=True)
         repl = {}
-        for k in orders:
-            dummies.setdefault(k, sp.Dummy(f"D{k}"))
-            repl[y.diff(T, k) if k else y] = dummies[k]
+        found = []
+        for j, y in enumerate(ys):
+            orders = sorted({d.derivative_count for d in expr.atoms(sp.Derivative)
+                             if d.expr == y} | ({0} if expr.has(y) else set()), reverse=True)
+            for k in orders:
+                dummies.setdefault((j, k), sp.Dummy(f"D{j}_{k}"))
+                repl[y.diff(T, k) if k else y] = dummies[(j, k)]
+                found.append((j, k))
         flat = expr.subs(repl) if repl else expr
         fragment = text[term.start:term.end] if text else str(expr)
-        if flat.has(y):
-            raise NonlinearTermError(f"the term {fragment!r} is not linear in {y.func}",
+        if any(flat.has(y) for y in ys):
+            raise NonlinearTermError(f"the term {fragment!r} is not linear in {names}",
                                      fragment, text, term.start, term.end - term.start)
-        present = [dummies[k] for k in orders]
-        for k, d in zip(orders, present):
-            a = sp.expand(sp.diff(flat, d))
+        present = [dummies[key] for key in found]
+        for key in found:
+            a = sp.expand(sp.diff(flat, dummies[key]))
             if a.has(*present):
                 raise NonlinearTermError(
-                    f"the term {fragment!r} is nonlinear in the unknown: products, powers and "
-                    "functions of the unknown cannot be solved by the Laplace transform",
+                    f"the term {fragment!r} is nonlinear in the unknown"
+                    + ("s" if len(ys) > 1 else "") + ": products, powers and functions of "
+                    "the unknowns cannot be solved by the Laplace transform",
                     fragment, text, term.start, term.end - term.start)
             if a.has(T):
                 raise VariableCoefficientError(
                     f"the term {fragment!r} has a coefficient that varies with t; the Laplace "
                     "method here needs constant coefficients", fragment, text, term.start,
                     term.end - term.start)
-            coeffs[k] = coeffs.get(k, 0) + sign * a
+            coeffs[key] = coeffs.get(key, 0) + sign * a
         rest = flat.subs({d: 0 for d in present}) if present else flat
         forcing -= sign * rest
     return coeffs, forcing

@@ -45,13 +45,16 @@ class Result:
         return getattr(self.value, "magnitude", self.value)
 
     def to_dict(self) -> dict:
-        mag = self.magnitude
-        if isinstance(mag, (list, tuple)):
-            mag = [_json_number(v) for v in mag]
-        else:
-            mag = _json_number(mag)
+        mag = _json_value(self.magnitude)
         return {"key": self.key, "label": self.label, "value": mag, "unit": self.unit,
                 "formula": self.formula, "source": self.source}
+
+
+def _json_value(v):
+    """Numbers, tuples of numbers and tuples of tuples (mode shapes) as JSON values."""
+    if isinstance(v, (list, tuple)):
+        return [_json_value(x) for x in v]
+    return _json_number(v)
 
 
 def _json_number(v):

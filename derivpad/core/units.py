@@ -189,10 +189,11 @@ def dimension_of(expr, dims: dict, unknown: str, where: str):
         return one
     if isinstance(expr, sp.Symbol):
         return dims.get(expr.name, one)
-    if isinstance(expr, sp.core.function.AppliedUndef):
-        return dims[unknown]
+    if isinstance(expr, sp.core.function.AppliedUndef):  # an unknown y(t) (of a system too)
+        return dims.get(expr.func.__name__, dims.get(unknown))
     if isinstance(expr, sp.Derivative):
-        return dims[unknown] / dims["t"] ** expr.derivative_count
+        return dims.get(expr.expr.func.__name__, dims.get(unknown)) / \
+            dims["t"] ** expr.derivative_count
     if isinstance(expr, sp.Add):
         # A bare number in a sum takes the sum's dimension: numbers written in the equation
         # are in the SI unit of their place (u(t - 0.1) means 0.1 s).

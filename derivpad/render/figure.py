@@ -108,7 +108,58 @@ class _Panels:
 def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
                         height: float = 6.5):
     """A matplotlib Figure of the derivation's verification samples."""
+    if isinstance(getattr(d.verification.samples, "closed_form", None), dict):
+        return _system_figure(d, t_max, width, height)
     return _Panels(width, height).fill(d, t_max)
+
+
+_COLOURS = ("#1f3f8f", "#8f3f1f", "#2e7d4f", "#6f2f8f", "#8f7f1f", "#1f7f8f")
+
+
+def _system_figure(d, t_max, width, height):
+    """A system's figure: every unknown's closed form over its integration, each equation's
+    forcing, and each unknown's difference on a log axis (SI units)."""
+    samples = d.verification.samples
+    ticker = _ticker()
+    fig = _figure_class()(figsize=(width, height))
+    fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
+    ax_y, ax_f, ax_e = fig.subplots(3, 1, sharex=True, height_ratios=[3, 1.3, 1.3])
+    ctx0 = d.problem.unit_context(d.unknowns[0]) if d.problem.units else None
+    t_unit = ctx0.time_display if ctx0 else ""
+    ts = display_factor("s", t_unit) if ctx0 else 1.0
+    t = samples.times * ts
+    keep = t <= (t_max if t_max is not None else np.inf)
+    for i, u in enumerate(d.unknowns):
+        colour = _COLOURS[i % len(_COLOURS)]
+        ax_y.plot(t[keep], samples.integrated[u][keep], color="0.7", lw=3.0)
+        ax_y.plot(t[keep], samples.closed_form[u][keep], color=colour, lw=1.2,
+                  label=f"{u} (closed form)")
+        floor = max(float(np.max(np.abs(samples.closed_form[u]))) * 1e-17, 1e-300)
+        ax_e.plot(t[keep], np.maximum(samples.difference(u)[keep], floor), color=colour, lw=0.8)
+    ax_y.plot([], [], color="0.7", lw=3.0, label="numerical integration (odeint)")
+    ax_y.legend(loc="best", fontsize=8, frameon=False)
+    units = sorted({d.problem.unit_context(u).unknown_si for u in d.unknowns}) if ctx0 else []
+    ax_y.set_ylabel("unknowns" + (f" [{', '.join(units)}]" if units else ""))
+    for i, (label, values) in enumerate(samples.forcing.items()):
+        if np.any(values != 0):
+            ax_f.plot(t[keep], values[keep], color=_COLOURS[i % len(_COLOURS)], lw=1.2,
+                      label=label)
+    if ax_f.lines:
+        ax_f.legend(loc="best", fontsize=7, frameon=False)
+    ax_f.set_ylabel("f_i(t)")
+    ax_e.set_yscale("log")
+    ax_e.yaxis.set_major_formatter(ticker.LogFormatter(labelOnlyBase=True))
+    ax_e.yaxis.set_minor_locator(ticker.NullLocator())
+    ax_e.yaxis.set_major_locator(ticker.LogLocator(numticks=6))
+    ax_e.set_ylabel("|difference|")
+    ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
+    for ax in (ax_y, ax_f, ax_e):
+        for b in samples.breakpoints:
+            ax.axvline(b * ts, color="0.5", lw=0.6, ls=":")
+        ax.grid(True, lw=0.3, color="0.85")
+    status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
+    ax_y.set_title(f"{len(d.unknowns)} coupled equations  —  {status}", fontsize=9, loc="left")
+    return fig
 
 
 class LiveFigure:
@@ -120,6 +171,8 @@ class LiveFigure:
         self._size = (width, height)
 
     def svg(self, d, t_max: float | None = None) -> str:
+        if isinstance(getattr(d.verification.samples, "closed_form", None), dict):
+            return figure_svg(d, t_max=t_max)  # a system: drawn afresh
         if self._panels is None:
             self._panels = _Panels(*self._size)
         return _svg_text(self._panels.fill(d, t_max))

@@ -62,8 +62,13 @@ def _esc(text: str) -> str:
     return html.escape(str(text), quote=True)
 
 
-def content_id(d: Derivation) -> str:
+def content_id(d) -> str:
     """A short id derived from the derivation's content: the same input, the same id."""
+    if not isinstance(d, Derivation):  # a system
+        key = "\n".join([d.problem.text, repr(d.problem.operators), repr(d.problem.forcings),
+                         repr(d.problem.initial_values), repr(d.problem.parameters),
+                         repr(sorted(d.solution.items())), repr(d.values)])
+        return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
     key = "\n".join([d.problem.text, repr(d.problem.coefficients), repr(d.problem.forcing),
                      repr(d.problem.initial_values), repr(d.problem.parameters), repr(d.solution)]
                     + ([repr(d.values)] if d.values else []))
@@ -220,6 +225,60 @@ class HtmlRenderer(Renderer):
         out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
         out.append("</div>")
         return "\n".join(part for part in out if part)
+
+
+_ALIGNED = "\\begin{aligned}%s\\end{aligned}"
+
+
+def _render_system(self, d) -> str:
+    """HTML of a SystemDerivation: the same layout, one line per equation and per unknown."""
+    did = content_id(d)
+    digits = self.settings["float_digits"]
+    p = d.problem
+    out = [f'<div class="derivpad" id="{did}">']
+    if self.settings["style"]:
+        out.append(f"<style>{STYLE}</style>")
+    out.append('<div class="dp-head">')
+    eqs = r" \\ ".join(f"{_expr_latex(p.lhs(i), digits)} &= {_expr_latex(p.forcings[i], digits)}"
+                        for i in range(len(p.unknowns)))
+    system = self._math(_ALIGNED % eqs)
+    out.append(f'<div class="dp-label">System</div><div class="dp-math">{system}</div>')
+    n_ic = sum(p.orders)
+    ic_lines = d.steps[0].lines[len(p.unknowns):len(p.unknowns) + n_ic]
+    ics = ", \\quad ".join(f"{_expr_latex(line.lhs, digits)} = {_expr_latex(line.rhs, digits)}"
+                           for line in ic_lines)
+    out.append(f'<div class="dp-math">{self._math(ics)}</div>')
+    sol = r" \\ ".join(f"{u}(t) &= {_expr_latex(d.solution[u], digits)}" for u in p.unknowns)
+    solution = self._math(_ALIGNED % sol)
+    out.append(f'<div class="dp-label">Solution</div><div class="dp-math">{solution}</div>')
+    if d.values:
+        given = ", \\quad ".join(
+            f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
+            + (f"\\ \\text{{{unit}}}" if unit else "") for name, v, unit in d.value_table())
+        out.append('<div class="dp-label">With the values used for the checks and results'
+                   f'</div><div class="dp-math">{self._math(given)}</div>')
+    out.append(f"<div>{self.badge(d.verification)}</div></div>")
+    if self.settings["tools"]:
+        out.append('<div class="dp-tools">'
+                   f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
+                   f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
+                   "</button></div>")
+    for i, step in enumerate(d.steps, 1):
+        out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
+    out.append('<div class="dp-label">Verification</div>')
+    out.append(self.render(d.verification))
+    out.append('<div class="dp-label">Engineering results</div>')
+    out.append(self.results(d.results))
+    out.append(self.figure(d))
+    if d.assumptions:
+        out.append('<div class="dp-label">Assumptions</div><ul>'
+                   + "".join(f"<li>{_esc(a)}</li>" for a in d.assumptions) + "</ul>")
+    out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
+    out.append("</div>")
+    return "\n".join(part for part in out if part)
+
+
+HtmlRenderer._render_SystemDerivation = _render_system
 
 
 def to_html(obj, figure_source=None, **settings) -> str:

@@ -97,6 +97,9 @@ class LatexRenderer(Renderer):
         return body
 
 
+LatexRenderer._render_SystemDerivation = LatexRenderer._render_Derivation  # same layout
+
+
 def to_latex(obj, **settings) -> str:
     """LaTeX of a Derivation (or a Step, Line, Verification)."""
     return LatexRenderer(**settings).render(obj)

@@ -187,6 +187,8 @@ class NotationTextPrinter(StrPrinter):
 def format_value(value, digits: int = 6) -> str:
     """A result value as text: numbers to ``digits`` significant figures, tuples listed."""
     if isinstance(value, (list, tuple)):
+        if value and all(isinstance(v, (list, tuple)) for v in value):  # mode shapes
+            return "; ".join("(" + format_value(v, digits) + ")" for v in value)
         return ", ".join(format_value(v, digits) for v in value)
     if isinstance(value, complex):
         if abs(value.imag) < 1e-300:

@@ -31,7 +31,9 @@ def _step_dict(step: Step) -> dict:
             "note": step.note, "substeps": [_step_dict(s) for s in step.substeps]}
 
 
-def derivation_to_dict(d: Derivation) -> dict:
+def derivation_to_dict(d) -> dict:
+    if not isinstance(d, Derivation):
+        return system_to_dict(d)
     p = d.problem
     return {
         "format": FORMAT,
@@ -70,3 +72,46 @@ def derivation_to_dict(d: Derivation) -> dict:
     }
 
 
+def system_to_dict(d) -> dict:
+    """The canonical JSON form of a SystemDerivation: as for one equation, per unknown."""
+    p = d.problem
+
+    def poles(ps):
+        return [{"kind": q.kind, "value": expression_dict(q.value),
+                 "beta": expression_dict(q.beta), "multiplicity": q.multiplicity,
+                 "numeric": q.numeric} for q in ps]
+
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "kind": "system",
+        "problem": {
+            "equations": list(p.texts),
+            "unknowns": list(p.unknowns),
+            "orders": list(p.orders),
+            "odes": [expression_dict(p.equation(i)) for i in range(len(p.unknowns))],
+            "initial_conditions": {derivative_name(u, k) + "(0-)": expression_dict(v)
+                                   for u, vals in zip(p.unknowns, p.initial_values)
+                                   for k, v in enumerate(vals)},
+            "parameters": {name: expression_dict(v) for name, v in p.parameters},
+            "symbolic_parameters": list(p.symbols),
+            "derived": {name: expression_dict(e) for name, e in p.derived},
+        },
+        "steps": [_step_dict(s) for s in d.steps],
+        "determinant": expression_dict(d.determinant),
+        "transform": {u: expression_dict(e) for u, e in d.transform.items()},
+        "solution": {u: expression_dict(e) for u, e in d.solution.items()},
+        "derived": {name: expression_dict(e) for name, e in d.derived.items()},
+        "piecewise": {u: [{"from": expression_dict(start), **expression_dict(expr)}
+                          for start, expr in ivs] for u, ivs in d.intervals.items()},
+        "poles": poles(d.poles),
+        "assumptions": list(d.assumptions),
+        "notes": list(d.notes),
+        "verification": d.verification.to_dict(),
+        "results": {key: r.to_dict() for key, r in (d.results or {}).items()},
+        "units": None if not p.units else {
+            name: {"display": c.unknown_display, "si": c.unknown_si} for name, c in p.units},
+        "values_for_checks": {name: expression_dict(v) for name, v in d.values},
+        "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
+        "caution": CAUTION,
+    }

@@ -93,6 +93,9 @@ class TextRenderer(Renderer):
         return "\n".join(out)
 
 
+TextRenderer._render_SystemDerivation = TextRenderer._render_Derivation  # same layout
+
+
 def to_text(obj, **settings) -> str:
     """Plain text of a Derivation (or a Step, Line, Verification)."""
     return TextRenderer(**settings).render(obj)
