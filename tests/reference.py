@@ -53,3 +53,30 @@ def integrate(problem, times, breakpoints=(), impulses=()):
         else:
             out[mask & (times == start)] = z[0]
     return out
+
+
+def integrate_second_order(M, C, K, force, x0, v0, times, breakpoints=()):
+    """x at ``times`` for M x'' + C x' + K x = force(t) by solve_ivp (DOP853, rtol 1e-12),
+    written out directly from the matrices (not from derivpad's parsed problem), restarting
+    at every breakpoint. Returns an array of shape (len(times), n)."""
+    M, C, K = (np.asarray(a, dtype=float) for a in (M, C, K))
+    n = M.shape[0]
+    Minv = np.linalg.inv(M)
+
+    def rhs(t, z):
+        x, v = z[:n], z[n:]
+        return np.concatenate([v, Minv @ (np.asarray(force(t), dtype=float) - C @ v - K @ x)])
+
+    times = np.asarray(times, dtype=float)
+    out = np.full((len(times), n), np.nan)
+    z = np.concatenate([np.asarray(x0, dtype=float), np.asarray(v0, dtype=float)])
+    cuts = sorted({0.0, float(times.max())} | {float(b) for b in breakpoints
+                                               if 0 < b < times.max()})
+    for left, right in zip(cuts, cuts[1:]):
+        sol = solve_ivp(rhs, (left, right), z, method="DOP853", rtol=1e-12, atol=1e-14,
+                        dense_output=True)
+        assert sol.success, sol.message
+        sel = (times >= left) & (times <= right)
+        out[sel] = sol.sol(times[sel])[:n].T
+        z = sol.y[:, -1]
+    return out

@@ -229,7 +229,7 @@ def make_system_problem(equations, ics=None, params=None, units=None,
         if not used or max(used) == 0:
             raise EquationError(f"the unknown {u} has no derivative in any equation; the system "
                                 "is then partly algebraic, which this method does not solve")
-        orders.append(max(used))
+        orders.append(int(max(used)))
 
     # initial conditions
     ic_values: dict = {}
@@ -405,7 +405,9 @@ def _unit_contexts(term_lists, positions, unknowns, names, quantities, ic_quanti
     for name, expr in derived:
         d = dimension_of(expr, dims, unknowns[0], f"derived quantity {name!r}")
         si = display_unit_for(d)
-        out.append((name, UnitContext(unknown_si=si, unknown_display=units.get(name, si),
+        like = [units[u] for u in unknowns if u in units and dims[u] == d]
+        out.append((name, UnitContext(unknown_si=si,
+                                      unknown_display=units.get(name, like[0] if like else si),
                                       time_display=time_unit, forcing_si="",
                                       dimensions=table, symbol_units=tuple(symbol_units))))
     return tuple(out)

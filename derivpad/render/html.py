@@ -248,7 +248,8 @@ def _render_system(self, d) -> str:
     ics = ", \\quad ".join(f"{_expr_latex(line.lhs, digits)} = {_expr_latex(line.rhs, digits)}"
                            for line in ic_lines)
     out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-    sol = r" \\ ".join(f"{u}(t) &= {_expr_latex(d.solution[u], digits)}" for u in p.unknowns)
+    sol = r" \\ ".join(f"{latex_expr(p.function(j))} &= {_expr_latex(d.solution[u], digits)}"
+                        for j, u in enumerate(p.unknowns))
     solution = self._math(_ALIGNED % sol)
     out.append(f'<div class="dp-label">Solution</div><div class="dp-math">{solution}</div>')
     if d.values:
