@@ -86,6 +86,8 @@ def system_to_dict(d) -> dict:
         "version": VERSION,
         "kind": "system",
         "problem": {
+            "equation": p.text,
+            "unknown": ", ".join(p.unknowns),
             "equations": list(p.texts),
             "unknowns": list(p.unknowns),
             "orders": list(p.orders),
@@ -100,7 +102,12 @@ def system_to_dict(d) -> dict:
         "steps": [_step_dict(s) for s in d.steps],
         "determinant": expression_dict(d.determinant),
         "transform": {u: expression_dict(e) for u, e in d.transform.items()},
-        "solution": {u: expression_dict(e) for u, e in d.solution.items()},
+        "solutions": {u: expression_dict(e) for u, e in d.solution.items()},
+        "solution": {   # the whole solution in one entry, as for a single equation
+            "latex": r" \\ ".join(f"{latex_expr(p.function(j))} = {latex_expr(d.solution[u])}"
+                                  for j, u in enumerate(p.unknowns)),
+            "text": "; ".join(f"{u}(t) = {text_expr(d.solution[u])}" for u in p.unknowns),
+            "tree": {u: to_tree(e) for u, e in d.solution.items()}},
         "derived": {name: expression_dict(e) for name, e in d.derived.items()},
         "piecewise": {u: [{"from": expression_dict(start), **expression_dict(expr)}
                           for start, expr in ivs] for u, ivs in d.intervals.items()},
@@ -110,7 +117,11 @@ def system_to_dict(d) -> dict:
         "verification": d.verification.to_dict(),
         "results": {key: r.to_dict() for key, r in (d.results or {}).items()},
         "units": None if not p.units else {
-            name: {"display": c.unknown_display, "si": c.unknown_si} for name, c in p.units},
+            "unknowns": {name: {"display": c.unknown_display, "si": c.unknown_si}
+                         for name, c in p.units},
+            "time": p.units[0][1].time_display,
+            "parameters": {q.name: {"given": q.given, "si_value": float(q.si_value),
+                                    "si_unit": q.si_unit} for q in p.quantities}},
         "values_for_checks": {name: expression_dict(v) for name, v in d.values},
         "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
         "caution": CAUTION,
