@@ -27,7 +27,11 @@ def _parser() -> argparse.ArgumentParser:
     demo.add_argument("--format", choices=FORMATS, default="text")
 
     solve = sub.add_parser("solve", help="derive one ODE given on the command line")
-    solve.add_argument("equation", help="the ODE, e.g. \"y'' + 4*y' + 13*y = 2*u(t - 1)\"")
+    solve.add_argument("equation", nargs="+",
+                       help="the ODE, e.g. \"y'' + 4*y' + 13*y = 2*u(t - 1)\"; several "
+                            "equations make a coupled system (one per unknown)")
+    solve.add_argument("--derived", action="append", default=[], metavar="NAME=EXPR",
+                       help="for a system: a quantity to report, e.g. stroke=x1-x2 (repeat)")
     solve.add_argument("--ic", action="append", default=[], metavar="COND",
                        help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
     solve.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
@@ -95,7 +99,31 @@ def _read_pairs(items: list[str], option: str, example: str) -> dict:
     return out
 
 
+def _emit_system(d, fmt: str, times) -> str:
+    if fmt == "json":
+        data = d.to_dict()
+        if times:
+            values = d(list(times))
+            data["samples"] = [{"t": t, **{name: float(v[i]) for name, v in values.items()}}
+                               for i, t in enumerate(times)]
+        return json.dumps(data, indent=2, ensure_ascii=False)
+    if fmt == "latex":
+        return d.to_latex(document=True)
+    from .render.notation import text_expr
+    out = [d.to_text(), ""]
+    out += [f"Solution: {u}(t) = {text_expr(d.solution[u])}" for u in d.unknowns]
+    if times:
+        values = d(list(times))
+        names = list(values)
+        out += ["", f"{'t':>12}  " + "  ".join(f"{n + ' (SI)':>18}" for n in names)]
+        out += [f"{t:>12.4g}  " + "  ".join(f"{values[n][i]:>18.6e}" for n in names)
+                for i, t in enumerate(times)]
+    return "\n".join(out)
+
+
 def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
+    if not hasattr(derivation, "unknown"):  # a coupled system
+        return _emit_system(derivation, fmt, times)
     if fmt == "json":
         data = derivation.to_dict()
         if times:
@@ -141,11 +169,14 @@ def main(argv=None) -> int:
             text = _emit(demo(), args.format, DEMO_TIMES, DEMO_TITLE)
         else:
             from .core.engine import derive
-            d = derive(args.equation, ics=_read_ics(args.ic),
+            system = len(args.equation) > 1
+            d = derive(args.equation if system else args.equation[0], ics=_read_ics(args.ic),
                        params=_read_pairs(args.param, "--param", "k=800"),
                        units=_read_pairs(args.unit, "--unit", "x=mm"),
                        values=_read_pairs(args.value, "--value", "m=2"),
-                       unknown=args.unknown, regime=args.regime)
+                       unknown=args.unknown, regime=args.regime,
+                       derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2")
+                       if system else None)
             if args.figure:
                 d.save_figure(args.figure)
             text = _emit(d, args.format, args.at)

@@ -69,3 +69,22 @@ def test_audit_reports_a_table_and_exit_code(tmp_path, capsys):
     out = capsys.readouterr().out
     assert "results.json | ALTERED (checksum differs)" in out and "DOES NOT HOLD" in out
     assert main(["audit", str(tmp_path / "missing")]) == 2
+
+
+def test_solve_a_coupled_system_as_json(capsys):
+    import numpy as np
+    from tests.reference import integrate_second_order
+    assert main(["solve", "m1*x1'' + (k1 + k2)*x1 - k2*x2 = F0*u(t)",
+                 "m2*x2'' + k2*(x2 - x1) = 0", "--ic", "x1(0)=0", "--ic", "x1'(0)=0",
+                 "--ic", "x2(0)=0", "--ic", "x2'(0)=0", "--param", "m1=2", "--param", "m2=1",
+                 "--param", "k1=800", "--param", "k2=200", "--param", "F0=50",
+                 "--derived", "stroke=x1-x2", "--at", "0.1", "--at", "0.5",
+                 "--format", "json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["kind"] == "system" and data["problem"]["unknowns"] == ["x1", "x2"]
+    ref = integrate_second_order([[2, 0], [0, 1]], np.zeros((2, 2)),
+                                 [[1000, -200], [-200, 200]], lambda t: [50.0, 0.0],
+                                 [0, 0], [0, 0], [0.1, 0.5])
+    for row, (x1, x2) in zip(data["samples"], ref):
+        assert abs(row["x1"] - x1) < 1e-9 and abs(row["x2"] - x2) < 1e-9
+        assert abs(row["stroke"] - (x1 - x2)) < 1e-9

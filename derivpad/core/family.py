@@ -81,7 +81,13 @@ class DerivationFamily:
         self._params = params
         self._tolerances = check_options("all", tolerances)
         fixed = {k: v for k, v in params.items() if k not in self.vary}
-        self.problem = make_problem(equation, ics, fixed, unknown, units or None)
+        self.is_system = isinstance(equation, (list, tuple))
+        if self.is_system:  # a coupled system is derived afresh with the numbers each time
+            from .system_problem import make_system_problem
+            self._args.pop("unknown")
+            self.problem = make_system_problem(equation, ics, fixed, units or None)
+        else:
+            self.problem = make_problem(equation, ics, fixed, unknown, units or None)
         stray = [n for n in self.vary if n not in self.problem.symbols]
         if stray:
             raise ParameterError(f"{stray[0]!r} does not appear in the problem once the other "
@@ -91,7 +97,7 @@ class DerivationFamily:
         self._compiled: dict = {}
         self.start = start
         # symbolic switching times are ordered as at the starting values
-        self._order = parameter_values(self.problem, start)
+        self._order = {} if self.is_system else parameter_values(self.problem, start)
 
     # -- the values ----------------------------------------------------------------------
     def params_for(self, values: dict) -> dict:
@@ -137,6 +143,14 @@ class DerivationFamily:
 
     def at(self, values: dict) -> FamilyMember:
         """The derivation for ``values`` ({name: number in the parameter's unit})."""
+        if self.is_system:
+            missing = [n for n in self.vary if n not in values]
+            if missing:
+                raise ParameterError(f"no value for {missing[0]!r}; give every varied "
+                                     f"parameter ({', '.join(self.vary)})", missing[0])
+            d = derive(params=self.params_for(values), regime=self._regime, **self._args)
+            return FamilyMember(d, "derived with the numbers (a coupled system is derived "
+                                   "afresh on each change)", True)
         value_map = self._exact(values)
         first = not self._compiled
         d = self._derived_in_symbols(self._regime, value_map)

@@ -51,7 +51,13 @@ def parse_cell(cell: str) -> dict:
     if not lines:
         raise ParseError("the cell is empty: write the equation on the first line")
     (_, equation), rest = lines[0], lines[1:]
-    kwargs = {"equation": equation, "ics": {}, "params": {}, "units": {}, "values": {}}
+    # further equation lines (a coupled system): they carry primes and are not conditions
+    equations = [equation]
+    while rest and "'" in rest[0][1] and not _IC.match(rest[0][1]):
+        equations.append(rest[0][1])
+        rest = rest[1:]
+    kwargs = {"equation": equations if len(equations) > 1 else equation, "ics": {},
+              "params": {}, "units": {}, "values": {}}
     for i, line in rest:
         head, colon, tail = line.partition(":")
         if colon and head.strip() in ("units", "values"):

@@ -14,6 +14,7 @@ exact ``params={...}`` line for the calc record.
 from __future__ import annotations
 
 from ..core.derivation import Derivation
+from ..core.system_derivation import SystemDerivation
 from ..core.family import DerivationFamily, what_changed
 from ..errors import DerivpadError, ParameterError, import_extra
 
@@ -31,8 +32,9 @@ def _make_view_class():
     class DerivationView(widgets.VBox):
         """Controls, status and the derivation; ``derivation`` holds the current result."""
 
-        derivation = traitlets.Instance(Derivation, allow_none=True,
-                                        help="the derivation shown; replaced on every change")
+        derivation = traitlets.Union([traitlets.Instance(Derivation),
+                                      traitlets.Instance(SystemDerivation)], allow_none=True,
+                                     help="the derivation shown; replaced on every change")
         status = traitlets.Unicode("", help="what the last change did").tag(sync=True)
 
         def __init__(self, family: DerivationFamily, controls):

@@ -39,3 +39,20 @@ def test_extension_registers_the_magic_and_displays():
     import sympy as sp
     assert ip.user_ns["d"].solution == sp.sin(3 * sp.Symbol("t", real=True)) / 3
     assert IPython
+
+
+def test_several_equation_lines_make_a_system():
+    import derivpad
+    kwargs = parse_cell("m1*x1'' + (k1 + k2)*x1 - k2*x2 = F0*u(t)\n"
+                        "m2*x2'' + k2*(x2 - x1) = 0\n"
+                        "x1(0) = 0\nx1'(0) = 0\nx2(0) = 0\nx2'(0) = 0\n"
+                        "m1 = 2\nm2 = 1\nk1 = 800\nk2 = 200\nF0 = 50")
+    assert kwargs["equation"] == ["m1*x1'' + (k1 + k2)*x1 - k2*x2 = F0*u(t)",
+                                  "m2*x2'' + k2*(x2 - x1) = 0"]
+    d = derivpad.derive(**kwargs)
+    # K x = f under the held load: x1 = x2 = F0/k1 = 1/16, the mean of the undamped motion,
+    # i.e. lim s X1(s) as s → 0 (statics; common practice, no source)
+    import sympy as sp
+    from derivpad.core.parse import S
+    assert float(sp.limit(S * d.transform["x1"], S, 0)) == pytest.approx(1 / 16, rel=1e-30)
+    assert d.verification.passed

@@ -68,3 +68,17 @@ def test_bad_controls_are_refused():
         derivpad.explore(EQ, ICS, PARAMS, controls={"q": (0, 1)})
     with pytest.raises(ParameterError, match="controls="):
         derivpad.explore(EQ, ICS, PARAMS)
+
+
+def test_the_explorer_works_for_a_coupled_system():
+    eqs = ["m1*x1'' + (k1 + k2)*x1 - k2*x2 = F0*u(t - 0.1)", "m2*x2'' - k2*x1 + k2*x2 = 0"]
+    ics = {"x1(0)": 0, "x1'(0)": 0, "x2(0)": 0, "x2'(0)": 0}
+    view = derivpad.explore(eqs, ics, {"m1": 2, "m2": 1, "k1": 800, "k2": 200,
+                                       "F0": 50}, controls={"k2": (100, 400)})
+    assert view.derivation.verification.passed
+    before = view.derivation.results["natural_frequencies"].magnitude
+    view._sliders["k2"].value = 300.0
+    after = view.derivation.results["natural_frequencies"].magnitude
+    assert after[1] > before[1]  # a stiffer coupling spring raises the upper mode
+    assert "k2 = 300: derived with the numbers" in view.status
+    assert "Matrix form" in view._html.value
