@@ -180,6 +180,16 @@ def poles_of(poly: sp.Expr, regime: str = "underdamped") -> PoleSet:
                     f"parameters {', '.join(sorted(str(x) for x in f.free_symbols - {S}))}")
             numeric_any = True
             poles.extend(_numeric_poles(monic, mult))
+    if symbolic:  # symbolic poles that could coincide (a ≠ b): the form assumes they do not
+        for i, p in enumerate(poles):
+            for q in poles[i + 1:]:
+                if p.kind == q.kind and _same(p, q) is None:
+                    diff = sp.simplify(p.value - q.value) if p.kind == "real" else \
+                        sp.simplify(p.beta - q.beta)
+                    text = f"distinct poles: {sp.sstr(diff)} ≠ 0"
+                    if text not in assumptions:
+                        assumptions.append(text)
+                        conditions.append(sp.Ne(diff, 0))
     poles.sort(key=_pole_order)
     return PoleSet(lead, tuple(poles), tuple(assumptions), tuple(conditions), numeric_any)
 

@@ -467,6 +467,19 @@ def state_space_problem(A, B, u, x0, outputs=None, D=None, names=None) -> System
                          derived=tuple(derived))
 
 
+def _ours(expr: sp.Expr) -> sp.Expr:
+    """A user's SymPy expression in our symbols: t real, parameters positive."""
+    repl = {}
+    for sym in expr.free_symbols:
+        if sym.name == "t":
+            repl[sym] = T
+        elif sym.name in RESERVED_NAMES:
+            raise ParseError(f"the symbol {sym.name!r} is reserved; rename it")
+        else:
+            repl[sym] = sp.Symbol(sym.name, positive=True)
+    return expr.xreplace(repl)
+
+
 def _matrix(value, name: str) -> sp.Matrix:
     try:
         rows = value.tolist() if hasattr(value, "tolist") else value
@@ -476,8 +489,11 @@ def _matrix(value, name: str) -> sp.Matrix:
                              f"nested lists): {exc}", name) from exc
     if m.shape[0] == 0:
         raise ParameterError(f"{name} is empty", name)
+    if any(x.has(sp.Symbol("t")) or x.has(T) for x in m):
+        raise ParameterError(f"{name} may not depend on t: the coefficients must be constant",
+                             name)
     return m.applyfunc(lambda x: to_exact(x if not isinstance(x, sp.Float) else float(x),
-                                          name) if x.is_number else x)
+                                          name) if x.is_number else _ours(x))
 
 
 def _input(value, k: int) -> sp.Expr:
@@ -486,7 +502,7 @@ def _input(value, k: int) -> sp.Expr:
     if isinstance(value, str):
         return parse_expression(value, (), f"input u[{k}]")
     if isinstance(value, sp.Basic):
-        return value
+        return _ours(value)
     if isinstance(value, (int, float)):
         return to_exact(value, f"u[{k}]") * sp.Heaviside(T)
     raise ParameterError(f"input u[{k}] must be text, a SymPy expression in t or a "

@@ -187,3 +187,30 @@ def test_random_stable_chains_satisfy_every_equation(masses, springs, damping, x
     assert d.verification.passed, [c for c in d.verification.checks if not c.passed]
     assert d.results["stability"].magnitude == "stable"
     assert "modal_damping_ratios" in d.results
+
+
+def test_symbolic_cascade_states_its_assumption_and_matches_the_hand_solution():
+    # two first-order lags in cascade: x1 = (1 - e^{-at})/a,
+    # x2 = 1/(ab) + e^{-at}/(a(a - b)) - e^{-bt}/(b(a - b)) for a ≠ b (solved by hand by
+    # partial fractions of 1/(s(s + a)(s + b)); common practice, no source)
+    d = derivpad.derive(["x1' + a*x1 = u(t)", "x2' + b*x2 = x1"], {"x1(0)": 0, "x2(0)": 0},
+                        values={"a": 2, "b": 3})
+    a, b, t = sp.symbols("a b t", positive=True)
+    hand = 1 / (a * b) + sp.exp(-a * t) / (a * (a - b)) - sp.exp(-b * t) / (b * (a - b))
+    got = d.solution["x2"].subs({sp.Symbol("t", real=True): t})
+    assert sp.simplify(got - hand) == 0
+    assert "distinct poles: a - b ≠ 0" in d.assumptions
+    assert d.verification.passed
+
+
+def test_state_space_with_sympy_entries_and_input():
+    t, a = sp.symbols("t a")
+    d = derivpad.derive_state_space([[-a, 0], [1, -1]], [[1], [0]], [sp.Heaviside(t - 1)],
+                                    [0, 0], values={"a": 2})
+    assert d.verification.passed
+    # x1 = (1 - e^{-2(t-1)})/2 for t ≥ 1 (first-order lag; common practice, no source)
+    assert d([3.0])["x1"][0] == pytest.approx((1 - math.exp(-4)) / 2, rel=1e-12)
+    with pytest.raises(derivpad.ParameterError, match="one input per column"):
+        derivpad.derive_state_space([[-1]], [[1, 1]], ["u(t)"], [0])
+    with pytest.raises(derivpad.ParameterError, match="square"):
+        derivpad.derive_state_space([[-1, 0]], [[1]], ["u(t)"], [0])
