@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 
 import sympy as sp
 
+from .display_facade import DisplayFacade
 from .evaluate import numpy_function
 from .parse import T
 from .problem import Problem, derivative_name
@@ -21,7 +22,7 @@ __all__ = ["Derivation"]
 
 
 @dataclass(frozen=True, slots=True)
-class Derivation:
+class Derivation(DisplayFacade):
     """A complete Laplace-transform derivation of one linear ODE, checked by the engine.
 
     Attributes
@@ -92,20 +93,8 @@ class Derivation:
             self._cache["numpy"] = fn
         return fn(times)
 
-    def value_table(self) -> tuple[tuple[str, float, str], ...]:
-        """The numbers used for symbolic parameters, each in its declared unit:
-        ((name, number, unit), ...) (SI numbers and no unit where none was declared)."""
-        ctx = self.problem.units
-        out = []
-        for name, v in self.values:
-            unit = ctx.symbol_unit(name) if ctx else None
-            if unit:
-                from .units import display_unit_for, to_display
-                si = display_unit_for(dict(ctx.dimensions)[name])
-                out.append((name, to_display(float(v), si, unit), unit))
-            else:
-                out.append((name, float(v), ""))
-        return tuple(out)
+    def _values_units(self):
+        return self.problem.units
 
     @property
     def evaluated_solution(self) -> sp.Expr:
@@ -118,46 +107,6 @@ class Derivation:
             out = self.solution.subs({sp.Symbol(k, positive=True): v for k, v in self.values})
             self._cache["evaluated"] = out
         return out
-
-    def figure(self, **settings):
-        """The verification figure (matplotlib): closed form over integration, forcing, error."""
-        from ..render.figure import verification_figure  # lazy: matplotlib is an extra
-        return verification_figure(self, **settings)
-
-    def save_figure(self, path, **settings):
-        """Write the verification figure; the format (svg, png, pdf) comes from the suffix."""
-        from ..render.figure import save_figure
-        return save_figure(self, path, **settings)
-
-    # -- serialisation ------------------------------------------------------------------
-    def to_dict(self) -> dict:
-        """The canonical JSON-safe form: text, LaTeX and a SymPy-readable form of each result."""
-        from ..render.serial import derivation_to_dict  # lazy: printing lives in render/
-        return derivation_to_dict(self)
-
-    # -- display façade -----------------------------------------------------------------
-    def to_latex(self, **settings) -> str:
-        """The whole derivation as a LaTeX document body."""
-        from ..render.latex import to_latex
-        return to_latex(self, **settings)
-
-    def to_html(self, **settings) -> str:
-        """The whole derivation as an HTML fragment with collapsible steps."""
-        from ..render.html import to_html
-        return to_html(self, **settings)
-
-    def _repr_mimebundle_(self, include=None, exclude=None):
-        """Rich display: HTML, LaTeX, text and derivpad's own JSON type; never raises."""
-        try:
-            from ..render.mimebundle import mimebundle
-        except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
-            return {"text/plain": f"derivpad could not load its display code: {exc}"}
-        return mimebundle(self, include, exclude)
-
-    def to_text(self, **settings) -> str:
-        """The whole derivation as readable terminal text."""
-        from ..render.text import to_text
-        return to_text(self, **settings)
 
     def __repr__(self) -> str:
         return (f"<Derivation {self.problem.text!r}: {len(self.steps)} steps, "

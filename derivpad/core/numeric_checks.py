@@ -22,8 +22,8 @@ from scipy.integrate import odeint
 from .numeric_model import NumericModel
 from .verify import Check, Samples
 
-__all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integration_check",
-           "inversion_check", "limit_checks", "missing_values", "not_run"]
+__all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integrate_piecewise",
+           "integration_check", "segment_cuts", "inversion_check", "limit_checks", "missing_values", "not_run"]
 
 NUMERIC_TOLERANCES = {
     "integration": 1e-7,   # max |closed form - odeint| / peak |y|
@@ -75,15 +75,32 @@ def integrate(coefficients, initial, forcing_at, breakpoints, impulses, times,
     kicks: dict[float, float] = {}
     for c, area in impulses:
         kicks[float(c)] = kicks.get(float(c), 0.0) + float(area)
-    cuts = sorted({0.0, float(times[-1])} | {float(b) for b in breakpoints if 0 < b < times[-1]}
-                  | {c for c in kicks if c < times[-1]})
     z = np.array([float(v) for v in initial], dtype=float)
-    out = np.empty_like(times)
     atol = 1e-14 * max(abs(scale), float(np.max(np.abs(z))) if z.size else 0.0, 1e-300)
+
+    def kick(at, state):
+        state = state.copy()
+        state[-1] += kicks[at] / a[-1]
+        return state
+
+    cuts = segment_cuts(times, breakpoints, kicks)
+    return integrate_piecewise(rhs, z, times, cuts, kicks, kick, atol)[:, 0]
+
+
+def segment_cuts(times, breakpoints, kicks) -> list[float]:
+    """0, the breakpoints and impulse times inside the window, and its end: where to restart."""
+    end = float(times[-1])
+    return sorted({0.0, end} | {float(b) for b in breakpoints if 0 < b < end}
+                  | {c for c in kicks if c < end})
+
+
+def integrate_piecewise(rhs, z, times, cuts, kicks, kick, atol) -> np.ndarray:
+    """The state at ``times`` by LSODA (SciPy odeint, rtol RTOL) between successive ``cuts``,
+    with ``kick(t, state)`` applied where ``kicks`` has an impulse; shape (len(times), dim)."""
+    out = np.empty((len(times), len(z)))
     for left, right in zip(cuts, cuts[1:]):
         if left in kicks:
-            z = z.copy()
-            z[-1] += kicks[left] / a[-1]
+            z = kick(left, z)
         sel = (times >= left) & (times <= right)
         at = np.concatenate([[left], times[sel], [right]])
         ys, info = odeint(rhs, z, at, rtol=RTOL, atol=atol, tcrit=[right], mxstep=200000,
@@ -91,7 +108,7 @@ def integrate(coefficients, initial, forcing_at, breakpoints, impulses, times,
         if info["message"] != "Integration successful.":
             raise ArithmeticError(f"the integrator (LSODA) failed between t = {left} and "
                                   f"{right}: {info['message']}")
-        out[sel] = ys[1:-1, 0]
+        out[sel] = ys[1:-1]
         z = ys[-1]
     return out
 

@@ -430,11 +430,9 @@ def parse_equation(text: str, unknown: str | None = None,
     return ParsedEquation(text, lhs, rhs, unknown, tuple(terms), tuple(parser.names))
 
 
-def parse_value(text: str, what: str = "value") -> sp.Expr:
-    """Parse a number or an expression of parameters (an initial condition, a parameter value).
-
-    Uses the same whitelisting grammar as equations; ``t`` and the functions are allowed.
-    """
+def _parse_fragment(text: str, what: str, unknowns: tuple[str, ...], primes: bool) -> sp.Expr:
+    """An expression (no '='), with the unknowns ``unknowns`` (primes allowed when
+    ``primes``); the same whitelisting grammar as equations, never evaluated."""
     if not isinstance(text, str):
         raise ParseError(f"the {what} must be text, not {type(text).__name__}")
     if not text.strip():
@@ -443,29 +441,25 @@ def parse_value(text: str, what: str = "value") -> sp.Expr:
     if any(tok.text == "=" for tok in tokens):
         pos = next(tok.start for tok in tokens if tok.text == "=")
         raise ParseError(f"the {what} may not contain '='", text, pos)
-    if any(tok.kind == "prime" for tok in tokens):
+    if not primes and any(tok.kind == "prime" for tok in tokens):
         pos = next(tok.start for tok in tokens if tok.kind == "prime")
         raise ParseError(f"the {what} may not contain derivatives", text, pos)
-    parser = _Parser(text, tokens, None)
-    value = parser.expr()
-    if parser.tok.kind != "end":
-        raise parser.error(f"unexpected {parser.tok.text!r} in the {what}")
-    return value
-
-
-def parse_expression(text: str, unknowns: tuple[str, ...], what: str = "expression") -> sp.Expr:
-    """Parse an expression of the unknowns y_j(t) (primes allowed), parameters and t, such as
-    a derived quantity ``"k2*(x2 - x1)"``; the same whitelisting grammar, never evaluated."""
-    if not isinstance(text, str):
-        raise ParseError(f"the {what} must be text, not {type(text).__name__}")
-    if not text.strip():
-        raise ParseError(f"the {what} is empty")
-    tokens = _tokenize(text)
-    if any(tok.text == "=" for tok in tokens):
-        pos = next(tok.start for tok in tokens if tok.text == "=")
-        raise ParseError(f"the {what} may not contain '='", text, pos)
     parser = _Parser(text, tokens, unknowns[0] if unknowns else None, tuple(unknowns))
     value = parser.expr()
     if parser.tok.kind != "end":
         raise parser.error(f"unexpected {parser.tok.text!r} in the {what}")
     return value
+
+
+def parse_value(text: str, what: str = "value") -> sp.Expr:
+    """Parse a number or an expression of parameters (an initial condition, a parameter value).
+
+    Uses the same whitelisting grammar as equations; ``t`` and the functions are allowed.
+    """
+    return _parse_fragment(text, what, (), primes=False)
+
+
+def parse_expression(text: str, unknowns: tuple[str, ...], what: str = "expression") -> sp.Expr:
+    """Parse an expression of the unknowns y_j(t) (primes allowed), parameters and t, such as
+    a derived quantity ``"k2*(x2 - x1)"``; the same whitelisting grammar, never evaluated."""
+    return _parse_fragment(text, what, tuple(unknowns), primes=True)

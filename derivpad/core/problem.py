@@ -21,7 +21,8 @@ from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
 from .units import (UnitContext, dimension_of, check_homogeneity, dimension_text, display_unit_for,
                     read_quantity, registry)
 
-__all__ = ["Problem", "classify_terms", "derivative_name", "make_problem", "to_exact"]
+__all__ = ["Problem", "classify_terms", "derivative_name", "make_problem", "read_parameter",
+           "to_exact"]
 
 
 def derivative_name(unknown: str, order: int) -> str:
@@ -346,14 +347,9 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
                                      "forcing (the right side)", name)
             loads[name] = value
             continue
-        if name in units and not isinstance(value, str):
-            value = f"{value} {units[name]}"
-        quantity = read_quantity(value, name)
+        values[name], quantity = read_parameter(name, value, units)
         if quantity is not None:
             quantities[name] = quantity
-            values[name] = quantity.si_value
-        else:
-            values[name] = to_exact(value, name)
     context = None
     if quantities or ic_quantities or units:
         context = _unit_context(terms, positions, unknown, names, quantities, ic_quantities,
@@ -377,6 +373,17 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
                    initial_values=initial, parameters=tuple(values.items()), symbols=remaining,
                    loads=tuple((n, f.description, f.expr) for n, f in loads.items()),
                    quantities=tuple(quantities.values()), units=context)
+
+
+def read_parameter(name: str, value, units: dict):
+    """A parameter's exact SI value and its Quantity (None for a plain number); a plain
+    number for a name in ``units`` is read in that unit."""
+    if name in units and not isinstance(value, str):
+        value = f"{value} {units[name]}"
+    quantity = read_quantity(value, name)
+    if quantity is not None:
+        return quantity.si_value, quantity
+    return to_exact(value, name), None
 
 
 def _name_position(text: str, name: str) -> int | None:

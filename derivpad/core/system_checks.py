@@ -18,11 +18,10 @@ from dataclasses import dataclass
 import mpmath
 import numpy as np
 import sympy as sp
-from scipy.integrate import odeint
 
 from .forcing import TAU
-from .numeric_checks import (NUMERIC_TOLERANCES, RTOL, grid, inversion_check,
-                             inversion_horizon, limit_checks, not_run)
+from .numeric_checks import (NUMERIC_TOLERANCES, RTOL, segment_cuts, grid, integrate_piecewise,
+                             inversion_check, inversion_horizon, limit_checks, not_run)
 from .numeric_model import NumericModel, _compile_numpy, _compile_scalar, _smooth, _vector, \
     s_limits, _finite
 from .parse import S, T
@@ -279,24 +278,10 @@ def integrate_system(numbers: SystemNumbers, times: np.ndarray, scale: float) ->
     kicks: dict = {}
     for i, c, a in numbers.impulses:
         kicks.setdefault(c, np.zeros(n))[i] += a
-    end = float(times[-1])
-    cuts = sorted({0.0, end} | {b for b in numbers.breakpoints if 0 < b < end}
-                  | {c for c in kicks if c < end})
     z = np.concatenate([np.array(v, dtype=float) for v in numbers.initial])
-    out = np.empty((len(times), dim))
     atol = 1e-14 * max(scale, float(np.max(np.abs(z))) if z.size else 0.0, 1e-300)
-    for left, right in zip(cuts, cuts[1:]):
-        if left in kicks:
-            z = z + top @ (einv @ kicks[left])
-        sel = (times >= left) & (times <= right)
-        at = np.concatenate([[left], times[sel], [right]])
-        ys, info = odeint(rhs, z, at, rtol=RTOL, atol=atol, tcrit=[right], mxstep=200000,
-                          full_output=True)
-        if info["message"] != "Integration successful.":
-            raise ArithmeticError(f"the integrator (LSODA) failed between t = {left} and "
-                                  f"{right}: {info['message']}")
-        out[sel] = ys[1:-1]
-        z = ys[-1]
+    out = integrate_piecewise(rhs, z, times, segment_cuts(times, numbers.breakpoints, kicks), kicks,
+                              lambda at, state: state + top @ (einv @ kicks[at]), atol)
     return {u: out[:, offsets[j]] for j, u in enumerate(numbers.unknowns)}
 
 

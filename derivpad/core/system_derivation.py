@@ -12,13 +12,14 @@ from dataclasses import dataclass, field
 
 import sympy as sp
 
+from .display_facade import DisplayFacade
 from .parse import T
 
 __all__ = ["SystemDerivation"]
 
 
 @dataclass(frozen=True)
-class SystemDerivation:
+class SystemDerivation(DisplayFacade):
     """A system's derivation (see the module docstring)."""
 
     problem: object                  # SystemProblem
@@ -67,19 +68,8 @@ class SystemDerivation:
             self._cache["numpy"] = fns
         return {name: fn(times) for name, fn in fns.items()}
 
-    def value_table(self) -> tuple[tuple[str, float, str], ...]:
-        """The numbers used for symbolic parameters: ((name, number, unit), ...)."""
-        ctx = self.problem.unit_context(self.unknowns[0]) if self.problem.units else None
-        out = []
-        for name, v in self.values:
-            unit = ctx.symbol_unit(name) if ctx else None
-            if unit:
-                from .units import display_unit_for, to_display
-                si = display_unit_for(dict(ctx.dimensions)[name])
-                out.append((name, to_display(float(v), si, unit), unit))
-            else:
-                out.append((name, float(v), ""))
-        return tuple(out)
+    def _values_units(self):
+        return self.problem.unit_context(self.unknowns[0]) if self.problem.units else None
 
     @property
     def evaluated_solution(self) -> dict:
@@ -88,39 +78,6 @@ class SystemDerivation:
             return dict(self.solution)
         subs = {sp.Symbol(k, positive=True): v for k, v in self.values}
         return {u: e.subs(subs) for u, e in self.solution.items()}
-
-    def figure(self, **settings):
-        """The verification figure: closed forms over integration, forcing, differences."""
-        from ..render.figure import verification_figure
-        return verification_figure(self, **settings)
-
-    def save_figure(self, path, **settings):
-        from ..render.figure import save_figure
-        return save_figure(self, path, **settings)
-
-    def to_dict(self) -> dict:
-        from ..render.serial import derivation_to_dict
-        return derivation_to_dict(self)
-
-    def to_latex(self, **settings) -> str:
-        from ..render.latex import to_latex
-        return to_latex(self, **settings)
-
-    def to_html(self, **settings) -> str:
-        from ..render.html import to_html
-        return to_html(self, **settings)
-
-    def to_text(self, **settings) -> str:
-        from ..render.text import to_text
-        return to_text(self, **settings)
-
-    def _repr_mimebundle_(self, include=None, exclude=None):
-        """Rich display: HTML, LaTeX, text and derivpad's own JSON type; never raises."""
-        try:
-            from ..render.mimebundle import mimebundle
-        except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
-            return {"text/plain": f"derivpad could not load its display code: {exc}"}
-        return mimebundle(self, include, exclude)
 
     def __repr__(self) -> str:
         status = "verification passed" if self.verification.passed else "NOT VERIFIED"

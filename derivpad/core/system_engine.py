@@ -18,6 +18,7 @@ from sympy.polys.matrices import DomainMatrix
 
 from ..errors import SolveError
 from .algebra import initial_condition_polynomial, merge_poles, poles_of
+from .engine import _order_key
 from .forcing import TAU, heaviside_pieces
 from .inverse import invert_term, inversion_step, shift
 from .parse import S, T
@@ -72,15 +73,7 @@ def _dependent(A: sp.Matrix) -> str:
 
 
 def _ordered(times, order):
-    def key(c):
-        if c.is_number:
-            return (0, float(c))
-        if order:
-            v = c.subs({sp.Symbol(k, positive=True): x for k, x in order.items()})
-            if v.is_number:
-                return (0, float(v))
-        return (1, 0.0)
-    return sorted(times, key=key)
+    return sorted(times, key=lambda c: _order_key(c, order))
 
 
 def _lcd_fraction(groups, extras):

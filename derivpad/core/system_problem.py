@@ -18,7 +18,7 @@ import sympy as sp
 from ..errors import EquationError, InitialConditionError, ParameterError, ParseError, UnitError
 from .parse import RESERVED_NAMES, T, parse_equation, parse_expression, primed_names
 from .problem import _IC_KEY, _ZERO_POINTS, _ic_value, _terms_from_eq, classify_terms, \
-    derivative_name, to_exact
+    derivative_name, read_parameter, to_exact
 from .units import (UnitContext, check_homogeneity, dimension_of, display_unit_for,
                     read_quantity, registry)
 
@@ -269,14 +269,9 @@ def make_system_problem(equations, ics=None, params=None, units=None,
             raise ParameterError(f"parameter {name!r} does not appear in the equations or the "
                                  f"initial conditions (their names are: "
                                  f"{', '.join(sorted(known)) or 'none'})", name)
-        if name in units and not isinstance(value, str):
-            value = f"{value} {units[name]}"
-        q = read_quantity(value, name)
+        values[name], q = read_parameter(name, value, units)
         if q is not None:
             quantities[name] = q
-            values[name] = q.si_value
-        else:
-            values[name] = to_exact(value, name)
     subs = {sp.Symbol(k, positive=True): v for k, v in values.items()}
     operators = []
     forcings = []

@@ -207,11 +207,21 @@ class HtmlRenderer(Renderer):
                        f'<div class="dp-math">'
                        f'{self._math(y + "(t) = " + latex_expr(d.evaluated_solution))}</div>')
         out.append(f"<div>{self.badge(d.verification)}</div></div>")
-        if self.settings["tools"]:
-            out.append('<div class="dp-tools">'
-                       f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
-                       f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
-                       "</button></div>")
+        out += self.body(d, did)
+        return "\n".join(part for part in out if part)
+
+    def tools(self) -> str:
+        if not self.settings["tools"]:
+            return ""
+        return ('<div class="dp-tools">'
+                f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
+                f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
+                "</button></div>")
+
+    def body(self, d, did: str) -> list[str]:
+        """Everything below the header: tools, steps, checks, results, figure, assumptions,
+        caution (the same for one equation and for a system)."""
+        out = [self.tools()]
         for i, step in enumerate(d.steps, 1):
             out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
         out.append('<div class="dp-label">Verification</div>')
@@ -224,7 +234,7 @@ class HtmlRenderer(Renderer):
                        + "".join(f"<li>{_esc(a)}</li>" for a in d.assumptions) + "</ul>")
         out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
         out.append("</div>")
-        return "\n".join(part for part in out if part)
+        return out
 
 
 _ALIGNED = "\\begin{aligned}%s\\end{aligned}"
@@ -259,23 +269,7 @@ def _render_system(self, d) -> str:
         out.append('<div class="dp-label">With the values used for the checks and results'
                    f'</div><div class="dp-math">{self._math(given)}</div>')
     out.append(f"<div>{self.badge(d.verification)}</div></div>")
-    if self.settings["tools"]:
-        out.append('<div class="dp-tools">'
-                   f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
-                   f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
-                   "</button></div>")
-    for i, step in enumerate(d.steps, 1):
-        out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
-    out.append('<div class="dp-label">Verification</div>')
-    out.append(self.render(d.verification))
-    out.append('<div class="dp-label">Engineering results</div>')
-    out.append(self.results(d.results))
-    out.append(self.figure(d))
-    if d.assumptions:
-        out.append('<div class="dp-label">Assumptions</div><ul>'
-                   + "".join(f"<li>{_esc(a)}</li>" for a in d.assumptions) + "</ul>")
-    out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
-    out.append("</div>")
+    out += self.body(d, did)
     return "\n".join(part for part in out if part)
 
 
