@@ -214,3 +214,20 @@ def test_state_space_with_sympy_entries_and_input():
         derivpad.derive_state_space([[-1]], [[1, 1]], ["u(t)"], [0])
     with pytest.raises(derivpad.ParameterError, match="square"):
         derivpad.derive_state_space([[-1, 0]], [[1]], ["u(t)"], [0])
+
+
+def test_a_list_of_sympy_equations():
+    t = sp.Symbol("t")
+    x1, x2 = sp.Function("x1"), sp.Function("x2")
+    k = sp.Symbol("k")
+    eqs = [sp.Eq(x1(t).diff(t, 2) + (k + 1) * x1(t) - x2(t), sp.Heaviside(t)),
+           sp.Eq(x2(t).diff(t, 2) + x2(t) - x1(t), 0)]
+    ics = {x1(0): 0, x1(t).diff(t).subs(t, 0): 0, x2(0): 0, x2(t).diff(t).subs(t, 0): 0}
+    d = derivpad.derive(eqs, ics, {"k": 3})
+    assert d.verification.passed and d.unknowns == ("x1", "x2")
+    times = np.linspace(0, 5, 11)
+    ref = integrate_second_order(np.eye(2), np.zeros((2, 2)), [[4, -1], [-1, 1]],
+                                 lambda s: [1.0, 0.0], [0, 0], [0, 0], times)
+    got = d(times)
+    assert got["x1"] == pytest.approx(ref[:, 0], abs=1e-9)
+    assert got["x2"] == pytest.approx(ref[:, 1], abs=1e-9)

@@ -104,3 +104,18 @@ def test_a_cell_error_is_refused(tmp_path):
     path = _notebook(tmp_path, "1/0")
     with pytest.raises(PackageRefusedError, match="code cell 2: ZeroDivisionError"):
         make_package(path, tmp_path / "out", pdf=False, **quiet)
+
+
+def test_a_system_calc_packages_and_audits(tmp_path):
+    # the pump-absorber example: one SystemDerivation, re-run and compared by the audit
+    from derivpad.export.audit import audit_package
+    result = make_package(EXAMPLES / "pump_tuned_absorber.ipynb", tmp_path, pdf=False, **quiet)
+    assert result.verified
+    entry = json.loads((result.folder / "results.json").read_text())[0]
+    assert entry["unknown"] == "x1, x2"
+    assert entry["results"]["peak_stroke"]["unit"] == "mm"
+    assert set(entry["solution"]["tree"]) == {"x1", "x2"}
+    html = (result.folder / "report.html").read_text()
+    assert "Matrix form" in html and "Cramer" in html
+    report = audit_package(result.folder, rerun=True)
+    assert report.holds, report.table()
