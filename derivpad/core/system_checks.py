@@ -27,6 +27,7 @@ from .numeric_model import NumericModel, _compile_numpy, _compile_scalar, _smoot
 from .parse import S, T
 from .transform import Ysym
 from .verify import DEFAULT_TOLERANCES, Check, _points, _sample_values
+from .window import numeric_poles
 
 __all__ = ["SystemNumbers", "SystemSamples", "compile_system", "system_self_check",
            "system_independent_checks"]
@@ -67,7 +68,6 @@ class SystemNumbers:
 
 
 def _poles_numbers(poles) -> tuple:
-    from .window import numeric_poles
     return tuple(numeric_poles(poles))
 
 

@@ -381,7 +381,7 @@ def derive_system_problem(problem, *, regime="underdamped", tolerances=None, val
     from .window import window_end
 
     tolerances = check_options(checks, tolerances)
-    value_map = parameter_values(_as_symbols(problem), values)
+    value_map = parameter_values(_ParameterView(problem), values)
     stages = solve_system_stages(problem, regime, value_map or None)
     own = system_self_check(problem, stages, tolerances.get("back_substitution"), value_map)
     if not all(c.passed for c in own):
@@ -427,8 +427,9 @@ def _derived(problem, stages) -> dict:
     return out
 
 
-class _as_symbols:  # noqa: N801 - adapts a SystemProblem to parameter_values()
-    """What ``engine.parameter_values`` reads of a problem: its symbols and units."""
+class _ParameterView:
+    """What ``engine.parameter_values`` reads of a problem: its symbols and the unit context
+    that declares their units."""
 
     def __init__(self, problem):
         self.symbols = problem.symbols
