@@ -65,10 +65,19 @@ def _scalar_heaviside(x, *args):
     return 1.0 if x >= 0 else 0.0
 
 
-def _vector(fn, extra=()):
-    """times → float array from fn(t, *extra); NaN before t = 0."""
+def _vector(fn, extra=(), scalar=None):
+    """times → float array from fn(t, *extra); NaN before t = 0.
+
+    ``scalar`` (the same expression compiled for the math module) serves one-point calls:
+    a root finder calls the function one time at a time, where NumPy's overhead dominates.
+    """
     def evaluate(times):
         t = np.asarray(times, dtype=float)
+        if scalar is not None and t.shape == (1,) and t[0] >= 0:
+            try:
+                return np.array([float(scalar(float(t[0]), *extra))])
+            except (ValueError, TypeError, OverflowError, ZeroDivisionError):
+                pass  # the array form handles what the math module cannot
         with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
             out = np.asarray(fn(t, *extra), dtype=float) * np.ones_like(t)
         return np.where(t >= 0, out, np.nan)
@@ -82,7 +91,8 @@ def _compile_numpy(expr, args):
 
 def _compile_scalar(expr, args):
     return sp.lambdify((T,) + tuple(args), expr,
-                       modules=[{"Heaviside": _scalar_heaviside}, "math"])
+                       modules=[{"Heaviside": _scalar_heaviside,
+                                 "DiracDelta": lambda *_: 0.0}, "math"])
 
 
 def _smooth(forcing: sp.Expr) -> sp.Expr:
@@ -144,6 +154,8 @@ class ParametricModel:
         self._response = [(p, lam(p.value), lam(p.beta)) for p in response_poles]
         self._closed = _compile_numpy(solution, args)
         self._derivative = _compile_numpy(sp.diff(solution, T), args)
+        self._closed_at = _compile_scalar(solution, args)
+        self._derivative_at = _compile_scalar(sp.diff(solution, T), args)
         self._forcing = _compile_numpy(smooth, args)
         self._forcing_at = _compile_scalar(smooth, args)
         self._parts = [(lam(sp.Integer(0) + c), sp.lambdify((S,) + args, r, modules=_MPMATH))
@@ -190,7 +202,8 @@ class ParametricModel:
             breakpoints=bps,
             impulses=tuple((float(c(*nums)), float(a(*nums))) for c, a in self._impulses),
             system_poles=poles(self._system), response_poles=poles(self._response),
-            closed_form=_vector(self._closed, nums), derivative=_vector(self._derivative, nums),
+            closed_form=_vector(self._closed, nums, self._closed_at),
+            derivative=_vector(self._derivative, nums, self._derivative_at),
             forcing=_vector(self._forcing, nums), forcing_at=scalar(self._forcing_at),
             parts=tuple((float(c(*nums)), part(fn)) for c, fn in self._parts),
             initial_value_limit=float(self._ivt(*nums)), final_value_limit=fvt,

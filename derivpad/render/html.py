@@ -62,19 +62,6 @@ def _esc(text: str) -> str:
     return html.escape(str(text), quote=True)
 
 
-def content_id(d) -> str:
-    """A short id derived from the derivation's content: the same input, the same id."""
-    if not isinstance(d, Derivation):  # a system
-        key = "\n".join([d.problem.text, repr(d.problem.operators), repr(d.problem.forcings),
-                         repr(d.problem.initial_values), repr(d.problem.parameters),
-                         repr(sorted(d.solution.items())), repr(d.values)])
-        return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
-    key = "\n".join([d.problem.text, repr(d.problem.coefficients), repr(d.problem.forcing),
-                     repr(d.problem.initial_values), repr(d.problem.parameters), repr(d.solution)]
-                    + ([repr(d.values)] if d.values else []))
-    return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
-
-
 _MATH_CACHE: dict = {}
 
 
@@ -91,6 +78,21 @@ def _once(obj, kind: str, digits: int, make) -> str:
         _MATH_CACHE.clear()
     _MATH_CACHE[key] = (obj, tex)
     return tex
+
+
+def content_id(d) -> str:
+    """A short id derived from the derivation's content: the same input, the same id."""
+    if not isinstance(d, Derivation):  # a system
+        key = "\n".join([d.problem.text, repr(d.problem.operators), repr(d.problem.forcings),
+                         repr(d.problem.initial_values), repr(d.problem.parameters),
+                         repr(sorted(d.solution.items())), repr(d.values)])
+        return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
+    p = d.problem
+    fixed = _once(p, "key", 0, lambda: "\n".join([p.text, repr(p.coefficients), repr(p.forcing),
+                                                 repr(p.initial_values), repr(p.parameters)]))
+    key = "\n".join([fixed, _once(d.solution, "repr", 0, lambda: repr(d.solution))]
+                    + ([repr(d.values)] if d.values else []))
+    return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
 
 
 def _step_math(step: Step, digits: int) -> str:
