@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import sympy as sp
 from sympy.polys.matrices import DomainMatrix
 
-from ..errors import SolveError
+from ..errors import EquationError, SolveError
 from .algebra import initial_condition_polynomial, merge_poles, poles_of
 from .engine import _order_key
 from .forcing import TAU, heaviside_pieces
@@ -70,6 +70,25 @@ def _dependent(A: sp.Matrix) -> str:
     v = (v * den).applyfunc(sp.cancel)
     parts = [f"({sp.sstr(sp.factor(c))})·(equation {i + 1})" for i, c in enumerate(v) if c != 0]
     return " + ".join(parts) + " = 0 for every s: these equations are dependent"
+
+
+def _refuse_algebraic(problem) -> None:
+    """A singular matrix of highest-derivative coefficients: a combination of equations with
+    no highest derivative left is an algebraic relation (a differential-algebraic system)."""
+    n = len(problem.unknowns)
+    ops, orders = problem.operators, problem.orders
+    lead = sp.Matrix(n, n, lambda i, j: ops[i][j][orders[j]] if orders[j] < len(ops[i][j])
+                     else 0)
+    if sp.expand(lead.det()) != 0:
+        return
+    combo = lead.T.nullspace()[0]
+    parts = " + ".join(f"({sp.sstr(sp.nsimplify(c))})·(equation {i + 1})"
+                       for i, c in enumerate(combo) if c != 0)
+    raise EquationError(
+        "the coefficients of the unknowns' highest derivatives form a singular matrix: "
+        f"{parts} has none of them, so the system is partly algebraic (differential-"
+        "algebraic), which this method does not solve. Eliminate the algebraic relation "
+        "first, or write each unknown's highest derivative independently")
 
 
 def _ordered(times, order):
@@ -205,6 +224,7 @@ def solve_system_stages(problem: SystemProblem, regime: str = "underdamped",
     if det == 0:
         raise SolveError("the transformed system is singular (det A(s) is identically zero): "
                          + _dependent(A) + "; give each unknown its own independent equation")
+    _refuse_algebraic(problem)
     char_poles = poles_of(det, regime)
     assumptions += [x for x in char_poles.assumptions if x not in assumptions]
     conditions += list(char_poles.conditions)

@@ -231,3 +231,9 @@ def test_a_list_of_sympy_equations():
     got = d(times)
     assert got["x1"] == pytest.approx(ref[:, 0], abs=1e-9)
     assert got["x2"] == pytest.approx(ref[:, 1], abs=1e-9)
+
+
+def test_a_differential_algebraic_system_is_refused_with_the_combination():
+    # equation 2 - equation 1 gives x1 = -u(t): no derivative left (an algebraic relation)
+    with pytest.raises(EquationError, match=r"\(-1\)·\(equation 1\) \+ \(1\)·\(equation 2\)"):
+        derivpad.derive(["x1' + x2' = u(t)", "x1' + x2' + x1 = 0"], {"x1(0)": 0, "x2(0)": 0})
