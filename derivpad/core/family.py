@@ -161,13 +161,19 @@ class DerivationFamily:
         for regime in _REGIMES:
             if regime == self._regime:
                 continue
+            known = regime in self._compiled
             d = self._derived_in_symbols(regime, value_map)
             if d is not None:
                 old, self._regime = self._regime, regime
-                how = (f"derived in symbols for {', '.join(self.vary)} ({regime} form)" if first
-                       else f"these values leave the {old} form: re-derived in symbols for "
-                            f"the {regime} form")
-                return FamilyMember(d, how, True)
+                if first:
+                    how = f"derived in symbols for {', '.join(self.vary)} ({regime} form)"
+                elif known:
+                    how = (f"these values leave the {old} form: the {regime} form applies "
+                           "(derived in symbols earlier; values put in)")
+                else:
+                    how = (f"these values leave the {old} form: re-derived in symbols for "
+                           f"the {regime} form")
+                return FamilyMember(d, how, not known)
         d = derive(params=self.params_for(values), regime=self._regime, **self._args)
         return FamilyMember(d, "no symbolic form holds at these values (e.g. exactly on a "
                                "regime boundary): derived with the numbers", True)
