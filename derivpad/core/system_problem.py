@@ -287,6 +287,7 @@ def make_system_problem(equations, ics=None, params=None, units=None,
                     for j in range(n))
 
     derived_exprs = []
+    derived_raw = []   # before the values go in: what the units are read from
     for name, text in dict(derived or {}).items():
         if not re.fullmatch(r"[A-Za-z][A-Za-z_0-9 ]*", str(name)) or name in unknowns:
             raise ParameterError(f"derived quantity name {name!r}: use a plain name that is "
@@ -297,12 +298,13 @@ def make_system_problem(equations, ics=None, params=None, units=None,
         if stray:
             raise ParameterError(f"derived quantity {name!r} uses {', '.join(sorted(stray))}, "
                                  "which the system does not have", str(name))
+        derived_raw.append((str(name), expr))
         derived_exprs.append((str(name), sp.expand(expr.subs(subs))))
 
     contexts = ()
     if quantities or ic_quantities or units:
         contexts = _unit_contexts(term_lists, positions, unknowns, names, quantities,
-                                  ic_quantities, units, derived_exprs)
+                                  ic_quantities, units, derived_raw)
     free = set()
     for row in operators:
         for c in row:

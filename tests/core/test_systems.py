@@ -140,12 +140,18 @@ def test_mixed_orders_first_and_second():
 def test_units_per_unknown_and_derived():
     d = derivpad.derive(TWO_DOF, REST2, {"m1": "2 kg", "m2": "1 kg", "k1": "800 N/m",
                                          "k2": "200 N/m", "F0": "50 N"},
-                        units={"x1": "mm", "x2": "mm"}, derived={"stroke": "x1 - x2"})
+                        units={"x1": "mm", "x2": "mm"},
+                        derived={"stroke": "x1 - x2", "spring force": "k2*(x2 - x1)"})
     peak = d.results["peak_x1"].value
     assert str(peak.units) == "millimeter"
     plain = derivpad.derive(TWO_DOF, REST2, P2)
     assert peak.magnitude == pytest.approx(1000 * plain.results["peak_x1"].magnitude)
     assert str(d.results["peak_stroke"].value.units) == "millimeter"
+    # a force from a stiffness times a length: newtons, k2 × the stroke's peak (same instant)
+    force = d.results["peak_spring force"].value
+    assert str(force.units) == "newton"
+    assert abs(force.magnitude) == pytest.approx(
+        200 * abs(d.results["peak_stroke"].magnitude) / 1000, rel=1e-9)
     assert str(d.results["natural_frequencies"].unit) == "rad/s"
 
 
