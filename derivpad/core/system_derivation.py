@@ -18,7 +18,7 @@ from .parse import T
 __all__ = ["SystemDerivation"]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class SystemDerivation(DisplayFacade):
     """A system's derivation (see the module docstring)."""
 
