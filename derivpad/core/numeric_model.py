@@ -17,6 +17,7 @@ import mpmath
 import numpy as np
 import sympy as sp
 
+from .evaluate import _heaviside, _no_impulse
 from .forcing import forcing_on_interval
 from .parse import S, T
 
@@ -51,14 +52,6 @@ class NumericModel:
     initial_value_limit: float
     final_value_limit: float | None
     final_load: float | None
-
-
-def _heaviside(x, *args):
-    return np.heaviside(x, 1.0)
-
-
-def _no_impulse(x, *args):
-    return np.zeros_like(np.asarray(x, dtype=float))
 
 
 def _scalar_heaviside(x, *args):

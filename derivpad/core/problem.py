@@ -19,7 +19,7 @@ from ..errors import (EquationError, InitialConditionError, NonlinearTermError, 
                       ParseError, UnitError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
 from .units import (UnitContext, dimension_of, check_homogeneity, dimension_text, display_unit_for,
-                    read_quantity, registry)
+                    read_quantity, registry, time_dimension)
 
 __all__ = ["Problem", "classify_terms", "derivative_name", "make_problem", "read_parameter",
            "to_exact"]
@@ -409,15 +409,12 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
     """Dimensions of everything, the unknown's dimension inferred, homogeneity checked."""
     ureg = registry()
     one = ureg.Quantity(1, "").dimensionality
-    time_unit = units.get("t", "s")
-    tq = read_quantity(f"1 {time_unit}", "t")
-    if tq.dimensionality != ureg.Quantity(1, "s").dimensionality:
-        raise UnitError(f"t: {time_unit!r} is not a unit of time", name="t")
+    time_unit, time_dim = time_dimension(units)
     for key in units:
         if key not in (unknown, "t") and key not in names:
             raise UnitError(f"units= names {key!r}, which is neither the unknown {unknown!r}, "
                             "t, nor a parameter of the equation", name=key)
-    dims = {"t": tq.dimensionality}
+    dims = {"t": time_dim}
     symbol_units = []
     for name in names:
         if name in quantities:

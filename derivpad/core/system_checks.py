@@ -207,33 +207,29 @@ def system_self_check(problem, stages, tolerance=None, preferred=None) -> tuple[
         order = problem.orders[problem.unknowns.index(u)]
         return [sp.Add(*[d[k].subs(TAU, 0) for c, d in ders[u] if c == at]) for k in range(order)]
 
-    ic_err = 0.0
-    dx, J = jump(sp.Integer(0))
-    for j, u in enumerate(problem.unknowns):
-        expected = [v.subs(values) for v in problem.initial_values[j]]
-        if dx is not None:
-            expected[-1] += dx[j]
-        got = start_values(u, sp.Integer(0))
-        ks = range(len(got)) if dx is not None or J.is_zero_matrix else range(len(got) - 1)
-        for k in ks:
-            ic_err = max(ic_err, _abs_rel(got[k], expected[k]))
+    def mismatch(at, before) -> float:
+        """Worst error of the values at ``at`` against ``before(j)`` plus the jump E⁻¹J there
+        (the highest ones are not compared where E is singular and J acts)."""
+        dx, J = jump(at)
+        err = 0.0
+        for j, u in enumerate(problem.unknowns):
+            got = start_values(u, at)
+            want = list(before(j, len(got)))
+            if dx is not None:
+                want[-1] += dx[j]
+            top = len(got) if dx is not None or J.is_zero_matrix else len(got) - 1
+            for k in range(top):
+                err = max(err, _abs_rel(got[k], want[k]))
+        return err
+
+    ic_err = mismatch(sp.Integer(0),
+                      lambda j, m: [v.subs(values) for v in problem.initial_values[j]])
     checks.append(Check("Initial conditions at 0+",
                         "Each unknown and its derivatives below its order at t = 0+, against "
                         "the 0⁻ values (an impulse J at 0 adds E⁻¹J to the highest ones).",
                         tol, ic_err, ic_err <= tol))
     if len(starts) > 1:
-        jump_err = 0.0
-        for c in starts[1:]:
-            dx, J = jump(c)
-            for j, u in enumerate(problem.unknowns):
-                got = start_values(u, c)
-                want = [sp.Integer(0)] * len(got)
-                if dx is not None:
-                    want[-1] = dx[j]
-                ks = range(len(got)) if dx is not None or J.is_zero_matrix else \
-                    range(len(got) - 1)
-                for k in ks:
-                    jump_err = max(jump_err, _abs_rel(got[k], want[k]))
+        jump_err = max(mismatch(c, lambda j, m: [sp.Integer(0)] * m) for c in starts[1:])
         checks.append(Check("Jump conditions at breakpoints",
                             "Below each unknown's highest state derivative, continuity at each "
                             "breakpoint; the highest ones jump by E⁻¹J for an impulse J there.",

@@ -37,7 +37,6 @@ class SystemStages:
     """What the symbolic stages produce for a system, before any check."""
 
     steps: tuple
-    matrix: sp.Matrix                # A(s)
     determinant: sp.Expr             # Δ(s) = det A(s), expanded
     transform: dict                  # unknown → X_j(s) (delay factors in front of their parts)
     solution: dict                   # unknown → x_j(t), Heaviside form
@@ -343,7 +342,7 @@ def solve_system_stages(problem: SystemProblem, regime: str = "underdamped",
                      if p.impulse)
     steps = (problem_step, transform_step, derivative_step, matrix_step, solve_step, decompose,
              invert, assemble)
-    return SystemStages(steps=steps, matrix=A, determinant=det, transform=transform,
+    return SystemStages(steps=steps, determinant=det, transform=transform,
                         solution=solution, intervals=intervals, parts=parts,
                         delayed_solutions=delayed_solutions, impulses=impulses,
                         system_poles=char_poles.poles, response_poles=response,

@@ -20,7 +20,7 @@ from .parse import RESERVED_NAMES, T, parse_equation, parse_expression, primed_n
 from .problem import _IC_KEY, _ZERO_POINTS, _ic_value, _terms_from_eq, classify_terms, \
     derivative_name, read_parameter, to_exact
 from .units import (UnitContext, check_homogeneity, dimension_of, display_unit_for,
-                    read_quantity, registry)
+                    read_quantity, registry, time_dimension)
 
 __all__ = ["SystemProblem", "make_system_problem", "state_space_problem"]
 
@@ -331,16 +331,13 @@ def _unit_contexts(term_lists, positions, unknowns, names, quantities, ic_quanti
     equation), every equation homogeneous; a UnitContext for each unknown and derived name."""
     ureg = registry()
     one = ureg.Quantity(1, "").dimensionality
-    time_unit = units.get("t", "s")
-    tq = read_quantity(f"1 {time_unit}", "t")
-    if tq.dimensionality != ureg.Quantity(1, "s").dimensionality:
-        raise UnitError(f"t: {time_unit!r} is not a unit of time", name="t")
+    time_unit, time_dim = time_dimension(units)
     for key in units:
         if key not in unknowns and key != "t" and key not in names and \
                 key not in dict(derived):
             raise UnitError(f"units= names {key!r}, which is neither an unknown "
                             f"({', '.join(unknowns)}), t, nor a parameter", name=key)
-    dims = {"t": tq.dimensionality}
+    dims = {"t": time_dim}
     symbol_units = []
     for name in names:
         if name in quantities:

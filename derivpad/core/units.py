@@ -19,8 +19,7 @@ import sympy as sp
 from ..errors import UnitError
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
-           "dimension_of",
-           "dimension_text", "unit_text", "display_unit_for", "display_factor", "to_display"]
+           "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "to_display"]
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
@@ -249,3 +248,14 @@ def check_homogeneity(terms, dims: dict, unknown: str, text: str):
         raise UnitError(msg, terms=tuple(f for f, _ in [first] + bad),
                         dimensions=tuple(dimension_text(d) for _, d in [first] + bad))
     return first[1]
+
+
+def time_dimension(units: dict) -> tuple[str, object]:
+    """The display unit of t from ``units`` (default s) and its dimensionality; a unit that is
+    not a time raises UnitError."""
+    ureg = registry()
+    time_unit = units.get("t", "s")
+    tq = read_quantity(f"1 {time_unit}", "t")
+    if tq.dimensionality != ureg.Quantity(1, "s").dimensionality:
+        raise UnitError(f"t: {time_unit!r} is not a unit of time", name="t")
+    return time_unit, tq.dimensionality
