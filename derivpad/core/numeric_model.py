@@ -19,9 +19,10 @@ import sympy as sp
 
 from .evaluate import _heaviside, _no_impulse
 from .forcing import forcing_on_interval
+from .modes import ModeTable, NotAModeSum
 from .parse import S, T
 
-__all__ = ["NumericModel", "ParametricModel", "s_limits"]
+__all__ = ["NumericModel", "ParametricModel", "s_limits", "stable"]
 
 _MPMATH = "mpmath"
 
@@ -52,6 +53,8 @@ class NumericModel:
     initial_value_limit: float
     final_value_limit: float | None
     final_load: float | None
+    modes: object = None          # the closed form as a sum of modes (None where it is not one)
+    forcing_modes: object = None  # the forcing (impulses left out) as a sum of modes
 
 
 def _scalar_heaviside(x, *args):
@@ -153,6 +156,8 @@ class ParametricModel:
         self._forcing_at = _compile_scalar(smooth, args)
         self._parts = [(lam(sp.Integer(0) + c), sp.lambdify((S,) + args, r, modules=_MPMATH))
                        for c, r in parts]
+        self._modes = _mode_table(solution, self.symbols)
+        self._forcing_modes = _mode_table(smooth, self.symbols)
         ivt, fvt = s_limits(parts)
         self._ivt = lam(ivt)
         self._fvt = lam(fvt) if not fvt.has(sp.zoo, sp.nan, sp.oo) else None
@@ -189,15 +194,44 @@ class ParametricModel:
             except (ZeroDivisionError, ValueError, OverflowError):
                 fvt = None
         subs = dict(zip(self._args, nums))
+        modes = _modes_at(self._modes, nums)
+        closed = _vector(self._closed, nums, self._closed_at)
+        derivative = _vector(self._derivative, nums, self._derivative_at)
+        if modes is not None:  # evaluated mode by mode: stable for any poles and switching times
+            closed, derivative = stable(modes), stable(modes.derivative())
         return NumericModel(
             coefficients=tuple(float(c(*nums)) for c in self._coefficients),
             initial=tuple(float(v(*nums)) for v in self._initial),
             breakpoints=bps,
             impulses=tuple((float(c(*nums)), float(a(*nums))) for c, a in self._impulses),
             system_poles=poles(self._system), response_poles=poles(self._response),
-            closed_form=_vector(self._closed, nums, self._closed_at),
-            derivative=_vector(self._derivative, nums, self._derivative_at),
+            closed_form=closed, derivative=derivative,
             forcing=_vector(self._forcing, nums), forcing_at=scalar(self._forcing_at),
             parts=tuple((float(c(*nums)), part(fn)) for c, fn in self._parts),
             initial_value_limit=float(self._ivt(*nums)), final_value_limit=fvt,
-            final_load=_final_load(self._smooth.subs(subs), bps))
+            final_load=_final_load(self._smooth.subs(subs), bps),
+            modes=modes, forcing_modes=_modes_at(self._forcing_modes, nums))
+
+
+def _mode_table(expr, symbols):
+    """The modes of ``expr`` compiled for ``symbols``; None where it is not a sum of modes."""
+    try:
+        return ModeTable(expr, symbols)
+    except NotAModeSum:
+        return None
+
+
+def _modes_at(table, nums):
+    if table is None:
+        return None
+    try:
+        return table.at(nums)
+    except NotAModeSum:
+        return None
+
+
+def stable(modes):
+    """times → values of a sum of modes, each at its own shifted time (NaN before t = 0)."""
+    def evaluate(times):
+        return modes(np.asarray(times, dtype=float))
+    return evaluate

@@ -18,6 +18,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from .numeric_model import NumericModel
+from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
 __all__ = ["Result", "engineering_results"]
 
@@ -25,7 +26,12 @@ _VIB = "single-degree-of-freedom vibration theory (e.g. Thomson, Theory of Vibra
 _CTRL = "second-order system time-response definitions (control texts, e.g. Ogata; from memory)"
 _BIGGS = ("dynamic load factor: peak response over the static response to the peak load "
           "(J. M. Biggs, Introduction to Structural Dynamics; from memory)")
-_REFINE = "zero of y'(t) bracketed on a 20 000-point grid, refined by Brent's method (scipy.optimize.brentq)"
+_REFINE = ("zero of y'(t) bracketed on a grid of 40 points per period, refined by Brent's method "
+           "(scipy.optimize.brentq)")
+_MODES = ("closed form of the derivation, over all t ≥ 0: searched until the bound on its "
+          "decaying modes proves no later value is larger")
+_SHOCK = ("primary (load acting) and residual (after it) response; shock-response texts, e.g. "
+          "Harris' Shock and Vibration Handbook, ch. 8 (from memory)")
 
 
 @dataclass(frozen=True, slots=True)
@@ -38,6 +44,14 @@ class Result:
     unit: str
     formula: str
     source: str
+    reason: str = ""   # why the value is None (does not apply) or math.inf (unbounded)
+    note: str = ""     # e.g. "approached as t → ∞, not attained"
+
+    @property
+    def present(self) -> bool:
+        """True when the result has a finite value."""
+        m = self.magnitude
+        return m is not None and not (isinstance(m, float) and math.isinf(m))
 
     @property
     def magnitude(self):
@@ -45,9 +59,12 @@ class Result:
         return getattr(self.value, "magnitude", self.value)
 
     def to_dict(self) -> dict:
-        mag = _json_value(self.magnitude)
-        return {"key": self.key, "label": self.label, "value": mag, "unit": self.unit,
-                "formula": self.formula, "source": self.source}
+        m = self.magnitude
+        status = ("not applicable" if m is None else
+                  "unbounded" if isinstance(m, float) and math.isinf(m) else "value")
+        return {"key": self.key, "label": self.label, "value": _json_value(m) if m is not None
+                else None, "unit": self.unit, "status": status, "reason": self.reason,
+                "note": self.note, "formula": self.formula, "source": self.source}
 
 
 def _json_value(v):
@@ -67,8 +84,11 @@ def _json_number(v):
 
 
 def _quantity(value, unit: str, units):
-    """value in SI → pint Quantity in the unit given (when the problem has units)."""
-    if units is None or not unit or isinstance(value, (tuple, list, str)):
+    """value in SI → pint Quantity in the unit given (when the problem has units); None (does
+    not apply) and math.inf (unbounded) stay plain."""
+    if units is None or not unit or value is None or isinstance(value, (tuple, list, str)):
+        return value
+    if isinstance(value, float) and math.isinf(value):
         return value
     from .units import registry
     ureg = registry()
@@ -100,8 +120,9 @@ def _zeros(f, times) -> list[float]:
     return sorted(out)
 
 
-def engineering_results(model: NumericModel, t_end: float, units=None):
-    """The results mapping (read-only) from a derivation's numeric model."""
+def engineering_results(model: NumericModel, t_end: float, units=None, definitions=None):
+    """The results mapping (read-only) from a derivation's numeric model; each figure of the
+    response holds over all t ≥ 0 (``t_end`` only bounds nothing but is kept for callers)."""
     res: dict[str, Result] = {}
     y_unit = units.unknown_display if units else ""
     y_si = units.unknown_si if units else ""
@@ -119,8 +140,9 @@ def engineering_results(model: NumericModel, t_end: float, units=None):
         from .units import to_display
         return to_display(v, "s", t_unit)
 
-    def add(key, label, value, unit, formula, source):
-        res[key] = Result(key, label, _quantity(value, unit, units), unit, formula, source)
+    def add(key, label, value, unit, formula, source, reason="", note=""):
+        res[key] = Result(key, label, _quantity(value, unit, units), unit, formula, source,
+                          reason, note)
 
     a = list(model.coefficients)
     n = len(a) - 1
@@ -168,79 +190,211 @@ def engineering_results(model: NumericModel, t_end: float, units=None):
                   "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
         add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
 
-    y, dy = model.closed_form, model.derivative
-    times = np.linspace(0.0, t_end, 20001)
-    candidates = [0.0, t_end] + [float(b) for b in breakpoints if 0 < b < t_end]
-    candidates += _zeros(dy, times)
-    values = y(np.array(candidates))
-    # just before a breakpoint, for a response whose derivative jumps there
-    left = [b - 1e-12 * max(1.0, b) for b in breakpoints if 0 < b < t_end]
-    if left:
-        candidates += left
-        values = np.concatenate([values, y(np.array(left))])
-    i = int(np.nanargmax(np.abs(values)))
-    peak, t_peak = float(values[i]), float(candidates[i])
-    add("peak", "peak response", to_y(peak), y_unit, "max |y(t)| over the window; " + _REFINE,
-        "closed form of the derivation")
-    add("time_of_peak", "time of peak", to_t(t_peak), t_unit, _REFINE, "closed form of the derivation")
-
-    # Loads: final level and peak level (impulses aside).
-    far = max([float(b) for b in breakpoints] + [0.0]) + 1.0
-    f_grid = model.forcing(times)
-    f_peak = float(np.max(np.abs(f_grid))) if f_grid.size else 0.0
-    settles = model.final_load is not None
-    if a[0] != 0 and settles:
-        static = model.final_load / a[0]
-        add("static_response", "static response to the final load", to_y(static), y_unit,
-            "f(∞)/a_0: the final load level over the stiffness term", _VIB)
-    if a[0] != 0 and f_peak > 0 and not impulses:
-        static_peak = f_peak / a[0]
-        add("static_response_peak_load", "static response to the peak load", to_y(static_peak),
-            y_unit, "max|f(t)|/a_0", _BIGGS)
-        add("dynamic_load_factor", "dynamic load factor", abs(peak) / static_peak, "",
-            "|y|max / (max|f|/a_0)", _BIGGS)
-
-    # Final value and the step-response figures, where the response settles.
-    all_stable = stable and settles
-    if all_stable:
-        decay = min(decays) if decays else 1.0
-        t_far = far + 60.0 / decay
-        final = float(y(np.array([t_far]))[0])
-        if abs(final) <= 1e-12 * max(abs(peak), 1e-300):
-            final = 0.0  # the response dies away: what is left is rounding
-        add("final_value", "final value", to_y(final), y_unit,
-            "lim y(t), t → ∞ (the closed form far past the last breakpoint)",
-            "closed form of the derivation")
-        if final != 0.0:
-            y0 = float(y(np.array([0.0]))[0])
-            over = (peak - final) / final * 100 if np.sign(peak) == np.sign(final) else 0.0
-            add("percent_overshoot", "percent overshoot", max(0.0, over), "%" if units else "",
-                "100·(y_peak - y_∞)/y_∞", _CTRL)
-            band = 0.02 * abs(final)
-            long = np.linspace(0.0, t_far, 40001)
-            outside = np.nonzero(np.abs(y(long) - final) > band)[0]
-            if outside.size and outside[-1] + 1 < long.size:
-                k = outside[-1]
-                g = lambda x: abs(float(y(np.array([x]))[0]) - final) - band  # noqa: E731
-                ts = brentq(g, long[k], long[k + 1], xtol=1e-13) if g(long[k]) * g(long[k + 1]) < 0 \
-                    else float(long[k + 1])
-                add("settling_time_2pct", "2 % settling time", to_t(ts), t_unit,
-                    "last time |y - y_∞| > 2 % of |y_∞|, refined by Brent's method", _CTRL)
-            lo, hi = y0 + 0.1 * (final - y0), y0 + 0.9 * (final - y0)
-            t10 = _first_crossing(y, long, lo)
-            t90 = _first_crossing(y, long, hi)
-            if t10 is not None and t90 is not None and t90 > t10:
-                add("rise_time", "10–90 % rise time", to_t(t90 - t10), t_unit,
-                    "time from 10 % to 90 % of the change to the final value", _CTRL)
+    modes = model.modes
+    if modes is None:
+        for key, label in (("peak", "peak response"), ("final_value", "final value")):
+            absent(add, key, label, y_unit, "the closed form is not a sum of modes, so its "
+                   "behaviour over all t cannot be bounded")
+        return MappingProxyType(res)
+    load = _load_figures(model)
+    static_peak = None
+    if a[0] != 0 and not impulses and load.peak is not None and math.isfinite(load.peak) \
+            and load.peak > 0:
+        static_peak = load.peak / abs(a[0])
+    if a[0] != 0 and load.final is not None:
+        add("static_response", "static response to the final load", to_y(load.final / a[0]),
+            y_unit, "f(∞)/a_0: the final load level over the stiffness term", _VIB)
+    for r in response_results(modes, model.system_poles, at_rest=not any(model.initial),
+                              to_y=to_y, to_t=to_t, y_unit=y_unit, t_unit=t_unit, units=units,
+                              static_peak=static_peak, load=load, definitions=definitions,
+                              load_note=_load_note(a, impulses, load)):
+        res[r.key] = r
     return MappingProxyType(res)
 
 
-def _first_crossing(y, ts, level):
-    g = y(ts) - level
-    idx = np.nonzero(np.sign(g[:-1]) * np.sign(g[1:]) <= 0)[0]
-    if not idx.size:
-        return None
-    k = idx[0]
-    a, b = ts[k], ts[k + 1]
-    f = lambda x: float(y(np.array([x]))[0]) - level  # noqa: E731
-    return brentq(f, a, b, xtol=1e-13) if f(a) * f(b) < 0 else float(a)
+@dataclass(frozen=True, slots=True)
+class LoadFigures:
+    """The load's supremum |f|, its final level, and (for a pulse) when it stops acting."""
+
+    peak: float | None
+    final: float | None
+    ends: float | None
+    reason: str = ""
+
+
+def _load_figures(model) -> LoadFigures:
+    fm = getattr(model, "forcing_modes", None)
+    if fm is None:
+        return LoadFigures(None, None, None, "the load is not a sum of modes")
+    final, why = final_value(fm)
+    try:
+        peak = supremum(fm).size if len(fm) else 0.0
+    except SearchLimit as exc:
+        return LoadFigures(None, final, None, str(exc))
+    ends = None
+    if final == 0.0 and fm.breakpoints and peak > 0:
+        ends = fm.breakpoints[-1]
+    return LoadFigures(peak, final, ends, why)
+
+
+def _load_note(a, impulses, load) -> str:
+    if a[0] == 0:
+        return "the system has no static stiffness (a_0 = 0): no static response to compare with"
+    if impulses:
+        return "the load includes impulses, which have no peak level"
+    if load.peak is None:
+        return "the load's peak cannot be found: " + load.reason
+    if math.isinf(load.peak):
+        return "the load grows without bound"
+    if load.peak == 0:
+        return "there is no load (the response comes from the initial values alone)"
+    return ""
+
+
+def absent(add, key, label, unit, reason):
+    """A result that does not apply or cannot be given: value None and the reason."""
+    add(key, label, None, unit, "", "", reason=reason)
+
+
+DEFAULT_DEFINITIONS = MappingProxyType({"settling_band": 0.02, "rise": (0.1, 0.9)})
+"""Settling band (fraction of |y∞|) and rise-time levels (fractions of y∞); python-control's
+step_info uses the same defaults (SettlingTimeThreshold 0.02, RiseTimeLimits (0.1, 0.9))."""
+
+
+def definitions_of(definitions) -> dict:
+    """The step-response definitions, defaults filled in and each checked."""
+    from ..errors import ParameterError
+    out = dict(DEFAULT_DEFINITIONS)
+    for key, value in dict(definitions or {}).items():
+        if key not in out:
+            raise ParameterError(f"unknown definition {key!r}; the keys are settling_band "
+                                 "(e.g. 0.02) and rise (e.g. (0.1, 0.9))", key)
+        out[key] = value
+    band = out["settling_band"]
+    if not (isinstance(band, (int, float)) and 0 < band < 1):
+        raise ParameterError(f"settling_band must be a fraction between 0 and 1 (e.g. 0.02 for "
+                             f"2 %), not {band!r}", "settling_band")
+    rise = out["rise"]
+    if not (isinstance(rise, (tuple, list)) and len(rise) == 2
+            and all(isinstance(x, (int, float)) for x in rise) and 0 <= rise[0] < rise[1] <= 1):
+        raise ParameterError(f"rise must be two fractions (low, high) with 0 ≤ low < high ≤ 1, "
+                             f"e.g. (0.1, 0.9), not {rise!r}", "rise")
+    out["rise"] = (float(rise[0]), float(rise[1]))
+    return out
+
+
+def _pct(x: float) -> str:
+    return f"{100 * x:g}"
+
+
+def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit, units,
+                     static_peak=None, load=None, definitions=None, load_note="",
+                     name="", key=lambda k: k) -> list:
+    """Peak, time of peak, final value, overshoot, rise and settling (and, with a static
+    response to the peak load, the dynamic load factor with its primary and residual parts)
+    of one response, each over all t ≥ 0 from its modes; absent with the reason where it does
+    not apply. ``name`` and ``key`` label a system's unknowns."""
+    defs = definitions_of(definitions)
+    out = []
+    of = f" of {name}" if name else ""
+
+    def add(k, label, value, unit, formula, source, reason="", note=""):
+        out.append(Result(key(k), label + of, _quantity(value, unit, units), unit, formula,
+                          source, reason, note))
+
+    grows = growth(modes, system_poles)
+    slope = modes.derivative()
+    try:
+        peak = supremum(modes, slope=slope)
+    except SearchLimit as exc:
+        for k, label in (("peak", "peak response"), ("time_of_peak", "time of peak")):
+            absent(add, k, label, y_unit if k == "peak" else t_unit, f"not found: {exc}")
+        peak = None
+    if peak is not None:
+        if grows is not None:
+            add("peak", "peak response", math.inf, y_unit, "sup |y(t)| over t ≥ 0", _MODES,
+                reason="unbounded: " + grows.reason)
+            add("time_of_peak", "time of peak", math.inf, t_unit, "", _MODES,
+                reason="unbounded: the response grows without limit")
+        else:
+            add("peak", "peak response", to_y(peak.value), y_unit,
+                "sup |y(t)| over t ≥ 0; " + _REFINE, _MODES, note=peak.note)
+            add("time_of_peak", "time of peak", to_t(peak.time) if peak.attained else math.inf,
+                t_unit, _REFINE, _MODES, note=peak.note)
+    if static_peak is not None and peak is not None:
+        dlf_how = "DLF = sup|y| / (max|f| / a_0): the peak over the static response to the peak load"
+        add("static_response_peak_load", "static response to the peak load", to_y(static_peak),
+            y_unit, "max|f|/a_0", _BIGGS)
+        if grows is not None:
+            add("dynamic_load_factor", "dynamic load factor", math.inf, "", dlf_how, _BIGGS,
+                reason="unbounded: " + grows.reason)
+        else:
+            add("dynamic_load_factor", "dynamic load factor", peak.size / static_peak, "",
+                dlf_how, _BIGGS, note=peak.note)
+        if load is not None and load.ends is not None and grows is None:
+            primary = supremum(modes, 0.0, load.ends, slope=slope)
+            residual = supremum(modes, load.ends, slope=slope)
+            for part, ext, when in (("primary", primary, "while the load acts, 0 ≤ t ≤ t_d"),
+                                    ("residual", residual, "after the load ends, t ≥ t_d")):
+                add(f"peak_{part}", f"{part} peak ({when})", to_y(ext.value), y_unit,
+                    f"sup |y(t)| {when}, t_d = {load.ends:.6g} s", _SHOCK, note=ext.note)
+                add(f"time_of_peak_{part}", f"time of {part} peak",
+                    to_t(ext.time) if ext.attained else math.inf, t_unit, _REFINE, _SHOCK,
+                    note=ext.note)
+                add(f"dynamic_load_factor_{part}", f"{part} dynamic load factor",
+                    ext.size / static_peak, "", f"{part} peak / (max|f| / a_0)", _SHOCK,
+                    note=ext.note)
+    elif load_note and peak is not None:
+        absent(add, "dynamic_load_factor", "dynamic load factor", "", load_note)
+
+    final, why = final_value(modes, system_poles)
+    if final is None:
+        absent(add, "final_value", "final value", y_unit, why)
+    else:
+        add("final_value", "final value", to_y(final), y_unit,
+            "lim y(t) as t → ∞: the constant modes of the closed form, added exactly", _MODES)
+
+    band = defs["settling_band"]
+    lo, hi = defs["rise"]
+    figures = (("percent_overshoot", "percent overshoot", "%" if units else ""),
+               ("rise_time", f"{_pct(lo)}–{_pct(hi)} % rise time", t_unit),
+               (f"settling_time_{_pct(band)}pct", f"{_pct(band)} % settling time", t_unit))
+    reason = ""
+    if final is None:
+        reason = "no final value (" + why + ")"
+    elif final == 0.0:
+        reason = "the response returns to zero: no rise, overshoot or settling to a new level"
+    elif not at_rest:
+        reason = ("the response does not start from rest (non-zero initial values): overshoot, "
+                  "rise and settling are defined for a response from rest to a new level")
+    if reason:
+        for k, label, unit in figures:
+            absent(add, k, label, unit, reason)
+        return out
+    sign = 1.0 if final > 0 else -1.0
+    try:
+        top = supremum(modes, sense=int(sign), slope=slope)
+        over = max(0.0, (abs(top.value) - abs(final)) / abs(final) * 100) \
+            if np.sign(top.value) == sign else 0.0
+        add("percent_overshoot", "percent overshoot", over, "%" if units else "",
+            "100·(y_max - y∞)/y∞, y_max the supremum on the side of y∞", _CTRL)
+        upper = settled_after(modes, 0.5 * band * abs(final))
+        t_lo = crossing_time(modes, lo * final, sign, upper)
+        t_hi = crossing_time(modes, hi * final, sign, upper)
+        if t_lo is not None and t_hi is not None and t_hi >= t_lo:
+            add("rise_time", figures[1][1], to_t(t_hi - t_lo), t_unit,
+                f"time from {_pct(lo)} % to {_pct(hi)} % of the change to y∞ (first crossings)",
+                _CTRL)
+        else:
+            absent(add, "rise_time", figures[1][1], t_unit, "the levels are not crossed")
+        ts = settling_time(modes, final, band * abs(final))
+        add(figures[2][0], figures[2][1], to_t(ts), t_unit,
+            f"last time |y - y∞| > {_pct(band)} % of |y∞|, from the modes (the decaying part is "
+            "bounded after it), refined by Brent's method", _CTRL)
+    except SearchLimit as exc:
+        for k, label, unit in figures:
+            if not any(r.key == key(k) for r in out):
+                absent(add, k, label, unit, f"not found: {exc}")
+    return out
+
+

@@ -22,7 +22,8 @@ import sympy as sp
 from .forcing import TAU
 from .numeric_checks import (NUMERIC_TOLERANCES, RTOL, segment_cuts, grid, integrate_piecewise,
                              inversion_check, inversion_horizon, limit_checks, not_run)
-from .numeric_model import NumericModel, _compile_numpy, _compile_scalar, _smooth, _vector, \
+from .numeric_model import NumericModel, _compile_numpy, _compile_scalar, _mode_table, _modes_at, \
+    _smooth, _vector, stable, \
     s_limits, _finite
 from .parse import S, T
 from .transform import Ysym
@@ -93,13 +94,17 @@ def compile_system(problem, stages, values: dict) -> SystemNumbers:
             if parts else ()
         ivt, fvt = s_limits(num_parts) if num_parts else (sp.nan, sp.nan)
         poles = stages.response_poles.get(name, stages.system_poles)
+        modes = _modes_at(_mode_table(expr, ()), ())
+        closed = _vector(_compile_numpy(expr, ()), (), _compile_scalar(expr, ()))
+        derivative = _vector(_compile_numpy(sp.diff(expr, T), ()), (),
+                             _compile_scalar(sp.diff(expr, T), ()))
+        if modes is not None:  # evaluated mode by mode: stable for any poles and switches
+            closed, derivative = stable(modes), stable(modes.derivative())
         models[name] = NumericModel(
             coefficients=(), initial=(), breakpoints=bps, impulses=(),
             system_poles=_poles_numbers([_at(p, subs) for p in stages.system_poles]),
             response_poles=_poles_numbers([_at(p, subs) for p in poles]),
-            closed_form=_vector(_compile_numpy(expr, ()), (), _compile_scalar(expr, ())),
-            derivative=_vector(_compile_numpy(sp.diff(expr, T), ()), (),
-                               _compile_scalar(sp.diff(expr, T), ())),
+            closed_form=closed, derivative=derivative, modes=modes,
             forcing=_vector(_compile_numpy(sp.Integer(0), ())), forcing_at=lambda t: 0.0,
             parts=tuple((float(c), sp.lambdify(S, r, modules="mpmath")) for c, r in num_parts),
             initial_value_limit=_finite(ivt) if num_parts else math.nan,

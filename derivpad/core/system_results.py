@@ -14,7 +14,9 @@ from types import MappingProxyType
 
 import numpy as np
 
-from .results import Result, _REFINE, _VIB, _CTRL, _quantity, _zeros
+import sympy as sp
+
+from .results import Result, _VIB, _CTRL, _quantity, response_results
 
 __all__ = ["system_results"]
 
@@ -96,8 +98,8 @@ def system_results(problem, numbers, t_end: float, values: dict) -> MappingProxy
                     "ζ_r = φ_rᵀ C φ_r / (2 ω_r), mass-normalized φ (damping proportional: "
                     "Φᵀ C Φ diagonal)", _MODES)
 
-    settles = stable
-    times = np.linspace(0.0, t_end, 20001)
+    at_rest = not any(float(v.subs({sp.Symbol(k, positive=True): x for k, x in values.items()}))
+                      for vals in problem.initial_values for v in vals)
     for name, model in numbers.models.items():
         ctx = problem.unit_context(name) if problem.units else None
         unit = ctx.unknown_display if ctx else ""
@@ -108,25 +110,12 @@ def system_results(problem, numbers, t_end: float, values: dict) -> MappingProxy
             from .units import to_display
             return to_display(v, ctx.unknown_si, ctx.unknown_display)
 
-        y, dy = model.closed_form, model.derivative
-        candidates = [0.0, t_end] + [b for b in numbers.breakpoints if 0 < b < t_end]
-        candidates += _zeros(dy, times)
-        left = [b - 1e-12 * max(1.0, b) for b in numbers.breakpoints if 0 < b < t_end]
-        candidates += left
-        vals = y(np.array(candidates))
-        i = int(np.nanargmax(np.abs(vals)))
-        add(f"peak_{name}", f"peak of {name}", to_y(float(vals[i])), unit,
-            "max |value| over the window; " + _REFINE, "closed form of the derivation", ctx)
-        add(f"time_of_peak_{name}", f"time of peak of {name}", to_t(float(candidates[i])),
-            t_unit, _REFINE, "closed form of the derivation", ctx0)
-        if settles and all(f(np.array([1e6]))[0] == f(np.array([2e6]))[0]
-                           for f in numbers.forcing):
-            decays = [-z.real for z in zs if z.real < 0]
-            far = max(list(numbers.breakpoints) + [0.0]) + 60.0 / min(decays)
-            final = float(y(np.array([far]))[0])
-            if abs(final) <= 1e-12 * max(abs(float(vals[i])), 1e-300):
-                final = 0.0
-            add(f"final_value_{name}", f"final value of {name}", to_y(final), unit,
-                "lim value as t → ∞ (the closed form far past the last breakpoint)",
-                "closed form of the derivation", ctx)
+        if model.modes is None:
+            res[f"peak_{name}"] = Result(f"peak_{name}", f"peak of {name}", None, unit, "", "",
+                                         "the closed form is not a sum of modes")
+            continue
+        for r in response_results(model.modes, numbers.system_poles, at_rest=at_rest, to_y=to_y,
+                                  to_t=to_t, y_unit=unit, t_unit=t_unit, units=ctx or ctx0,
+                                  name=name, key=lambda k, name=name: f"{k}_{name}"):
+            res[r.key] = r
     return MappingProxyType(res)

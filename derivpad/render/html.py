@@ -19,7 +19,7 @@ from ..core.steps import Step
 from ..core.verify import Check, Verification
 from .base import Renderer
 from .latex import CAUTION, LatexRenderer
-from .notation import format_value, latex_expr
+from .notation import format_value, latex_expr, result_parts
 
 __all__ = ["HtmlRenderer", "to_html", "STYLE"]
 
@@ -152,12 +152,15 @@ class HtmlRenderer(Renderer):
         if not results:
             return ("<p>No engineering results: give numbers for the symbolic parameters "
                     "(<code>values=</code>).</p>")
-        rows = "\n".join(
-            f"<tr><td>{_esc(r.label)}</td><td class=\"dp-num\">"
-            f"{_esc(format_value(r.magnitude, self.settings['float_digits']))}</td>"
-            f"<td>{_esc(r.unit)}</td><td>{_esc(r.formula)}</td></tr>" for r in results.values())
+        rows = "\n".join(self._result_row(r) for r in results.values())
         return ('<table class="dp-results"><tr><th>Result</th><th>Value</th><th>Unit</th>'
                 f"<th>How</th></tr>\n{rows}</table>")
+
+    def _result_row(self, r) -> str:
+        value, unit, remark = result_parts(r, self.settings["float_digits"])
+        how = _esc(r.formula) + (f"<br><em>{_esc(remark)}</em>" if remark else "")
+        return (f"<tr><td>{_esc(r.label)}</td><td class=\"dp-num\">{_esc(value)}</td>"
+                f"<td>{_esc(unit)}</td><td>{how}</td></tr>")
 
     def badge(self, ver: Verification) -> str:
         if ver.passed:

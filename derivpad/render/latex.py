@@ -6,7 +6,7 @@ from ..core.derivation import Derivation
 from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
-from .notation import format_value, latex_expr
+from .notation import format_value, latex_expr, result_parts
 
 __all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
 
@@ -72,8 +72,9 @@ class LatexRenderer(Renderer):
                 + rows + "\n\\end{tabular}")
 
     def _render_Result(self, result) -> str:
-        value = _escape(format_value(result.magnitude, self.settings["float_digits"]))
-        return f"{_escape(result.label)} & {value} & {_escape(result.unit)} \\\\"
+        value, unit, remark = result_parts(result, self.settings["float_digits"])
+        value = _escape(value) + (f" ({_escape(remark)})" if remark else "")
+        return f"{_escape(result.label)} & {value} & {_escape(unit)} \\\\"
 
     def results(self, results) -> str:
         if not results:

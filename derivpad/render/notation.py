@@ -200,6 +200,19 @@ def format_value(value, digits: int = 6) -> str:
     return str(value)
 
 
+def result_parts(result, digits: int = 6) -> tuple[str, str, str]:
+    """(value, unit, remark) of a Result in words: "unbounded" with its reason, "none" with
+    why it does not apply, a value with a note such as "approached as t → ∞, not attained"."""
+    import math
+    m = result.magnitude
+    if m is None:
+        return "none", "", result.reason
+    if isinstance(m, float) and math.isinf(m):
+        word = "∞" if result.key.startswith("time_of") else "unbounded"
+        return word, ("" if word == "unbounded" else result.unit), result.reason or result.note
+    return format_value(m, digits), result.unit, result.note
+
+
 def latex_expr(expr, **settings) -> str:
     """LaTeX of one expression in our notation."""
     return NotationLatexPrinter(settings).doprint(expr)

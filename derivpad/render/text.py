@@ -9,7 +9,7 @@ from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
-from .notation import format_value, text_expr
+from .notation import format_value, result_parts, text_expr
 
 __all__ = ["TextRenderer", "to_text"]
 
@@ -64,8 +64,11 @@ class TextRenderer(Renderer):
         return "\n".join([head] + [self.render(c) for c in ver.checks])
 
     def _render_Result(self, result) -> str:
-        return f"  {result.label:<40} {format_value(result.magnitude, self.settings['float_digits'])}" \
-            + (f" {result.unit}" if result.unit else "")
+        value, unit, remark = result_parts(result, self.settings["float_digits"])
+        line = f"  {result.label:<40} {value}" + (f" {unit}" if unit else "")
+        if remark:
+            line += "\n" + self._wrap(remark, "      ")
+        return line
 
     def results(self, results) -> str:
         if not results:

@@ -20,7 +20,8 @@ def test_suddenly_applied_load_on_an_undamped_oscillator_has_dlf_two():
     wn = math.sqrt(2000 / 5)
     assert r["time_of_peak"].magnitude == pytest.approx(math.pi / wn, rel=1e-9)
     assert r["regime"].magnitude == "undamped"
-    assert "final_value" not in r  # an undamped response does not settle
+    # an undamped response does not settle: no final value, and the reason says why
+    assert r["final_value"].magnitude is None and "oscillating" in r["final_value"].reason
 
 
 @pytest.mark.parametrize("ratio", [0.1, 0.25, 0.4, 0.6, 1.3])
@@ -101,10 +102,14 @@ def test_results_carry_units_and_sources():
     assert d.results["natural_frequency"].unit == "rad/s"
     assert d.results["natural_frequency"].magnitude == pytest.approx(20.0, rel=1e-12)
     for r in d.results.values():
-        assert r.formula and r.source
+        assert (r.formula and r.source) or (r.magnitude is None and r.reason)
 
 
 def test_results_are_only_stated_where_meaningful():
     d = derive("y'' + 4*y = sin(2*t)", ics={"y(0)": 0, "y'(0)": 0})
-    assert "settling_time_2pct" not in d.results and "final_value" not in d.results
+    # resonance (forcing at the natural frequency, 2 rad/s): unbounded, t·sin 2t growth
+    assert d.results["peak"].magnitude == math.inf
+    assert "resonance" in d.results["peak"].reason
+    assert d.results["settling_time_2pct"].magnitude is None
+    assert d.results["final_value"].magnitude is None
     assert "static_response" not in d.results  # the load does not settle to a level

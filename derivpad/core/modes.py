@@ -1,0 +1,336 @@
+"""A closed form as a sum of modes: u(t - c)·(t - c)^k e^{a(t - c)}(A cos b(t - c) + B sin b(t - c)).
+
+Every solution the engine writes is such a sum (one group of modes per switching time). Read
+this way, a response is evaluated stably — each mode at its own shifted time and only where
+its step is on, so no e^{a - at} factor is ever evaluated before its switch — and its
+behaviour over all t ≥ 0 is known: which modes grow, what is left as t → ∞, and a bound on
+the decaying part after any time. :mod:`derivpad.core.response` reads peaks, final values and
+settling from it. The same code serves one unknown or many (each unknown and derived
+quantity is its own sum of modes).
+
+``symbolic_modes`` reads the modes of a SymPy expression once (parameters may stay symbols);
+``ModeTable.compile`` turns them into a function of the parameters' numbers; ``Modes`` holds
+the numbers and evaluates them.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import mpmath
+import numpy as np
+import sympy as sp
+
+from .parse import T
+
+__all__ = ["ModeTable", "Modes", "NotAModeSum", "symbolic_modes"]
+
+_TAU = sp.Symbol("tau_m", real=True)
+_CANCELLATION = 1e6
+"""Terms this many times larger than their sum are re-added in 40-digit arithmetic."""
+
+
+class NotAModeSum(ValueError):
+    """The expression is not a sum of delayed exponential-polynomial-trigonometric modes."""
+
+
+# -- reading the modes of an expression ----------------------------------------------------
+
+def _linear(arg, what):
+    """arg = slope·τ + offset with slope, offset free of τ."""
+    slope = sp.diff(arg, _TAU)
+    if slope.has(_TAU):
+        raise NotAModeSum(f"{what} of a non-linear argument {arg}")
+    return slope, sp.expand(arg - slope * _TAU)
+
+
+def _term_mode(term):
+    """One product → [(k, a, b, cos coefficient, sin coefficient)], b taken ≥ 0 where numeric."""
+    coef, rest = term.as_independent(_TAU, as_Add=False)
+    k, a = 0, sp.Integer(0)
+    trig = None
+    for factor in sp.Mul.make_args(rest):
+        if factor == 1:
+            continue
+        base, power = factor.as_base_exp()
+        if base == _TAU and power.is_Integer and power > 0:
+            k += int(power)
+        elif isinstance(factor, sp.exp) or (base == sp.E):
+            arg = factor.args[0] if isinstance(factor, sp.exp) else power
+            slope, offset = _linear(arg, "exponential")
+            a += slope
+            coef *= sp.exp(offset)
+        elif isinstance(factor, (sp.cos, sp.sin)) and trig is None:
+            b, phase = _linear(factor.args[0], "trigonometric function")
+            trig = (type(factor), b, phase)
+        else:
+            raise NotAModeSum(f"factor {factor} is not τ^k, e^(aτ), cos(bτ) or sin(bτ)")
+    if trig is None:
+        return [(k, a, sp.Integer(0), coef, sp.Integer(0))]
+    kind, b, phase = trig
+    if b.is_number and b < 0:
+        b, phase = -b, -phase
+        sign = -1 if kind is sp.sin else 1
+        coef = coef * sign
+    # cos(bτ + φ) = cos φ cos bτ - sin φ sin bτ; sin(bτ + φ) = sin φ cos bτ + cos φ sin bτ
+    if kind is sp.cos:
+        return [(k, a, b, coef * sp.cos(phase), -coef * sp.sin(phase))]
+    return [(k, a, b, coef * sp.sin(phase), coef * sp.cos(phase))]
+
+
+def _delay_of(term):
+    """(c, the rest) for a term with one Heaviside(t - c) factor; (0, term) for none."""
+    steps = [f for f in sp.Mul.make_args(term) if isinstance(f, sp.Heaviside)]
+    if not steps:
+        return sp.Integer(0), term
+    if len(steps) > 1:
+        raise NotAModeSum(f"a product of steps {term}")
+    arg = steps[0].args[0]
+    slope = sp.diff(arg, T)
+    if slope != 1 or arg.has(sp.Heaviside):
+        raise NotAModeSum(f"a step of {arg}")
+    rest = sp.Mul(*[f for f in sp.Mul.make_args(term) if f is not steps[0]])
+    return sp.expand(T - arg), rest
+
+
+def symbolic_modes(expr: sp.Expr) -> tuple:
+    """The modes of a Heaviside-form expression in t: ((c, k, a, b, A, B), ...), grouped.
+
+    Impulse terms (DiracDelta) are left out: they act at an instant, not over time.
+    """
+    expr = sp.expand(sp.sympify(expr).replace(sp.DiracDelta, lambda *a: sp.Integer(0)),
+                     power_exp=False, trig=False)
+    table: dict = {}
+    for term in sp.Add.make_args(expr):
+        if term == 0:
+            continue
+        delay, rest = _delay_of(term)
+        local = sp.expand(rest.subs(T, _TAU + delay), power_exp=False, trig=False)
+        for piece in sp.Add.make_args(local):
+            if piece == 0:
+                continue
+            for k, a, b, ca, cb in _term_mode(piece):
+                key = (delay, k, sp.expand(a), sp.expand(b))
+                old = table.get(key, (sp.Integer(0), sp.Integer(0)))
+                table[key] = (old[0] + ca, old[1] + cb)
+    return tuple((c, k, a, b, ca, cb) for (c, k, a, b), (ca, cb) in table.items())
+
+
+class ModeTable:
+    """The modes of an expression, compiled once for numbers of ``symbols``."""
+
+    def __init__(self, expr: sp.Expr, symbols=()):
+        self.symbols = tuple(symbols)
+        args = tuple(sp.Symbol(n, positive=True) for n in self.symbols)
+        rows = symbolic_modes(expr)
+        self.powers = np.array([r[1] for r in rows], dtype=int)
+        fields = [[sp.Integer(0) + r[i] for r in rows] for i in (0, 2, 3, 4, 5)]
+        self._float = sp.lambdify(args, fields, modules="math") if rows else None
+        # the coefficients again at 40 digits, for the terms that cancel (see Modes.__call__)
+        self._exact = (sp.lambdify(args, fields, modules="mpmath") if rows else None)
+
+    def at(self, values=()) -> "Modes":
+        """The modes for numbers (a tuple in the order of ``symbols``)."""
+        if self._float is None:
+            return Modes.empty()
+        nums = tuple(float(v) for v in values)
+        try:
+            delay, a, b, ca, cb = (np.array([complex(x) for x in f]) for f in self._float(*nums))
+        except (ValueError, ZeroDivisionError, OverflowError, TypeError) as exc:
+            raise NotAModeSum(f"the modes cannot be evaluated for these numbers ({exc})") from exc
+        if np.any(np.abs(np.concatenate([delay.imag, a.imag, b.imag])) > 1e-9 * (
+                1 + np.abs(np.concatenate([delay.real, a.real, b.real])))):
+            raise NotAModeSum("a mode's rate, frequency or delay is complex for these numbers")
+        with mpmath.workdps(40):
+            ex = [list(f) for f in self._exact(*[mpmath.mpf(x) for x in nums])]
+        flip = b.real < 0  # cos(-bτ) = cos bτ, sin(-bτ) = -sin bτ
+        for i in np.nonzero(flip)[0]:
+            ex[2][i], ex[4][i] = -ex[2][i], -ex[4][i]
+        sign = np.where(flip, -1.0, 1.0)
+        return Modes(delay.real, self.powers.copy(), a.real, np.abs(b.real),
+                     ca.real, sign * cb.real, tuple(tuple(f) for f in ex))
+
+
+# -- the numbers ----------------------------------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class Modes:
+    """Numeric modes: arrays of delay c, power k, rate a, frequency b ≥ 0 and the cos and sin
+    coefficients A, B. Callable on an array of times (NaN before t = 0)."""
+
+    delay: np.ndarray
+    power: np.ndarray
+    rate: np.ndarray
+    freq: np.ndarray
+    cos: np.ndarray
+    sin: np.ndarray
+    exact: tuple = ()   # (delay, a, b, A, B) as mpmath numbers, for cancelling terms
+
+    @staticmethod
+    def empty() -> "Modes":
+        z = np.zeros(0)
+        return Modes(z, np.zeros(0, dtype=int), z, z, z, z, ())
+
+    @classmethod
+    def of(cls, expr: sp.Expr) -> "Modes":
+        """The modes of an expression with numbers only."""
+        return ModeTable(expr).at(())
+
+    def __len__(self) -> int:
+        return len(self.delay)
+
+    @property
+    def amplitude(self) -> np.ndarray:
+        """√(A² + B²) of each mode: its size apart from τ^k e^{aτ}."""
+        return np.hypot(self.cos, self.sin)
+
+    @property
+    def breakpoints(self) -> tuple[float, ...]:
+        """The switching times after 0, in order."""
+        return tuple(sorted({float(c) for c in self.delay if c > 0}))
+
+    def _terms(self, t: np.ndarray, strict: bool = False) -> np.ndarray:
+        """Each mode's value at each time (modes × times), zero where its step is off."""
+        out = np.zeros((len(self), t.size))
+        for m in range(len(self)):
+            tau = t - self.delay[m]
+            on = tau > 0 if strict else tau >= 0
+            if not np.any(on):
+                continue
+            x = tau[on]
+            with np.errstate(over="ignore", invalid="ignore"):
+                v = np.exp(self.rate[m] * x) if self.rate[m] != 0 else np.ones_like(x)
+                if self.power[m]:
+                    v = v * x ** int(self.power[m])
+                if self.freq[m] != 0:
+                    w = self.freq[m] * x
+                    v = v * (self.cos[m] * np.cos(w) + self.sin[m] * np.sin(w))
+                else:
+                    v = v * self.cos[m]
+            out[m, on] = v
+        return out
+
+    def __call__(self, times, strict: bool = False) -> np.ndarray:
+        """y(times); ``strict`` gives the left limits (a mode switched on at t not yet on).
+
+        Where the terms are far larger than their sum (nearly equal poles), the sum is
+        re-formed in 40-digit arithmetic from the exact coefficients, so nearly equal time
+        constants give the answer of exactly equal ones.
+        """
+        t = np.atleast_1d(np.asarray(times, dtype=float))
+        if not len(self):
+            return np.where(t >= 0, 0.0, np.nan)
+        terms = self._terms(t, strict)
+        y = terms.sum(axis=0)
+        with np.errstate(invalid="ignore"):
+            size = np.abs(terms).sum(axis=0)
+            bad = np.nonzero(np.isfinite(size) & (size > _CANCELLATION * np.abs(y))
+                             & (size > 1e-300))[0]
+        if bad.size and self.exact:
+            y[bad] = [self._precise(t[i], strict) for i in bad]
+        return np.where(t >= 0, y, np.nan)
+
+    def _precise(self, t: float, strict: bool) -> float:
+        delay, a, b, ca, cb = self.exact
+        with mpmath.workdps(40):
+            total = size = mpmath.mpf(0)
+            for m in range(len(self)):
+                # the shifted time as the float evaluation forms it: a sample at a switching
+                # time is exactly at the switch
+                tau = mpmath.mpf(float(t) - float(self.delay[m]))
+                if tau < 0 or (strict and tau == 0):
+                    continue
+                v = mpmath.exp(a[m] * tau) * tau ** int(self.power[m])
+                term = v * (ca[m] * mpmath.cos(b[m] * tau) + cb[m] * mpmath.sin(b[m] * tau))
+                total += term
+                size += abs(term)
+            # what is left of terms that cancel to 35 digits is rounding: the value is zero
+            return 0.0 if abs(total) <= mpmath.mpf(10) ** -35 * size else float(mpmath.re(total))
+
+    def derivative(self) -> "Modes":
+        """The modes of dy/dt away from the switching times (jumps at a switch left out)."""
+        rows = []
+        for m in range(len(self)):
+            c, k, a, b, A, B = (self.delay[m], int(self.power[m]), self.rate[m], self.freq[m],
+                                self.cos[m], self.sin[m])
+            if k:  # k τ^{k-1} e^{aτ}(A cos + B sin)
+                rows.append((c, k - 1, a, b, k * A, k * B))
+            # τ^k e^{aτ}((aA + bB) cos + (aB - bA) sin)
+            rows.append((c, k, a, b, a * A + b * B, a * B - b * A))
+        exact = ()
+        if self.exact:
+            d, ea, eb, eA, eB = self.exact
+            cols = [[], [], [], [], []]
+            for m in range(len(self)):
+                k = int(self.power[m])
+                if k:
+                    for i, v in enumerate((d[m], ea[m], eb[m], k * eA[m], k * eB[m])):
+                        cols[i].append(v)
+                for i, v in enumerate((d[m], ea[m], eb[m], ea[m] * eA[m] + eb[m] * eB[m],
+                                       ea[m] * eB[m] - eb[m] * eA[m])):
+                    cols[i].append(v)
+            exact = tuple(tuple(c) for c in cols)
+        if not rows:
+            return Modes.empty()
+        cols = list(zip(*rows))
+        return Modes(np.array(cols[0], float), np.array(cols[1], int), np.array(cols[2], float),
+                     np.array(cols[3], float), np.array(cols[4], float), np.array(cols[5], float),
+                     exact)
+
+    def scaled(self, factor: float) -> "Modes":
+        """factor·y."""
+        exact = ()
+        if self.exact:
+            d, a, b, A, B = self.exact
+            exact = (d, a, b, tuple(factor * x for x in A), tuple(factor * x for x in B))
+        return Modes(self.delay, self.power, self.rate, self.freq, factor * self.cos,
+                     factor * self.sin, exact)
+
+    # -- what the modes say about t → ∞ --------------------------------------------------
+    def scale(self) -> float:
+        """A size for relative thresholds: the largest amplitude."""
+        return float(np.max(self.amplitude)) if len(self) else 0.0
+
+    def present(self) -> np.ndarray:
+        """Modes whose amplitude is more than rounding of the largest."""
+        amp = self.amplitude
+        return amp > 1e-13 * max(self.scale(), 1e-300)
+
+    def rate_scale(self) -> float:
+        vals = np.concatenate([np.abs(self.rate), self.freq, [1.0]])
+        return float(np.max(vals))
+
+    def is_steady(self) -> np.ndarray:
+        """Modes with no decay and no growth (a = 0 up to rounding)."""
+        return np.abs(self.rate) <= 1e-11 * self.rate_scale()
+
+    def classify(self):
+        """(growing, steady, decaying) boolean masks over the present modes.
+
+        Growing: a > 0, or a = 0 with k ≥ 1 (t^k growth). Steady: a = 0, k = 0 (a constant
+        or an undamped oscillation). Decaying: a < 0.
+        """
+        on = self.present()
+        steady_rate = self.is_steady()
+        growing = on & ((~steady_rate & (self.rate > 0)) | (steady_rate & (self.power > 0)))
+        steady = on & steady_rate & (self.power == 0)
+        decaying = on & ~steady_rate & (self.rate < 0)
+        return growing, steady, decaying
+
+    def tail_bound(self, t0: float, decaying: np.ndarray) -> float:
+        """An upper bound of |Σ decaying modes| for every t ≥ t0 (t0 past every switch on)."""
+        total = 0.0
+        for m in np.nonzero(decaying)[0]:
+            tau = max(t0 - self.delay[m], 0.0)
+            k, a = int(self.power[m]), float(self.rate[m])
+            peak_at = k / -a  # τ^k e^{aτ} rises up to τ = k/|a|, then falls
+            x = max(tau, peak_at)
+            total += self.amplitude[m] * (x ** k if k else 1.0) * math.exp(a * x)
+        return total
+
+    def subset(self, mask) -> "Modes":
+        idx = np.nonzero(mask)[0]
+        exact = tuple(tuple(col[i] for i in idx) for col in self.exact) if self.exact else ()
+        return Modes(self.delay[idx], self.power[idx], self.rate[idx], self.freq[idx],
+                     self.cos[idx], self.sin[idx], exact)
