@@ -28,7 +28,7 @@ from .units import dimension_text, read_quantity
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
 from .numeric_model import ParametricModel
-from .results import engineering_results
+from .results import definitions_of, engineering_results
 from .verify import Verification, self_check
 from .window import window_end
 
@@ -38,7 +38,8 @@ __all__ = ["Stages", "check_options", "compile_model", "complete", "derive", "de
 
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
            values=None, regime: str = "underdamped", tolerances=None,
-           window: float | None = None, checks: str = "all", derived=None):
+           window: float | None = None, checks: str = "all", derived=None,
+           on_failure: str = "raise", definitions=None):
     """Solve a linear constant-coefficient ODE (or a coupled system) by the Laplace
     transform, step by step.
 
@@ -74,6 +75,12 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
         back-substitution (for fast exploration; the derivation then counts as not verified).
     derived : mapping, optional
         For a system: named quantities to report, ``{"stroke": "x1 - x2"}``.
+    on_failure : {"raise", "return"}
+        When a check fails: raise VerificationFailedError (default), or return the derivation
+        for inspection, marked NOT VERIFIED, with every engineering result absent.
+    definitions : mapping, optional
+        Step-response definitions: ``settling_band`` (default 0.02) and ``rise`` (default
+        (0.1, 0.9)); see docs/results.md.
 
     Returns
     -------
@@ -83,8 +90,8 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     ------
     DerivpadError
         ParseError, EquationError, InitialConditionError, ParameterError, UnitError,
-        ForcingError, SolveError; VerificationFailedError if the engine's own check rejects
-        the answer.
+        ForcingError, SolveError; VerificationFailedError if a check fails (the engine's own
+        always; the independent ones unless ``on_failure="return"``).
 
     Examples
     --------
@@ -99,24 +106,28 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
         from .system_engine import derive_system
         return derive_system(equation, ics, params, units=units, values=values,
                              derived=derived, regime=regime, tolerances=tolerances,
-                             window=window, checks=checks)
+                             window=window, checks=checks, on_failure=on_failure,
+                             definitions=definitions)
     if derived is not None:
         raise ParameterError("derived= is for a system of equations; for one equation, "
                              "evaluate the quantity from d.solution", "derived")
     problem = make_problem(equation, ics, params, unknown, units)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
-                          window=window, checks=checks)
+                          window=window, checks=checks, on_failure=on_failure,
+                          definitions=definitions)
 
 
 def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=None,
-                   values=None, window: float | None = None, checks: str = "all") -> Derivation:
+                   values=None, window: float | None = None, checks: str = "all",
+                   on_failure: str = "raise", definitions=None) -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
-    tolerances = check_options(checks, tolerances)
+    tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     value_map = parameter_values(problem, values)
     stages = solve_stages(problem, regime)
     checks_own = engine_check(problem, stages, tolerances.get("back_substitution"), value_map)
     return complete(problem, stages, checks_own, value_map, tolerances=tolerances,
-                    window=window, checks=checks)
+                    window=window, checks=checks, on_failure=on_failure,
+                    definitions=definitions)
 
 
 @dataclass(frozen=True)
@@ -326,10 +337,24 @@ def engine_check(problem: Problem, stages: Stages, tolerance=None, preferred=Non
     return checks_own
 
 
-def check_options(checks: str, tolerances) -> dict:
-    """The checks= and tolerances= options, validated."""
+def check_options(checks: str, tolerances, on_failure: str = "raise", window=None,
+                  definitions=None) -> dict:
+    """The checks=, tolerances=, on_failure=, window= and definitions= options, validated."""
+    import math
     if checks not in ("all", "engine"):
         raise ParameterError(f"checks must be 'all' or 'engine', not {checks!r}", "checks")
+    if on_failure not in ("raise", "return"):
+        raise ParameterError(f"on_failure must be 'raise' or 'return', not {on_failure!r}",
+                             "on_failure")
+    if window is not None:
+        ok = isinstance(window, (int, float)) and not isinstance(window, bool)
+        if not ok or not math.isfinite(window) or window <= 0:
+            raise ParameterError(f"window must be a positive, finite time in seconds (e.g. "
+                                 f"window=2.5), not {window!r}", "window")
+    definitions_of(definitions)
+    if tolerances is not None and not hasattr(tolerances, "items"):
+        raise ParameterError("tolerances must be a mapping, e.g. tolerances={'integration': "
+                             "1e-6}", "tolerances")
     tolerances = dict(tolerances or {})
     unknown_keys = set(tolerances) - {"back_substitution", "integration", "inversion", "limits"}
     if unknown_keys:
@@ -346,7 +371,8 @@ def compile_model(problem: Problem, stages: Stages, symbols=()) -> ParametricMod
 
 
 def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, tolerances,
-             window, checks: str = "all", model: ParametricModel | None = None) -> Derivation:
+             window, checks: str = "all", model: ParametricModel | None = None,
+             on_failure: str = "raise", definitions=None) -> Derivation:
     """The Derivation: the stages, the engine's checks, and (for checks="all" with numbers
     for every symbolic parameter) the independent checks and the engineering results.
 
@@ -373,11 +399,36 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
     numbers = model.at(value_map)
     extra, samples = independent_checks(numbers, numeric_tol,
                                         lambda poles, bps: window_end(poles, bps, window))
-    results = engineering_results(numbers, float(samples.times[-1]), problem.units)
-    derivation = Derivation(**fields, verification=Verification(tuple(checks_own) + extra,
-                                                                samples), results=results)
+    verification = Verification(tuple(checks_own) + extra, samples)
+    refuse_failed(verification, problem.text, on_failure)
+    results = (engineering_results(numbers, float(samples.times[-1]), problem.units, definitions)
+               if verification.passed else withheld(verification))
+    derivation = Derivation(**fields, verification=verification, results=results)
     derivation._cache["numpy"] = numbers.closed_form  # d(times) uses the same compiled form
     return derivation
+
+
+def refuse_failed(verification: Verification, what: str, on_failure: str) -> None:
+    """Raise VerificationFailedError naming each failed check, its error and tolerance, unless
+    the caller asked for the unverified derivation (on_failure="return")."""
+    if verification.passed or on_failure == "return":
+        return
+    worst = "; ".join(
+        f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}" if c.ran
+        else f"{c.name}: could not run ({c.detail})" for c in verification.failed)
+    msg = (f"a check of {what!r} failed ({worst}); no answer is returned. To inspect the "
+           "derivation anyway, derive again with on_failure=\"return\" (it is then marked NOT "
+           "VERIFIED and has no engineering results)")
+    raise VerificationFailedError(msg, verification.failed)
+
+
+def withheld(verification: Verification):
+    """The results of an unverified derivation: none, with the reason."""
+    from .results import Result
+    names = ", ".join(c.name for c in verification.failed)
+    reason = f"verification failed ({names}): no engineering result is given"
+    return MappingProxyType({"verification": Result("verification", "engineering results", None,
+                                                    "", "", "", reason)})
 
 
 def parameter_values(problem: Problem, values) -> dict:

@@ -138,7 +138,7 @@ class DerivationFamily:
             self._compiled[regime] = (own, compile_model(self.problem, stages, self.vary))
         own, model = self._compiled[regime]
         d = complete(self.problem, stages, own, value_map, tolerances=self._tolerances,
-                     window=self._args["window"], model=model)
+                     window=self._args["window"], model=model, on_failure="return")
         return d if d.verification.passed else None
 
     def at(self, values: dict) -> FamilyMember:

@@ -360,7 +360,8 @@ def _interval_text(i: int, intervals) -> str:
 
 def derive_system(equations, ics=None, params=None, *, units=None, values=None,
                   derived=None, regime: str = "underdamped", tolerances=None,
-                  window: float | None = None, checks: str = "all"):
+                  window: float | None = None, checks: str = "all", on_failure: str = "raise",
+                  definitions=None):
     """Solve a coupled system of linear constant-coefficient ODEs by the Laplace transform.
 
     As :func:`derivpad.derive` for one equation; ``equations`` is a list (text or SymPy
@@ -370,7 +371,8 @@ def derive_system(equations, ics=None, params=None, *, units=None, values=None,
     from .system_problem import make_system_problem
     problem = make_system_problem(equations, ics, params, units, derived)
     return derive_system_problem(problem, regime=regime, tolerances=tolerances, values=values,
-                                 window=window, checks=checks)
+                                 window=window, checks=checks, on_failure=on_failure,
+                                 definitions=definitions)
 
 
 def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, names=None,
@@ -386,12 +388,12 @@ def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, name
 
 
 def derive_system_problem(problem, *, regime="underdamped", tolerances=None, values=None,
-                          window=None, checks="all"):
+                          window=None, checks="all", on_failure="raise", definitions=None):
     """The stages, the checks and the results for a checked :class:`SystemProblem`."""
     from types import MappingProxyType
 
     from ..errors import VerificationFailedError
-    from .engine import check_options, parameter_values
+    from .engine import check_options, parameter_values, refuse_failed, withheld
     from .numeric_checks import INDEPENDENT_CHECKS, missing_values, not_run
     from .system_checks import compile_system, system_independent_checks, system_self_check
     from .system_derivation import SystemDerivation
@@ -399,7 +401,7 @@ def derive_system_problem(problem, *, regime="underdamped", tolerances=None, val
     from .verify import Verification
     from .window import window_end
 
-    tolerances = check_options(checks, tolerances)
+    tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     value_map = parameter_values(_ParameterView(problem), values)
     stages = solve_system_stages(problem, regime, value_map or None)
     own = system_self_check(problem, stages, tolerances.get("back_substitution"), value_map)
@@ -427,8 +429,11 @@ def derive_system_problem(problem, *, regime="underdamped", tolerances=None, val
     every = [z for m in numbers.models.values() for z in m.response_poles]
     end = window_end(every, list(numbers.breakpoints), window)
     extra, samples = system_independent_checks(numbers, numeric_tol, end)
-    results = system_results(problem, numbers, end, value_map)
-    d = SystemDerivation(**fields, verification=Verification(tuple(own) + extra, samples),
+    verification = Verification(tuple(own) + extra, samples)
+    refuse_failed(verification, "the system", on_failure)
+    results = (system_results(problem, numbers, end, value_map, definitions)
+               if verification.passed else withheld(verification))
+    d = SystemDerivation(**fields, verification=verification,
                          results=results, derived=_derived(problem, stages))
     d._cache["numpy"] = {name: m.closed_form for name, m in numbers.models.items()}
     return d

@@ -41,7 +41,8 @@ def _mechanical(problem, values):
     return M, C, K
 
 
-def system_results(problem, numbers, t_end: float, values: dict) -> MappingProxyType:
+def system_results(problem, numbers, t_end: float, values: dict,
+                   definitions=None) -> MappingProxyType:
     """The results mapping (read-only) for a system with numbers for all parameters."""
     res: dict[str, Result] = {}
     ctx0 = problem.unit_context(problem.unknowns[0]) if problem.units else None
@@ -116,6 +117,7 @@ def system_results(problem, numbers, t_end: float, values: dict) -> MappingProxy
             continue
         for r in response_results(model.modes, numbers.system_poles, at_rest=at_rest, to_y=to_y,
                                   to_t=to_t, y_unit=unit, t_unit=t_unit, units=ctx or ctx0,
-                                  name=name, key=lambda k, name=name: f"{k}_{name}"):
+                                  name=name, key=lambda k, name=name: f"{k}_{name}",
+                                  definitions=definitions):
             res[r.key] = r
     return MappingProxyType(res)

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 import sympy as sp
 
-from derivpad import ParameterError, derive
+from derivpad import ParameterError, VerificationFailedError, derive
 from derivpad.core.engine import compile_model, solve_stages
 from derivpad.core.numeric_checks import integration_check, inversion_check
 from derivpad.core.parse import S
@@ -64,10 +64,19 @@ def test_values_let_the_numerical_checks_run_on_a_symbolic_derivation():
 
 
 def test_tolerances_can_be_set_per_call():
-    d = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2, tolerances={"integration": 1e-30})
+    # a failed check stops the answer, naming the check, its error and tolerance
+    with pytest.raises(VerificationFailedError, match="Numerical integration: error .* > "
+                                                      "tolerance 1e-30"):
+        derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2, tolerances={"integration": 1e-30})
+    d = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2, tolerances={"integration": 1e-30},
+               on_failure="return")
     check = d.verification.checks[3]
     assert check.tolerance == 1e-30 and check.status == "FAILED"
     assert not d.verification.passed
+    # no engineering result from an unverified derivation: each absent, with the reason
+    assert [r.magnitude for r in d.results.values()] == [None]
+    assert "verification failed" in d.results["verification"].reason
+    assert "NOT VERIFIED" in d.to_text()
     with pytest.raises(ParameterError, match="unknown tolerance 'speed'"):
         derive("y' + y = 1", ics={"y(0)": 0}, tolerances={"speed": 1})
 

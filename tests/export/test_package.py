@@ -91,7 +91,7 @@ def _notebook(tmp_path, body: str) -> Path:
 
 def test_failing_verification_is_refused_naming_cell_and_check(tmp_path):
     path = _notebook(tmp_path, "derivpad.derive(\"y'' + 4*y = u(t)\", ics={'y(0)': 0, "
-                               "\"y'(0)\": 0}, tolerances={'integration': 1e-30})")
+                               "\"y'(0)\": 0}, tolerances={'integration': 1e-30}, on_failure='return')")
     with pytest.raises(PackageRefusedError) as err:
         make_package(path, tmp_path / "out", pdf=False, **quiet)
     assert "code cell 2" in str(err.value) and "Numerical integration: FAILED" in str(err.value)
