@@ -139,13 +139,14 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     out.append(derivation.to_text())
     out += ["", f"Solution: {derivation.unknown}(t) = {text_expr(derivation.solution)}"]
     if times:
-        from .core.units import display_factor
+        from .core.units import display_factor, display_offset
         units = derivation.problem.units
         scale = display_factor(units.unknown_si, units.unknown_display) if units else 1.0
+        offset = display_offset(units.unknown_si, units.unknown_display) if units else 0.0
         t_unit = f" [{units.time_display}]" if units else ""
         y_unit = f" [{units.unknown_display}]" if units else ""
         t_scale = display_factor("s", units.time_display) if units else 1.0
-        values = derivation(list(times)) * scale
+        values = derivation(list(times)) * scale + offset
         out += ["", f"{'t' + t_unit:>12}  {derivation.unknown + '(t)' + y_unit:>18}"]
         out += [f"{t * t_scale:>12.4g}  {v:>18.6e}" for t, v in zip(times, values)]
     return "\n".join(out)

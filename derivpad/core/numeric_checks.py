@@ -19,6 +19,7 @@ import mpmath
 import numpy as np
 from scipy.integrate import odeint
 
+from ..errors import SolveError
 from .numeric_model import NumericModel
 from .verify import Check, Samples
 
@@ -106,8 +107,8 @@ def integrate_piecewise(rhs, z, times, cuts, kicks, kick, atol) -> np.ndarray:
         ys, info = odeint(rhs, z, at, rtol=RTOL, atol=atol, tcrit=[right], mxstep=200000,
                           full_output=True)
         if info["message"] != "Integration successful.":
-            raise ArithmeticError(f"the integrator (LSODA) failed between t = {left} and "
-                                  f"{right}: {info['message']}")
+            raise SolveError(f"the integrator (LSODA) failed between t = {left:.6g} and "
+                             f"{right:.6g}: {info['message'].strip()}")
         out[sel] = ys[1:-1]
         z = ys[-1]
     return out
@@ -120,8 +121,15 @@ def integration_check(model: NumericModel, t_end: float,
     times = grid(t_end, breakpoints)
     ours = model.closed_form(times)
     scale = float(np.nanmax(np.abs(ours))) if np.isfinite(ours).any() else 1.0
-    ref = integrate(model.coefficients, model.initial, model.forcing_at, breakpoints,
-                    model.impulses, times, scale)
+    method = (f"The ODE integrated by SciPy odeint (LSODA, rtol {RTOL:.0e}) between "
+              "breakpoints, impulses as jumps in y^(n-1).")
+    try:
+        ref = integrate(model.coefficients, model.initial, model.forcing_at, breakpoints,
+                        model.impulses, times, scale)
+    except SolveError as exc:
+        return not_run("Numerical integration", method, tolerance, str(exc)), \
+            Samples(times, ours, np.full_like(ours, np.nan), model.forcing(times),
+                    tuple(breakpoints))
     peak = max(float(np.max(np.abs(ref))), float(np.max(np.abs(ours))), 1e-300)
     # At a breakpoint the closed form gives the value from the right; the integrator arrives
     # from the left. Compare at the grid points off the breakpoints.

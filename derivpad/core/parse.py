@@ -17,6 +17,11 @@ Grammar (``^`` and ``**`` are the same operator, right-associative)::
 
 The unknown is the one name written with primes (``y'``, ``y''``) or with a parenthesised
 order (``y^(4)``); ``y^(4)`` of the unknown is its fourth derivative, ``y^4`` its fourth power.
+
+Size limits (``LIMITS``) are checked on the tokens and while parsing, before any arithmetic, so
+no text can make the parser build a huge number or recurse without end: the text's length, a
+literal's digits and decimal exponent, the nesting depth, a power of a power, a power's
+exponent and the size of a number a power would make, and the derivative order.
 """
 
 from __future__ import annotations
@@ -30,7 +35,7 @@ import sympy as sp
 
 from ..errors import ParseError, UnknownNameError, UnsafeInputError
 
-__all__ = ["ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
+__all__ = ["LIMITS", "ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
            "FUNCTIONS", "RESERVED_NAMES"]
 
 T = sp.Symbol("t", real=True)
@@ -51,12 +56,25 @@ FUNCTIONS = {
 """The only functions the text may call, by name."""
 
 CONSTANTS = {"pi": sp.pi}
+
+LIMITS = {
+    "length": 5000,        # characters of one equation or value
+    "digits": 40,          # digits of one number literal
+    "exponent": 300,       # |decimal exponent| of a literal: 1e300 is the largest
+    "depth": 60,           # nested brackets, function calls and signs
+    "power": 100,          # |exponent| of a power with a whole or fractional number exponent
+    "number_digits": 400,  # digits of a number a power of numbers would make
+    "order": 12,           # highest derivative order
+}
+"""What the parser accepts; beyond each, a ParseError names the limit and the column."""
+
+_NOT_FINITE = {"nan", "inf", "infinity", "oo", "zoo"}
 RESERVED_NAMES = frozenset({"t", "s"}) | set(FUNCTIONS) | set(CONSTANTS)
 
 _TOKEN = re.compile(
     r"""
     (?P<ws>\s+)
-  | (?P<number>(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)
+  | (?P<number>(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)
   | (?P<name>[A-Za-z_][A-Za-z_0-9]*)
   | (?P<op>\*\*|[-+*/^(),=])
   | (?P<prime>')
@@ -115,6 +133,10 @@ class ParsedEquation:
 
 
 def _tokenize(text: str) -> list[_Token]:
+    if len(text) > LIMITS["length"]:
+        raise ParseError(f"the text is {len(text):,} characters long; the limit is "
+                         f"{LIMITS['length']:,} (split the load into named parameters or a "
+                         "derivpad.forcing table)", text[:60] + "…", None)
     tokens: list[_Token] = []
     pos = 0
     while pos < len(text):
@@ -132,6 +154,8 @@ def _tokenize(text: str) -> list[_Token]:
             tok = _Token(kind, m.group(), pos)
             if kind == "name":
                 _check_name_safe(tok, text)
+            elif kind == "number":
+                _check_literal(tok, text)
             tokens.append(tok)
         pos = m.end()
     tokens.append(_Token("end", "", len(text)))
@@ -147,6 +171,25 @@ def _check_name_safe(tok: _Token, text: str) -> None:
         raise UnsafeInputError(
             f"{tok.text!r} is a Python keyword, not part of the equation syntax; "
             "rename the parameter", text, tok.start, len(tok.text))
+
+
+def _check_literal(tok: _Token, text: str) -> None:
+    """A literal's digits and exponent within LIMITS, before it is read as a number."""
+    mantissa, _, exponent = tok.text.lower().partition("e")
+    digits = len(mantissa.replace(".", "").lstrip("0"))
+    if digits > LIMITS["digits"]:
+        raise ParseError(f"a number with {digits} digits; the limit is {LIMITS['digits']} "
+                         "(write it with an exponent, e.g. 1.2e40)", text, tok.start,
+                         len(tok.text))
+    if exponent:
+        value = int(exponent)  # already bounded: the text is at most LIMITS["length"] long
+        lead = len(mantissa.split(".")[0].lstrip("0")) - 1 if mantissa.split(".")[0].strip("0") \
+            else 0
+        if abs(value + max(lead, 0)) > LIMITS["exponent"] or abs(value) > 10 ** 6:
+            raise ParseError(f"the number {tok.text} is beyond the range derivpad reads "
+                             f"(1e-{LIMITS['exponent']} to 1e{LIMITS['exponent']}); give the "
+                             "value in a unit that brings it into range", text, tok.start,
+                             len(tok.text))
 
 
 def _to_number(token: str) -> sp.Rational:
@@ -206,6 +249,14 @@ class _Parser:
         self.func = sp.Function(unknown)(T) if unknown else None
         self.names: list[str] = []
         self.symbols: dict[str, sp.Symbol] = {}
+        self.depth = 0
+
+    def nest(self, tok: _Token) -> None:
+        """One level deeper (a bracket, a call, a sign); refused beyond LIMITS["depth"]."""
+        self.depth += 1
+        if self.depth > LIMITS["depth"]:
+            raise self.error(f"nested more than {LIMITS['depth']} levels deep (brackets, "
+                             "function calls and signs); simplify the expression", tok)
 
     # -- token helpers -------------------------------------------------------------------
     @property
@@ -273,17 +324,50 @@ class _Parser:
 
     def factor(self) -> sp.Expr:
         if self.tok.kind == "op" and self.tok.text in ("+", "-"):
+            self.nest(self.tok)
             sign = -1 if self.advance().text == "-" else 1
-            return sign * self.factor()
+            value = sign * self.factor()
+            self.depth -= 1
+            return value
         return self.power()
 
     def power(self) -> sp.Expr:
         base = self.atom()
         if self.tok.kind == "op" and self.tok.text in ("^", "**"):
-            self.advance()
+            op = self.advance()
+            start = self.i
             exponent = self.factor()
+            if any(t.kind == "op" and t.text in ("^", "**") for t in self.tokens[start:self.i]):
+                raise self.error("a power of a power (such as 9^9^9 or 2^(t^2)) is not "
+                                 "accepted; write the exponent as one number", op)
+            self.check_power(base, exponent, op)
             return sp.Pow(base, exponent)
         return base
+
+    def check_power(self, base, exponent, op: _Token) -> None:
+        """Refuse a power that would be huge before SymPy forms it (LIMITS power, digits)."""
+        if exponent.has(T) and base.has(T):
+            return  # t^t and the like are refused later as forcing the table cannot transform
+        if not exponent.is_number:
+            return
+        e = exponent
+        if e.is_real is False:
+            raise self.error("a complex exponent is not accepted", op)
+        try:
+            size = abs(float(e))
+        except (TypeError, ValueError):
+            return
+        if size > LIMITS["power"]:
+            raise self.error(f"an exponent of {sp.sstr(e)} is beyond the limit of "
+                             f"{LIMITS['power']}; rewrite the term", op)
+        if base.is_number and base != 0:
+            try:
+                digits = abs(float(sp.log(abs(base), 10).evalf(15))) * size
+            except (TypeError, ValueError):
+                return
+            if digits > LIMITS["number_digits"]:
+                raise self.error(f"this power would be a number of about {digits:.0f} digits; "
+                                 f"the limit is {LIMITS['number_digits']}", op)
 
     def atom(self) -> sp.Expr:
         tok = self.tok
@@ -291,11 +375,13 @@ class _Parser:
             self.advance()
             return _to_number(tok.text)
         if tok.text == "(":
+            self.nest(tok)
             self.advance()
             if self.tok.text == ")":
                 raise self.error("empty parentheses")
             value = self.expr()
             self.expect(")", "')' to close the '(' opened at column %d" % (tok.start + 1))
+            self.depth -= 1
             return value
         if tok.kind == "name":
             self.advance()
@@ -320,6 +406,8 @@ class _Parser:
             raise self.error(f"{name!r} is a function: write {name}(...)", tok)
         if name == "t":
             return T
+        if name.lower() in _NOT_FINITE:
+            raise self.error(f"{name!r} is not a finite number; give a finite value", tok)
         if name in CONSTANTS:
             return CONSTANTS[name]
         if name == "s":
@@ -337,11 +425,17 @@ class _Parser:
         while self.tok.kind == "prime":
             self.advance()
             order += 1
+            if order > LIMITS["order"]:
+                raise self.error(f"derivatives above order {LIMITS['order']} are not accepted "
+                                 "(see docs/input-syntax.md)", tok)
         if order == 0 and self.tok.text == "^" and self.tokens[self.i + 1].text == "(" \
                 and self.tokens[self.i + 2].kind == "number" and self.tokens[self.i + 3].text == ")":
             num = self.tokens[self.i + 2]
             if not num.text.isdigit():
                 raise self.error("a derivative order y^(n) must be a whole number", num)
+            if len(num.text) > 3 or int(num.text) > LIMITS["order"]:
+                raise self.error(f"derivatives above order {LIMITS['order']} are not accepted "
+                                 "(see docs/input-syntax.md)", num)
             order = int(num.text)
             self.i += 4
         if self.tok.text == "(":
@@ -360,6 +454,7 @@ class _Parser:
             raise UnknownNameError(
                 f"unknown function {name!r}; the functions available are "
                 + ", ".join(sorted(FUNCTIONS)), name, self.text, tok.start)
+        self.nest(tok)
         self.advance()  # "("
         if self.tok.text == ")":
             raise self.error(f"{name}() needs an argument, as in {name}(t)")
@@ -367,6 +462,7 @@ class _Parser:
         if self.tok.text == ",":
             raise self.error(f"{name}() takes one argument")
         self.expect(")", f"')' to close {name}(")
+        self.depth -= 1
         return FUNCTIONS[name](arg)
 
 

@@ -18,7 +18,7 @@ import sympy as sp
 from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
                       ParseError, UnitError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
-from .units import (UnitContext, dimension_of, check_homogeneity, dimension_text, display_unit_for,
+from .units import (UnitContext, dimension_of, check_homogeneity, has_units, dimension_text, display_unit_for,
                     read_quantity, registry, time_dimension)
 
 __all__ = ["Problem", "classify_terms", "derivative_name", "make_problem", "read_parameter",
@@ -438,9 +438,13 @@ def _unit_context(terms, text, unknown, names, quantities, ic_quantities, units,
                  if not any(sp.Symbol(n, positive=True) in tm.expr.free_symbols for n in loads)]
     if declared is None:
         dims[unknown] = one
-        if load_free:
-            f_dim = dimension_of(load_free[0].expr, {**dims, **{n: one for n in loads}}, unknown, "")
-            per_y = dimension_of(y_terms[0].expr, dims, unknown, "")
+        # only terms with a parameter given in a unit say what the unknown is: a term with
+        # numbers alone takes whatever dimension the equation needs
+        f_named = [tm for tm in load_free if has_units(tm.expr, dims)]
+        y_named = [tm for tm in y_terms if has_units(tm.expr, dims)]
+        if f_named and y_named:
+            f_dim = dimension_of(f_named[0].expr, {**dims, **{n: one for n in loads}}, unknown, "")
+            per_y = dimension_of(y_named[0].expr, dims, unknown, "")
             declared = f_dim / per_y
         else:
             declared = one

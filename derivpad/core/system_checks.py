@@ -243,7 +243,9 @@ def system_self_check(problem, stages, tolerance=None, preferred=None) -> tuple[
 
 
 def _raise():
-    raise ArithmeticError("a sample point fell on a breakpoint")
+    from ..errors import VerificationFailedError
+    raise VerificationFailedError("a check's sample point fell on a switching time; please "
+                                  "report this system")
 
 
 def _abs_rel(got, expected) -> float:

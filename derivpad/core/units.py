@@ -19,7 +19,7 @@ import sympy as sp
 from ..errors import UnitError
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
-           "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "to_display"]
+           "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "display_offset", "to_display"]
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
@@ -110,11 +110,26 @@ def _read_quantity(value, name: str) -> Quantity | None:
         magnitude, units, given = Fraction(m.group(1)), _unit(m.group(2), name), value.strip()
     else:
         return None
+    exact = Fraction(magnitude) if not isinstance(magnitude, float) else Fraction(repr(magnitude))
+    if not ureg.Quantity(1, units)._is_multiplicative:
+        # An absolute temperature (°C, °F): converted as pint converts it, with the offset
+        # (20 °C is 293.15 K). Differences and coefficients (delta_degC, K/W, J/degC) are
+        # multiplicative and take the branch below, without it.
+        if len(dict(ureg.Quantity(1, units)._units)) != 1:
+            msg = (f"{name}: {value!r} mixes a temperature scale with an offset into a compound "
+                   "unit; write a temperature difference as delta_degC or K (e.g. 'J/K')")
+            raise UnitError(msg, name=name)
+        zero = ureg.Quantity(0.0, units).to_base_units()
+        one = ureg.Quantity(1.0, units).to_base_units()
+        offset = Fraction(repr(float(zero.magnitude))).limit_denominator(10 ** 6)
+        scale = Fraction(repr(float(one.magnitude - zero.magnitude))).limit_denominator(10 ** 6)
+        si = exact * scale + offset
+        return Quantity(name, given, sp.Rational(si.numerator, si.denominator),
+                        display_unit_for(one.dimensionality), one.dimensionality)
     q = ureg.Quantity(1, units).to_base_units()
     factor = Fraction(repr(float(q.magnitude))) if not float(q.magnitude).is_integer() else \
         Fraction(int(q.magnitude))
-    si = Fraction(magnitude) * factor if not isinstance(magnitude, float) else \
-        Fraction(repr(magnitude)) * factor
+    si = exact * factor
     return Quantity(name, given, sp.Rational(si.numerator, si.denominator),
                     display_unit_for(q.dimensionality), q.dimensionality)
 
@@ -164,10 +179,18 @@ def _base_from_dim(dim):
 
 
 def display_factor(si_unit: str, display: str) -> float:
-    """The factor from an SI magnitude to the display unit (1 when either is unknown)."""
+    """The factor from an SI magnitude (or difference) to the display unit (1 when either is
+    unknown); for a scale with an offset (°C, °F) add :func:`display_offset` to values."""
     if not si_unit or not display or si_unit == display:
         return 1.0
-    return to_display(1.0, si_unit, display)
+    return to_display(1.0, si_unit, display) - to_display(0.0, si_unit, display)
+
+
+def display_offset(si_unit: str, display: str) -> float:
+    """The display value of an SI zero: -273.15 for K shown in °C, 0 for every other unit."""
+    if not si_unit or not display or si_unit == display:
+        return 0.0
+    return to_display(0.0, si_unit, display)
 
 
 def to_display(si_value: float, si_unit: str, display: str) -> float:
@@ -233,12 +256,25 @@ def dimension_of(expr, dims: dict, unknown: str, where: str):
     return one
 
 
+def has_units(expr, dims: dict) -> bool:
+    """True when ``expr`` holds a parameter given with a unit (a dimension other than 1)."""
+    one = registry().Quantity(1, "").dimensionality
+    return any(x.name != "t" and dims.get(x.name) not in (None, one) for x in expr.free_symbols)
+
+
 def check_homogeneity(terms, dims: dict, unknown: str, text: str):
     """Every top-level term must share one dimension; returns that dimension."""
-    found = []
+    found, free = [], []
     for term in (tm for tm in terms if tm.expr != 0):  # 0 has every dimension
         fragment = text[term.start:term.end] if text and term.end > term.start else sp.sstr(term.expr)
-        found.append((fragment, dimension_of(term.expr, dims, unknown, f"in the term {fragment!r}")))
+        pair = (fragment, dimension_of(term.expr, dims, unknown, f"in the term {fragment!r}"))
+        # A term with no parameter of known unit (4*y, y'') has only numbers for coefficients,
+        # and a number written in the equation is in the SI unit of its place: it takes the
+        # dimension the equation needs, so it constrains nothing. A display unit of t or of
+        # the unknown alone never makes such a term "wrong".
+        (found if has_units(term.expr, dims) else free).append(pair)
+    if not found:
+        return free[0][1]
     first = found[0]
     bad = [(frag, d) for frag, d in found if d != first[1]]
     if bad:

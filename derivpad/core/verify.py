@@ -124,9 +124,13 @@ def _sample_values(symbols, conditions, preferred=None, seed: int = 20261201) ->
     for vals in tries:
         vals = {**vals, **{s: v for s, v in given.items()}} if len(given) < len(symbols) \
             else vals
-        if all(bool(c.subs(vals)) for c in conditions):
+        if all(c.subs(vals) is sp.true for c in conditions):
             return vals
-    raise ArithmeticError("no sample parameter values satisfy the assumptions")
+    from ..errors import VerificationFailedError
+    msg = ("the engine's own check found no parameter values that satisfy the derivation's "
+           "assumptions (" + "; ".join(sp.sstr(c) for c in conditions) + "); give values for "
+           "the symbolic parameters that satisfy them (values=)")
+    raise VerificationFailedError(msg)
 
 
 def _points(a, b):
@@ -140,7 +144,9 @@ def _points(a, b):
 
 def _step_value(x, *_):
     if x == 0:
-        raise ArithmeticError("a sample point fell on a breakpoint")
+        from ..errors import VerificationFailedError
+        raise VerificationFailedError("a check's sample point fell on a switching time; "
+                                      "please report this equation")
     return 1 if x > 0 else 0
 
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..core.units import display_factor
+from ..core.units import display_factor, display_offset
 from ..errors import ExportError, import_extra
 
 __all__ = ["FIGURE_FORMATS", "LiveFigure", "figure_svg", "save_figure", "verification_figure"]
@@ -74,11 +74,12 @@ class _Panels:
         t_unit = units.time_display if units else ""
         f_unit = units.forcing_si if units else ""
         ys = display_factor(units.unknown_si, y_unit) if units else 1.0
+        y0 = display_offset(units.unknown_si, y_unit) if units else 0.0
         ts = display_factor("s", t_unit) if units else 1.0
         t = samples.times * ts
         keep = t <= (t_max if t_max is not None else np.inf)
-        self.integrated.set_data(t[keep], samples.integrated[keep] * ys)
-        self.closed.set_data(t[keep], samples.closed_form[keep] * ys)
+        self.integrated.set_data(t[keep], samples.integrated[keep] * ys + y0)
+        self.closed.set_data(t[keep], samples.closed_form[keep] * ys + y0)
         self.forcing.set_data(t[keep], samples.forcing[keep])
         err = samples.difference * ys
         floor = max(float(np.max(np.abs(samples.closed_form))) * ys * 1e-17, 1e-300)
