@@ -1,6 +1,9 @@
 """The command line: ``derivpad demo``, ``solve``, ``package`` and ``audit``.
 
-Errors of the derivpad family print their message and exit with status 2, never a traceback.
+Exit status: 0 for a verified answer; 3 for a derivation that was derived but is NOT VERIFIED
+(printed, marked so, with no engineering results); 2 for an error of the derivpad family (its
+message, never a traceback); 4 for an unexpected internal error (one line, no traceback). A
+closed output pipe (``derivpad demo | head``) ends quietly.
 """
 
 from __future__ import annotations
@@ -15,6 +18,36 @@ from .errors import DerivpadError, InitialConditionError, ParameterError
 __all__ = ["main"]
 
 FORMATS = ("text", "latex", "json")
+NOT_VERIFIED = 3
+INTERNAL = 4
+
+# The core's messages give the fix in Python; on the command line the same fix is an option.
+_CLI_SYNTAX = (
+    ('on_failure="return"', "the command line, which prints it marked NOT VERIFIED (exit 3)"),
+    ("params=", "--param NAME=VALUE"),
+    ("values=", "--value NAME=VALUE"),
+    ("ics=", "--ic \"y(0)=0\""),
+    ("units=", "--unit NAME=UNIT"),
+)
+
+
+_OPTION_OF = {"params": "--param", "values": "--value", "units": "--unit", "ics": "--ic"}
+_MAPPING = re.compile(r"\b(params|values|units|ics)=\{([^{}]*)\}")
+_PAIR = re.compile(r"""['"]([^'"]+)['"]\s*:\s*([^,]+)""")
+
+
+def _in_cli_syntax(message: str) -> str:
+    """A message's Python fix (params={'m': 2.5}) in the options of the command line."""
+    def options(m):
+        flag = _OPTION_OF[m.group(1)]
+        pairs = [(k, v.strip().strip("'\"")) for k, v in _PAIR.findall(m.group(2))]
+        if flag == "--ic":
+            return " ".join(f'--ic "{k}={v}"' for k, v in pairs)
+        return " ".join(f"{flag} {k}={v}" for k, v in pairs) or flag
+    message = _MAPPING.sub(options, message)
+    for python, option in _CLI_SYNTAX:
+        message = message.replace(python, option)
+    return message
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -153,7 +186,28 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
 
 
 def main(argv=None) -> int:
-    """Entry point of the ``derivpad`` console script."""
+    """Entry point of the ``derivpad`` console script: never a traceback (see the module
+    docstring for the exit statuses)."""
+    try:
+        return _main(argv)
+    except BrokenPipeError:
+        # the reader closed the pipe (derivpad demo | head): stop quietly
+        import os
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
+    except KeyboardInterrupt:
+        print("derivpad: interrupted", file=sys.stderr)
+        return 130
+    except SystemExit:
+        raise
+    except Exception as exc:  # noqa: BLE001 - the last line of defence: one line, no traceback
+        print(f"derivpad: internal error ({type(exc).__name__}: {exc}); no answer is given. "
+              "Please report the command that led to it.", file=sys.stderr)
+        return INTERNAL
+
+
+def _main(argv=None) -> int:
     args = _parser().parse_args(argv)
     try:
         if args.command == "package":
@@ -167,7 +221,8 @@ def main(argv=None) -> int:
             return code
         if args.command == "demo":
             from .demo import DEMO_TIMES, DEMO_TITLE, demo
-            text = _emit(demo(), args.format, DEMO_TIMES, DEMO_TITLE)
+            d = demo()
+            text = _emit(d, args.format, DEMO_TIMES, DEMO_TITLE)
         else:
             from .core.engine import derive
             system = len(args.equation) > 1
@@ -175,17 +230,18 @@ def main(argv=None) -> int:
                        params=_read_pairs(args.param, "--param", "k=800"),
                        units=_read_pairs(args.unit, "--unit", "x=mm"),
                        values=_read_pairs(args.value, "--value", "m=2"),
-                       unknown=args.unknown, regime=args.regime,
+                       unknown=args.unknown, regime=args.regime, on_failure="return",
                        derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2")
                        if system else None)
             if args.figure:
                 d.save_figure(args.figure)
             text = _emit(d, args.format, args.at)
     except DerivpadError as exc:
-        print(f"derivpad: error: {exc}", file=sys.stderr)
+        print(f"derivpad: error: {_in_cli_syntax(str(exc))}", file=sys.stderr)
         return 2
     print(text)
-    return 0
+    sys.stdout.flush()
+    return 0 if d.verification.passed else NOT_VERIFIED
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -13,7 +13,7 @@ from types import MappingProxyType
 
 import sympy as sp
 
-from ..errors import ParameterError, UnitError, VerificationFailedError
+from ..errors import DerivpadError, ParameterError, UnitError, VerificationFailedError
 from .algebra import (PoleSet, characteristic_polynomial, initial_condition_polynomial,
                       merge_poles, poles_of, solve_system)
 from .derivation import Derivation
@@ -123,11 +123,63 @@ def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
     tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     value_map = parameter_values(problem, values)
-    stages = solve_stages(problem, regime)
+    stages = stages_for_values(problem, regime, value_map)
     checks_own = engine_check(problem, stages, tolerances.get("back_substitution"), value_map)
     return complete(problem, stages, checks_own, value_map, tolerances=tolerances,
                     window=window, checks=checks, on_failure=on_failure,
                     definitions=definitions)
+
+
+REGIMES = ("underdamped", "overdamped")
+
+
+def stages_for_values(problem: Problem, regime: str, value_map: dict) -> "Stages":
+    """The stages in the form that holds for the numbers given for the symbolic parameters:
+    the regime asked for, else the other one (the derivation states which it took); refused,
+    naming the condition, where neither holds (e.g. exactly critical damping or resonance)."""
+    if regime not in REGIMES:
+        raise ParameterError(f"regime must be 'underdamped' or 'overdamped', not {regime!r}",
+                             "regime")
+    stages = solve_stages(problem, regime, value_map or None)
+    if not value_map or not stages.conditions or form_holds(stages, value_map):
+        return stages
+    other = REGIMES[1 - REGIMES.index(regime)]
+    try:
+        alternative = solve_stages(problem, other, value_map)
+    except DerivpadError:
+        alternative = None
+    if alternative is not None and form_holds(alternative, value_map):
+        return alternative
+    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
+    failed = [c for c in stages.conditions if c.subs(subs) is not sp.true]
+    shown = "; ".join(f"{sp.sstr(c)} (here {sp.sstr(_lhs_value(c, subs))})" for c in failed) or \
+        "the switching times' order"
+    msg = (f"the values given do not meet the derivation's condition {shown}, in either the "
+           "underdamped or the overdamped form (for example exactly critical damping, or a "
+           "forcing at the natural frequency); give these numbers as params= instead of values= "
+           "so that the case is derived with them")
+    raise ParameterError(msg, ", ".join(value_map))
+
+
+def _lhs_value(condition, subs):
+    try:
+        return (condition.lhs - condition.rhs).subs(subs)
+    except AttributeError:
+        return condition.subs(subs)
+
+
+def form_holds(stages, value_map: dict) -> bool:
+    """The form's stated conditions hold at the values, and its switching times keep their
+    order (the intervals were assembled in that order)."""
+    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
+    for c in stages.conditions:
+        if c.subs(subs) is not sp.true:
+            return False
+    times = [(sp.Integer(0) + b).subs(subs) for b in stages.breakpoints]
+    if any(not t.is_number for t in times):
+        return False
+    nums = [float(t) for t in times]
+    return all(a < b for a, b in zip(nums, nums[1:])) and all(t > 0 for t in nums)
 
 
 @dataclass(frozen=True)

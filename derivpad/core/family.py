@@ -19,7 +19,7 @@ import sympy as sp
 
 from ..errors import DerivpadError, ParameterError
 from .derivation import Derivation
-from .engine import (check_options, compile_model, complete, derive, engine_check,
+from .engine import (check_options, form_holds, compile_model, complete, derive, engine_check,
                      parameter_values, solve_stages)
 from .problem import make_problem
 
@@ -130,7 +130,7 @@ class DerivationFamily:
         """The form's derivation at these values, or None where the form does not hold or
         does not verify there."""
         stages = self._stages(regime)
-        if stages is None or not _holds(stages, value_map):
+        if stages is None or not form_holds(stages, value_map):
             return None
         if regime not in self._compiled:  # checked and compiled once, at values it holds for
             own = engine_check(self.problem, stages, self._tolerances.get("back_substitution"),
@@ -177,20 +177,6 @@ class DerivationFamily:
         d = derive(params=self.params_for(values), regime=self._regime, **self._args)
         return FamilyMember(d, "no symbolic form holds at these values (e.g. exactly on a "
                                "regime boundary): derived with the numbers", True)
-
-
-def _holds(stages, value_map: dict) -> bool:
-    """The form's stated conditions hold at the values, and its switching times keep their
-    order (the intervals were assembled in that order)."""
-    subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()}
-    for c in stages.conditions:
-        if c.subs(subs) is not sp.true:
-            return False
-    times = [(sp.Integer(0) + b).subs(subs) for b in stages.breakpoints]
-    if any(not t.is_number for t in times):
-        return False
-    nums = [float(t) for t in times]
-    return all(a < b for a, b in zip(nums, nums[1:])) and all(t > 0 for t in nums)
 
 
 def what_changed(before: Derivation | None, after: Derivation) -> list[str]:

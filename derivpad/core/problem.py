@@ -348,6 +348,12 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             loads[name] = value
             continue
         values[name], quantity = read_parameter(name, value, units)
+        stray = sorted(x.name for x in values[name].free_symbols if x.name not in known)
+        if stray:
+            msg = (f"{name}: {value!r} is not a number, and {stray[0]!r} is not a parameter of "
+                   f"the equation; give a number such as 2.5 or a quantity such as '2 kg' "
+                   f"(params={{{name!r}: 2.5}})")
+            raise ParameterError(msg, name)
         if quantity is not None:
             quantities[name] = quantity
     context = None

@@ -262,6 +262,17 @@ def has_units(expr, dims: dict) -> bool:
     return any(x.name != "t" and dims.get(x.name) not in (None, one) for x in expr.free_symbols)
 
 
+def _bound(expr, dims: dict) -> bool:
+    """A term whose dimension is fixed by what was given: a parameter with a unit, or an
+    unknown with a unit and no number written in front of it (4*y takes any dimension)."""
+    if has_units(expr, dims):
+        return True
+    one = registry().Quantity(1, "").dimensionality
+    coeff = expr.as_coeff_Mul()[0]
+    names = {f.func.__name__ for f in expr.atoms(sp.core.function.AppliedUndef)}
+    return abs(coeff) == 1 and any(dims.get(n) not in (None, one) for n in names)
+
+
 def check_homogeneity(terms, dims: dict, unknown: str, text: str):
     """Every top-level term must share one dimension; returns that dimension."""
     found, free = [], []
@@ -272,7 +283,7 @@ def check_homogeneity(terms, dims: dict, unknown: str, text: str):
         # and a number written in the equation is in the SI unit of its place: it takes the
         # dimension the equation needs, so it constrains nothing. A display unit of t or of
         # the unknown alone never makes such a term "wrong".
-        (found if has_units(term.expr, dims) else free).append(pair)
+        (found if _bound(term.expr, dims) else free).append(pair)
     if not found:
         return free[0][1]
     first = found[0]
