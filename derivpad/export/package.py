@@ -125,8 +125,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         The package of this revision exists already (pass ``force`` to replace it).
     """
     say = progress or (lambda *_: None)
-    notebook = Path(notebook)
-    out_dir = Path(out_dir)
+    notebook = Path(notebook).resolve()
+    out_dir = Path(out_dir).resolve()  # relative to the current folder, whatever runs later
     calc = execute_notebook(notebook, progress=say)
     errors = [f for f in calc.failures if "not verified" not in f.what]
     unverified = [f for f in calc.failures if "not verified" in f.what]

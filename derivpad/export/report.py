@@ -106,6 +106,7 @@ def print_pdf(html_path: Path, pdf_path: Path, chromium: str = CHROMIUM,
     ``--virtual-time-budget`` lets the page's scripts (opening every section, MathJax
     typesetting) finish before printing.
     """
+    html_path, pdf_path = Path(html_path).resolve(), Path(pdf_path).resolve()  # relative -o
     if not Path(chromium).exists():
         return (f"no PDF: Chromium is not installed at {chromium}; install Debian's package "
                 "with: apt-get install -y chromium")
