@@ -83,6 +83,8 @@ def to_exact(value, name: str) -> sp.Expr:
                              name)
     if isinstance(value, sp.Basic):
         expr = sp.sympify(value)  # safe: a SymPy object, never text
+        # a user's own sympy.Symbol("t"), with or without assumptions, is our time
+        expr = expr.xreplace({x: T for x in expr.free_symbols if x.name == "t" and x != T})
         if expr.has(sp.nan, sp.oo, -sp.oo, sp.zoo):
             raise ParameterError(f"{name}: {value} is not finite; give a finite number", name)
         if isinstance(expr, sp.Float):
@@ -348,7 +350,13 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             loads[name] = value
             continue
         values[name], quantity = read_parameter(name, value, units)
-        stray = sorted(x.name for x in values[name].free_symbols if x.name not in known)
+        stray = sorted(x.name for x in values[name].free_symbols
+                       if x.name not in known and x != T)
+        if values[name].has(T) and any(sp.Symbol(name, positive=True) in
+                                       sp.sympify(c).free_symbols for c in coeffs.values()):
+            raise ParameterError(f"{name}: a value that depends on t is a load; it may stand on "
+                                 "the right side only (a time-varying coefficient is outside "
+                                 "the method)", name)
         if stray:
             msg = (f"{name}: {value!r} is not a number, and {stray[0]!r} is not a parameter of "
                    f"the equation; give a number such as 2.5 or a quantity such as '2 kg' "

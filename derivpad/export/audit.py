@@ -91,6 +91,9 @@ def _compare(old: list, new: list, tolerance: float) -> list[tuple[str, str]]:
                 rows.append((f"{tag} {key}", "only in " + ("the re-run" if ra is None else
                                                             "the package")))
                 continue
+            if ra.get("status") != rb.get("status"):  # e.g. a value now "unbounded"
+                rows.append((f"{tag} {key}", f"{ra.get('status')} → {rb.get('status')}"))
+                continue
             na, nb = _numbers(ra["value"]), _numbers(rb["value"])
             if na is None or nb is None:
                 if ra["value"] != rb["value"]:
