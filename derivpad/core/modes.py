@@ -154,6 +154,14 @@ class ModeTable:
 
 # -- the numbers ----------------------------------------------------------------------------
 
+class _no_context:
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+
 @dataclass(frozen=True, eq=False)
 class Modes:
     """Numeric modes: arrays of delay c, power k, rate a, frequency b ≥ 0 and the cos and sin
@@ -293,9 +301,11 @@ class Modes:
         return float(np.max(self.amplitude)) if len(self) else 0.0
 
     def present(self) -> np.ndarray:
-        """Modes whose amplitude is more than rounding of the largest."""
+        """Modes with a non-zero amplitude. Only what is below 50-digit rounding of the largest
+        is taken as absent: nearly equal poles give terms of 10^15 beside a result of 1, and
+        the small terms then still count."""
         amp = self.amplitude
-        return amp > 1e-13 * max(self.scale(), 1e-300)
+        return amp > 1e-40 * max(self.scale(), 1e-300)
 
     def rate_scale(self) -> float:
         vals = np.concatenate([np.abs(self.rate), self.freq, [1.0]])
@@ -328,6 +338,69 @@ class Modes:
             x = max(tau, peak_at)
             total += self.amplitude[m] * (x ** k if k else 1.0) * math.exp(a * x)
         return total
+
+    def tail(self) -> "Modes":
+        """The same response after its last switching time L, as modes in t - L, with the
+        modes of equal (k, a, b) added (in 40-digit arithmetic where the exact coefficients
+        are known). Terms that cancel there vanish: t·u(t) - (t - 1)·u(t - 1) is the constant 1
+        for t ≥ 1, not two growing ramps."""
+        if not len(self):
+            return self
+        last = float(np.max(self.delay))
+        use_exact = bool(self.exact)
+        ctx = mpmath.workdps(40) if use_exact else _no_context()
+        rows: dict = {}
+        keys: list = []
+        with ctx:
+            for m in range(len(self)):
+                if use_exact:
+                    c, a, b, A, B = (col[m] for col in self.exact)
+                    d = mpmath.mpf(last) - c
+                    ea, cb, sb = mpmath.exp(a * d), mpmath.cos(b * d), mpmath.sin(b * d)
+                else:
+                    c, a, b, A, B = (self.delay[m], self.rate[m], self.freq[m], self.cos[m],
+                                     self.sin[m])
+                    d = last - c
+                    ea, cb, sb = math.exp(a * d), math.cos(b * d), math.sin(b * d)
+                A1, B1 = A * cb + B * sb, B * cb - A * sb
+                k = int(self.power[m])
+                key_ab = self._key(float(self.rate[m]), float(self.freq[m]), keys)
+                for j in range(k + 1):
+                    w = math.comb(k, j) * d ** (k - j) * ea
+                    key = (j,) + key_ab
+                    old = rows.get(key)
+                    a_m, b_m = (a, b)
+                    part = (w * A1, w * B1, abs(w * A1) + abs(w * B1))
+                    rows[key] = part + (a_m, b_m) if old is None else (
+                        old[0] + part[0], old[1] + part[1], old[2] + part[2], old[3], old[4])
+            kept = []
+            for (j, _, _), (A, B, size, a, b) in rows.items():
+                floor = (mpmath.mpf(10) ** -30 if use_exact else 1e-13) * size
+                if abs(A) <= floor and abs(B) <= floor:
+                    continue  # cancelled to rounding
+                kept.append((j, a, b, A if abs(A) > floor else 0 * A, B if abs(B) > floor else 0 * B))
+        if not kept:
+            return Modes.empty()
+        n = len(kept)
+        exact = ()
+        if use_exact:
+            exact = (tuple(mpmath.mpf(last) for _ in range(n)), tuple(r[1] for r in kept),
+                     tuple(r[2] for r in kept), tuple(r[3] for r in kept),
+                     tuple(r[4] for r in kept))
+        fl = lambda x: float(mpmath.re(x)) if use_exact else float(x)  # noqa: E731
+        return Modes(np.full(n, last), np.array([r[0] for r in kept], dtype=int),
+                     np.array([fl(r[1]) for r in kept]), np.array([fl(r[2]) for r in kept]),
+                     np.array([fl(r[3]) for r in kept]), np.array([fl(r[4]) for r in kept]),
+                     exact)
+
+    @staticmethod
+    def _key(a: float, b: float, keys: list) -> tuple:
+        """One key for rates and frequencies equal to 1e-12 (the same pole written twice)."""
+        for ka, kb in keys:
+            if abs(ka - a) <= 1e-12 * max(1.0, abs(a)) and abs(kb - b) <= 1e-12 * max(1.0, abs(b)):
+                return (ka, kb)
+        keys.append((a, b))
+        return (a, b)
 
     def subset(self, mask) -> "Modes":
         idx = np.nonzero(mask)[0]

@@ -195,6 +195,7 @@ class ParametricModel:
                 fvt = None
         subs = dict(zip(self._args, nums))
         modes = _modes_at(self._modes, nums)
+        load = _modes_at(self._forcing_modes, nums)
         closed = _vector(self._closed, nums, self._closed_at)
         derivative = _vector(self._derivative, nums, self._derivative_at)
         if modes is not None:  # evaluated mode by mode: stable for any poles and switching times
@@ -206,11 +207,12 @@ class ParametricModel:
             impulses=tuple((float(c(*nums)), float(a(*nums))) for c, a in self._impulses),
             system_poles=poles(self._system), response_poles=poles(self._response),
             closed_form=closed, derivative=derivative,
-            forcing=_vector(self._forcing, nums), forcing_at=scalar(self._forcing_at),
+            forcing=stable(load) if load is not None else _vector(self._forcing, nums),
+            forcing_at=_guarded(scalar(self._forcing_at), load),
             parts=tuple((float(c(*nums)), part(fn)) for c, fn in self._parts),
             initial_value_limit=float(self._ivt(*nums)), final_value_limit=fvt,
             final_load=_final_load(self._smooth.subs(subs), bps),
-            modes=modes, forcing_modes=_modes_at(self._forcing_modes, nums))
+            modes=modes, forcing_modes=load)
 
 
 def _mode_table(expr, symbols):
@@ -228,6 +230,20 @@ def _modes_at(table, nums):
         return table.at(nums)
     except NotAModeSum:
         return None
+
+
+def _guarded(fast, load):
+    """The forcing at one time: the math-module form, or the modes where a factor such as
+    e^{750 - 750 t} overflows before its switch."""
+    if load is None:
+        return fast
+
+    def at(t):
+        try:
+            return fast(t)
+        except (OverflowError, ValueError, ZeroDivisionError):
+            return float(load(np.array([t]))[0])
+    return at
 
 
 def stable(modes):

@@ -66,6 +66,7 @@ def _fmt(x: float) -> str:
 
 def growth(modes: Modes, system_poles=()) -> Growth | None:
     """None for a bounded response; else the fastest-growing mode's law and its cause."""
+    modes = modes.tail()
     growing, _, _ = modes.classify()
     if not growing.any():
         return None
@@ -121,6 +122,7 @@ def final_value(modes: Modes, system_poles=()) -> tuple[float | None, str]:
     g = growth(modes, system_poles)
     if g is not None:
         return None, "unbounded: " + g.reason
+    modes = modes.tail()
     _, steady, _ = modes.classify()
     osc = steady & (modes.freq > 0)
     if osc.any():
@@ -257,29 +259,30 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
     if math.isfinite(stop):
         v, t = _on_interval(modes, slope, start, stop, sign)
         return Extreme(sign * v, t)
-    growing, steady, decaying = modes.classify()
+    after = modes.tail()  # what acts after the last switch, with cancelling modes gone
+    growing, steady, decaying = after.classify()
     if growing.any():
         return Extreme(sign * math.inf, math.inf, False, "unbounded")
     last = max([start] + list(modes.breakpoints))
     b, a = _fastest(modes)
-    rates = np.abs(modes.rate[decaying])
+    rates = np.abs(after.rate[decaying])
     span = 1.0
     if rates.size:
         span = 5.0 / float(np.min(rates))
     if b > 0:
         span = min(span, 200 * 2 * math.pi / b) if rates.size else 2 * 2 * math.pi / b
-        low = float(np.min(modes.freq[steady & (modes.freq > 0)], initial=math.inf))
+        low = float(np.min(after.freq[steady & (after.freq > 0)], initial=math.inf))
         if math.isfinite(low):
             span = max(span, 2 * 2 * math.pi / low)
     upper = last + span
     best = _on_interval(modes, slope, start, upper, sign)
-    steady_val, attained = _steady_sup(modes, steady, sign, upper)
+    steady_val, attained = _steady_sup(after, steady, sign, upper)
     size = max(abs(steady_val), abs(best[0]), 1e-300)
     # a value found late, where only rounding separates y from its steady part, is the steady
     # value approached, not a peak attained
     rounding = 1e-12 * size if decaying.any() else 0.0
     for _ in range(80):
-        tail = modes.tail_bound(upper, decaying)
+        tail = after.tail_bound(upper, decaying)
         size = max(abs(steady_val), abs(best[0]), 1e-300)
         above = best[0] > steady_val + rounding
         if best[0] >= steady_val + tail and (above or not decaying.any()):
@@ -303,12 +306,13 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
 
 def settled_after(modes: Modes, band: float) -> float:
     """A time after which the decaying modes stay within ``band`` (past every switch)."""
-    _, _, decaying = modes.classify()
+    after = modes.tail()
+    _, _, decaying = after.classify()
     last = max([0.0] + list(modes.breakpoints))
-    rates = np.abs(modes.rate[decaying])
+    rates = np.abs(after.rate[decaying])
     upper = last + (1.0 / float(np.min(rates)) if rates.size else 1.0)
     for _ in range(200):
-        if modes.tail_bound(upper, decaying) <= band:
+        if after.tail_bound(upper, decaying) <= band:
             return upper
         upper = last + 1.5 * (upper - last)
     raise SearchLimit("the response does not settle within the search span")
