@@ -21,7 +21,7 @@ from .forcing import TAU, heaviside_pieces
 from .inverse import invert_term, inversion_step, shift
 from .parse import T
 from .partial_fractions import fraction_steps, partial_fractions
-from .problem import Problem, derivative_name, make_problem, to_exact
+from .problem import Problem, derivative_name, make_problem, mapping_of, to_exact
 from .rules import rule
 from .steps import Line, Step
 from .units import dimension_text, read_quantity
@@ -486,7 +486,7 @@ def withheld(verification: Verification):
 def parameter_values(problem: Problem, values) -> dict:
     """Numbers for symbolic parameters, for the numerical checks and results only."""
     out = {}
-    for name, value in dict(values or {}).items():
+    for name, value in mapping_of(values, "values", "{'k': 800}").items():
         if name not in problem.symbols:
             msg = (f"values= gives {name!r}, which is not a symbolic parameter of this problem "
                    f"(symbolic: {', '.join(problem.symbols) or 'none'})")
@@ -504,7 +504,16 @@ def _symbol_value(problem: Problem, name: str, value) -> sp.Expr:
         value = f"{value!r} {unit}"
     q = read_quantity(value, name)
     if q is None:
-        return to_exact(value, name)
+        number = to_exact(value, name)
+        if not number.is_number or not number.is_real:
+            raise ParameterError(f"values= gives {name!r} as {value!r}, which is not a number; "
+                                 f"give a number, e.g. values={{{name!r}: 2.5}}", name)
+        if not number > 0:
+            raise ParameterError(f"values= gives {name!r} = {value!r}, but a symbolic parameter is "
+                                 f"taken as a positive real number; give a value of zero or "
+                                 f"below in params= instead (params={{{name!r}: {value!r}}})",
+                                 name)
+        return number
     want = dict(ctx.dimensions).get(name) if ctx else None
     if unit is None:
         raise UnitError(f"values= gives {name!r} with a unit ({q.given!r}) but {name} has no "

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import mpmath
 import numpy as np
@@ -79,6 +80,24 @@ def _term_mode(term):
     return [(k, a, b, coef * sp.sin(phase), coef * sp.cos(phase))]
 
 
+def _cleared(piece):
+    """A product with a denominator such as 1/(c₁e^{τ/10} + c₂e^{τ/10}) rewritten with the
+    exponential taken out of it (SymPy leaves such forms after a substitution)."""
+    changed = False
+    out = []
+    for factor in sp.Mul.make_args(piece):
+        base, power = factor.as_base_exp()
+        if isinstance(base, sp.Add) and base.has(_TAU) and power.is_Integer and power < 0:
+            common = sp.factor_terms(base)
+            factor = sp.Mul(*[f ** power for f in sp.Mul.make_args(common)])
+            changed = True
+        out.append(factor)
+    if not changed:
+        return [piece]
+    # no expand here: it would put the exponential back into the denominator
+    return [sp.Mul(*out)]
+
+
 def _delay_of(term):
     """(c, the rest) for a term with one Heaviside(t - c) factor; (0, term) for none."""
     steps = [f for f in sp.Mul.make_args(term) if isinstance(f, sp.Heaviside)]
@@ -107,7 +126,8 @@ def symbolic_modes(expr: sp.Expr) -> tuple:
             continue
         delay, rest = _delay_of(term)
         local = sp.expand(rest.subs(T, _TAU + delay), power_exp=False, trig=False)
-        for piece in sp.Add.make_args(local):
+        pieces = [p for q in sp.Add.make_args(local) if q != 0 for p in _cleared(q)]
+        for piece in pieces:
             if piece == 0:
                 continue
             for k, a, b, ca, cb in _term_mode(piece):
@@ -231,13 +251,30 @@ class Modes:
             return np.where(t >= 0, 0.0, np.nan)
         terms = self._terms(t, strict)
         y = terms.sum(axis=0)
+        if not self.fragile:
+            return np.where(t >= 0, y, np.nan)
         with np.errstate(invalid="ignore"):
             size = np.abs(terms).sum(axis=0)
             bad = np.nonzero(np.isfinite(size) & (size > _CANCELLATION * np.abs(y))
                              & (size > 1e-300))[0]
-        if bad.size and self.exact:
+        if bad.size and self.exact and self.fragile:
             y[bad] = [self._precise(t[i], strict) for i in bad]
         return np.where(t >= 0, y, np.nan)
+
+    @cached_property
+    def fragile(self) -> bool:
+        """True when two modes of one switching time have distinct but nearly equal poles
+        (closer than 1e-6 relative): their coefficients are then large and opposite, and a
+        float sum loses digits to cancellation."""
+        for c in set(self.delay.tolist()):
+            idx = np.nonzero(self.delay == c)[0]
+            p = self.rate[idx] + 1j * self.freq[idx]
+            for i in range(len(idx)):
+                gap = np.abs(p - p[i])
+                near = (gap > 0) & (gap <= 1e-6 * np.maximum(np.abs(p), np.abs(p[i])))
+                if near.any():
+                    return True
+        return False
 
     def _precise(self, t: float, strict: bool) -> float:
         delay, a, b, ca, cb = self.exact
@@ -395,11 +432,9 @@ class Modes:
 
     @staticmethod
     def _key(a: float, b: float, keys: list) -> tuple:
-        """One key for rates and frequencies equal to 1e-12 (the same pole written twice)."""
-        for ka, kb in keys:
-            if abs(ka - a) <= 1e-12 * max(1.0, abs(a)) and abs(kb - b) <= 1e-12 * max(1.0, abs(b)):
-                return (ka, kb)
-        keys.append((a, b))
+        """The key of a pole: modes of different switching times share a pole exactly (the same
+        expression, the same float); nearly equal poles stay apart, since their large, opposite
+        coefficients only cancel with their own rates."""
         return (a, b)
 
     def subset(self, mask) -> "Modes":

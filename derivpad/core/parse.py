@@ -35,7 +35,7 @@ import sympy as sp
 
 from ..errors import ParseError, UnknownNameError, UnsafeInputError
 
-__all__ = ["LIMITS", "ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
+__all__ = ["LIMITS", "check_number_text", "ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
            "FUNCTIONS", "RESERVED_NAMES"]
 
 T = sp.Symbol("t", real=True)
@@ -190,6 +190,11 @@ def _check_literal(tok: _Token, text: str) -> None:
                              f"(1e-{LIMITS['exponent']} to 1e{LIMITS['exponent']}); give the "
                              "value in a unit that brings it into range", text, tok.start,
                              len(tok.text))
+
+
+def check_number_text(text: str, what: str) -> None:
+    """The limits on a number literal, for numbers read outside an equation ('800 N/m')."""
+    _check_literal(_Token("number", text, 0), text)
 
 
 def _to_number(token: str) -> sp.Rational:

@@ -76,6 +76,19 @@ class Problem:
         return Problem(**fields)
 
 
+def mapping_of(value, what: str, example: str) -> dict:
+    """``value`` as a dict, or InitialConditionError/ParameterError naming the expected form."""
+    if value is None:
+        return {}
+    if not hasattr(value, "items"):
+        msg = (f"{what}= must be a mapping of names to values, e.g. {what}={example}, not a "
+               f"{type(value).__name__}")
+        if what == "ics":
+            raise InitialConditionError(msg)
+        raise ParameterError(msg, what)
+    return dict(value)
+
+
 def to_exact(value, name: str) -> sp.Expr:
     """A parameter or condition value as an exact SymPy number (decimals read as written)."""
     if isinstance(value, bool):
@@ -300,7 +313,7 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             f"the equation has no derivative of {unknown}; it is algebraic, not an ODE", text=text)
     order = max(coeffs)
 
-    params = dict(params or {})
+    params = mapping_of(params, "params", "{'k': 800}")
     if "e" in names and "e" not in params:
         raise UnknownNameError(
             "'e' would be read as a symbolic parameter; for the exponential write exp(...), as "
@@ -309,8 +322,8 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
     ic_names: set[str] = set()
     ic_values: dict[int, sp.Expr] = {}
     ic_quantities: dict = {}
-    units = dict(units or {})
-    for key, value in dict(ics or {}).items():
+    units = mapping_of(units, "units", "{'x': 'mm'}")
+    for key, value in mapping_of(ics, "ics", '{"y(0)": 0, "y\'(0)": 0}').items():
         k = _ic_key_order(key, unknown)
         label = derivative_name(unknown, k) + "(0)"
         if k in ic_values:

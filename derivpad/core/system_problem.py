@@ -18,7 +18,7 @@ import sympy as sp
 from ..errors import EquationError, InitialConditionError, ParameterError, ParseError, UnitError
 from .parse import RESERVED_NAMES, T, parse_equation, parse_expression, primed_names
 from .problem import _IC_KEY, _ZERO_POINTS, _ic_value, _terms_from_eq, classify_terms, \
-    derivative_name, read_parameter, to_exact
+    derivative_name, mapping_of, read_parameter, to_exact
 from .units import (UnitContext, check_homogeneity, dimension_of, display_unit_for,
                     read_quantity, registry, time_dimension)
 
@@ -235,7 +235,7 @@ def make_system_problem(equations, ics=None, params=None, units=None,
     ic_values: dict = {}
     ic_quantities: dict = {}
     ic_names: set = set()
-    for key, value in dict(ics or {}).items():
+    for key, value in mapping_of(ics, "ics", '{"y(0)": 0, "y\'(0)": 0}').items():
         j, k = _ic_target(key, unknowns)
         label = derivative_name(unknowns[j], k) + "(0)"
         if (j, k) in ic_values:
@@ -258,8 +258,8 @@ def make_system_problem(equations, ics=None, params=None, units=None,
             + ", ".join(repr(m) + ": 0" for m in missing) + "}", missing=missing)
 
     # parameters
-    params = dict(params or {})
-    units = dict(units or {})
+    params = mapping_of(params, "params", "{'k': 800}")
+    units = mapping_of(units, "units", "{'x': 'mm'}")
     known = set(names) | ic_names
     values: dict = {}
     quantities: dict = {}

@@ -16,12 +16,13 @@ from functools import lru_cache
 
 import sympy as sp
 
-from ..errors import UnitError
+from ..errors import ParameterError, ParseError, UnitError
+from .parse import check_number_text
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
            "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "display_offset", "to_display"]
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_NUMBER = re.compile(r"^\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*$")
 
 # Names for common SI dimensions, so results read "N" rather than "kg·m/s²".
 _NAMED = ["N", "N*m", "Pa", "J", "W", "V", "A", "ohm", "F", "H", "C", "K", "N*s", "N/m",
@@ -77,6 +78,10 @@ def _clean(text: str) -> str:
 
 
 def _unit(text: str, name: str):
+    if len(text) > 200 or any(len(n) > 3 or int(n) > 100 for n in re.findall(r"[0-9]+", text)):
+        msg = (f"{name}: the unit {text[:40]!r} is too long or has a power above 100; write a "
+               "unit such as 'kg', 'N/m' or 'm/s**2'")
+        raise UnitError(msg, name=name)
     ureg = registry()
     try:
         return ureg.parse_units(_clean(text))
@@ -107,6 +112,10 @@ def _read_quantity(value, name: str) -> Quantity | None:
         m = _NUMBER.match(value)
         if not m or not m.group(2):
             return None
+        try:
+            check_number_text(m.group(1).lstrip("+-"), name)
+        except ParseError as exc:
+            raise ParameterError(f"{name}: {exc.reason}", name) from exc
         magnitude, units, given = Fraction(m.group(1)), _unit(m.group(2), name), value.strip()
     else:
         return None
