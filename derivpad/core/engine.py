@@ -24,7 +24,7 @@ from .partial_fractions import fraction_steps, partial_fractions
 from .problem import Problem, derivative_name, make_problem, mapping_of, to_exact
 from .rules import rule
 from .steps import Line, Step
-from .units import dimension_text, read_quantity
+from .units import dimension_text, read_quantity, sign_cautions
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
 from .numeric_model import ParametricModel
@@ -212,7 +212,7 @@ def solve_stages(problem: Problem, regime: str = "underdamped", order=None) -> S
     a = problem.coefficients
 
     pieces, notes = heaviside_pieces(problem.forcing)
-    assumptions: list[str] = []
+    assumptions: list[str] = list(sign_cautions(problem.quantities))
     conditions: list = []
     if problem.symbols:
         assumptions.append("symbolic parameters (" + ", ".join(problem.symbols)

@@ -21,6 +21,7 @@ from .algebra import initial_condition_polynomial, merge_poles, poles_of
 from .engine import _order_key
 from .forcing import TAU, heaviside_pieces
 from .inverse import invert_term, inversion_step, shift
+from .units import sign_cautions
 from .parse import S, T
 from .partial_fractions import fraction_steps, partial_fractions
 from .problem import derivative_name
@@ -123,7 +124,7 @@ def solve_system_stages(problem: SystemProblem, regime: str = "underdamped",
     n = len(names)
     X = [Ysym(u) for u in names]
     funcs = problem.functions()
-    assumptions: list[str] = []
+    assumptions: list[str] = list(sign_cautions(problem.quantities))
     conditions: list = []
     notes: list[str] = []
     if problem.symbols:

@@ -20,7 +20,7 @@ from ..errors import ParameterError, ParseError, UnitError
 from .parse import check_number_text
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",
-           "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "display_offset", "to_display"]
+           "dimension_of", "time_dimension", "dimension_text", "unit_text", "display_unit_for", "display_factor", "display_offset", "sign_cautions", "to_display"]
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*$")
 
@@ -141,6 +141,25 @@ def _read_quantity(value, name: str) -> Quantity | None:
     si = exact * factor
     return Quantity(name, given, sp.Rational(si.numerator, si.denominator),
                     display_unit_for(q.dimensionality), q.dimensionality)
+
+
+_NORMALLY_POSITIVE = (("mass", "kg"), ("stiffness", "N/m"), ("damping coefficient", "N*s/m"),
+                      ("capacitance", "F"), ("inductance", "H"), ("resistance", "ohm"))
+
+
+def sign_cautions(quantities) -> tuple[str, ...]:
+    """A caution for each mass, stiffness, damping, capacitance, inductance or resistance given
+    as zero or negative: the mathematics holds, but the value is likely a slip."""
+    ureg = registry()
+    out = []
+    for q in quantities:
+        for word, unit in _NORMALLY_POSITIVE:
+            if q.dimensionality == ureg.Quantity(1, unit).dimensionality and q.si_value <= 0:
+                sign = "zero" if q.si_value == 0 else "negative"
+                out.append(f"caution: {q.name} = {q.given} is {sign}; a {word} is normally "
+                           "positive, so check the value (the derivation holds for it)")
+                break
+    return tuple(out)
 
 
 def unit_text(units) -> str:
