@@ -13,42 +13,13 @@ import json
 import re
 import sys
 
-from .errors import DerivpadError, InitialConditionError, ParameterError
+from .errors import DerivpadError, InitialConditionError, ParameterError, in_syntax
 
 __all__ = ["main"]
 
 FORMATS = ("text", "latex", "json")
 NOT_VERIFIED = 3
 INTERNAL = 4
-
-# The core's messages give the fix in Python; on the command line the same fix is an option.
-_CLI_SYNTAX = (
-    ('on_failure="return"', "the command line, which prints it marked NOT VERIFIED (exit 3)"),
-    ("params=", "--param NAME=VALUE"),
-    ("values=", "--value NAME=VALUE"),
-    ("ics=", "--ic \"y(0)=0\""),
-    ("units=", "--unit NAME=UNIT"),
-)
-
-
-_OPTION_OF = {"params": "--param", "values": "--value", "units": "--unit", "ics": "--ic"}
-_MAPPING = re.compile(r"\b(params|values|units|ics)=\{([^{}]*)\}")
-_PAIR = re.compile(r"""['"]([^'"]+)['"]\s*:\s*([^,]+)""")
-
-
-def _in_cli_syntax(message: str) -> str:
-    """A message's Python fix (params={'m': 2.5}) in the options of the command line."""
-    def options(m):
-        flag = _OPTION_OF[m.group(1)]
-        pairs = [(k, v.strip().strip("'\"")) for k, v in _PAIR.findall(m.group(2))]
-        if flag == "--ic":
-            return " ".join(f'--ic "{k}={v}"' for k, v in pairs)
-        return " ".join(f"{flag} {k}={v}" for k, v in pairs) or flag
-    message = _MAPPING.sub(options, message)
-    for python, option in _CLI_SYNTAX:
-        message = message.replace(python, option)
-    return message
-
 
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
@@ -139,12 +110,14 @@ def _emit_system(d, fmt: str, times) -> str:
             values = d(list(times))
             data["samples"] = [{"t": t, **{name: float(v[i]) for name, v in values.items()}}
                                for i, t in enumerate(times)]
+            data["sample_units"] = {"t": "s", "values": "SI"}
         return json.dumps(data, indent=2, ensure_ascii=False)
     if fmt == "latex":
         return d.to_latex(document=True)
     from .render.notation import text_expr
     out = [d.to_text(), ""]
-    out += [f"Solution: {u}(t) = {text_expr(d.solution[u])}" for u in d.unknowns]
+    out += [f"Solution (SI units, t in s): {u}(t) = {text_expr(d.solution[u])}"
+            for u in d.unknowns]
     if times:
         values = d(list(times))
         names = list(values)
@@ -157,11 +130,14 @@ def _emit_system(d, fmt: str, times) -> str:
 def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     if not hasattr(derivation, "unknown"):  # a coupled system
         return _emit_system(derivation, fmt, times)
+    units = derivation.problem.units
+    si = units.unknown_si if units else ""
     if fmt == "json":
         data = derivation.to_dict()
         if times:
             data["samples"] = [{"t": t, "value": float(v)} for t, v in
                                zip(times, derivation(list(times)))]
+            data["sample_units"] = {"t": "s", "value": si or "as the equation's numbers"}
         return json.dumps(data, indent=2, ensure_ascii=False)
     if fmt == "latex":
         return derivation.to_latex(document=True)
@@ -170,10 +146,10 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     if title:
         out += [title, "=" * len(title), ""]
     out.append(derivation.to_text())
-    out += ["", f"Solution: {derivation.unknown}(t) = {text_expr(derivation.solution)}"]
+    written = f" (SI: {derivation.unknown} in {si}, t in s)" if si else " (t in s)"
+    out += ["", f"Solution{written}: {derivation.unknown}(t) = {text_expr(derivation.solution)}"]
     if times:
         from .core.units import display_factor, display_offset
-        units = derivation.problem.units
         scale = display_factor(units.unknown_si, units.unknown_display) if units else 1.0
         offset = display_offset(units.unknown_si, units.unknown_display) if units else 0.0
         t_unit = f" [{units.time_display}]" if units else ""
@@ -237,7 +213,7 @@ def _main(argv=None) -> int:
                 d.save_figure(args.figure)
             text = _emit(d, args.format, args.at)
     except DerivpadError as exc:
-        print(f"derivpad: error: {_in_cli_syntax(str(exc))}", file=sys.stderr)
+        print(f"derivpad: error: {in_syntax(str(exc), 'cli')}", file=sys.stderr)
         return 2
     print(text)
     sys.stdout.flush()

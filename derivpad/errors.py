@@ -27,6 +27,7 @@ messages. Messages say what is wrong, where, and how to fix it.
 from __future__ import annotations
 
 __all__ = [
+    "in_syntax",
     "DerivpadError",
     "EquationError",
     "ExportError",
@@ -46,6 +47,38 @@ __all__ = [
     "VariableCoefficientError",
     "VerificationFailedError",
 ]
+
+
+_OPTION = {"cli": {"params": "--param {k}={v}", "values": "--value {k}={v}",
+                   "units": "--unit {k}={v}", "ics": '--ic "{k}={v}"'},
+           "cell": {"params": "a line '{k} = {v}'", "values": "a line 'values: {k} = {v}'",
+                    "units": "a line 'units: {k} = {v}'", "ics": "a line '{k} = {v}'"}}
+_BARE = {"cli": {"params=": "--param NAME=VALUE", "values=": "--value NAME=VALUE",
+                 "ics=": '--ic "y(0)=0"', "units=": "--unit NAME=UNIT",
+                 'on_failure="return"': "the command line, which prints it marked NOT VERIFIED "
+                                        "(exit status 3)"},
+         "cell": {"params=": "a line 'NAME = VALUE'", "values=": "a line 'values: NAME = VALUE'",
+                  "ics=": "a line 'y(0) = 0'", "units=": "a line 'units: NAME = UNIT'",
+                  'on_failure="return"': 'derive(..., on_failure="return") in Python'}}
+
+
+def in_syntax(message: str, where: str) -> str:
+    """A message whose fix is written in Python (``params={'m': 2.5}``) with the fix in the
+    syntax of where the user typed: ``"cli"`` (``--param m=2.5``) or ``"cell"`` (the
+    %%derivation magic's line ``m = 2.5``). Messages carry their facts as attributes; this
+    only rewrites the example of a fix."""
+    import re
+
+    def options(m):
+        form = _OPTION[where][m.group(1)]
+        pairs = re.findall(r"""(["'])(.+?)\1\s*:\s*([^,]+)""", m.group(2))
+        return " ".join(form.format(k=k, v=v.strip().strip("'\"")) for _, k, v in pairs) or \
+            _BARE[where][m.group(1) + "="]
+    message = re.sub(r"\b(params|values|units|ics)=\{([^{}]*)\}", options, message)
+    for python, other in _BARE[where].items():
+        message = re.sub(r"\b" + re.escape(python) if python[0].isalpha() else re.escape(python),
+                         other, message)
+    return message
 
 
 def _located(message: str, text: str, position: int | None, length: int = 1) -> str:
@@ -174,8 +207,28 @@ def import_extra(names, what: str, extra: str = "notebook") -> tuple:
     try:
         return tuple(importlib.import_module(name) for name in names)
     except ImportError as exc:
-        msg = f'{what} needs {exc.name or names[0]}; install it with: pip install "derivpad[{extra}]"'
+        msg = f"{what} needs {exc.name or names[0]}; install it with: {install_command(extra)}"
         raise MissingExtraError(msg, extra=extra) from exc
+
+
+def install_command(extra: str) -> str:
+    """The pip command for an extra that works from where derivpad is: from a source checkout
+    (a pyproject.toml beside the package) the checkout's own path, else the published name."""
+    import json
+    from importlib import metadata
+    from pathlib import Path
+    from urllib.parse import unquote, urlparse
+    root = Path(__file__).resolve().parents[1]
+    if not (root / "pyproject.toml").is_file():
+        try:  # installed from a local folder: pip records where (PEP 610, direct_url.json)
+            url = json.loads(metadata.distribution("derivpad").read_text("direct_url.json")
+                             or "{}").get("url", "")
+        except (metadata.PackageNotFoundError, ValueError, OSError):
+            url = ""
+        root = Path(unquote(urlparse(url).path)) if url.startswith("file:") else None
+    if root is not None and (root / "pyproject.toml").is_file():
+        return f'pip install "{root}[{extra}]"'
+    return f'pip install "derivpad[{extra}]"'
 
 
 class RenderSettingError(DerivpadError, ValueError):

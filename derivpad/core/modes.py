@@ -269,9 +269,11 @@ class Modes:
         for c in set(self.delay.tolist()):
             idx = np.nonzero(self.delay == c)[0]
             p = self.rate[idx] + 1j * self.freq[idx]
+            k = self.power[idx]
             for i in range(len(idx)):
                 gap = np.abs(p - p[i])
-                near = (gap > 0) & (gap <= 1e-6 * np.maximum(np.abs(p), np.abs(p[i])))
+                near = (gap <= 1e-6 * np.maximum(np.abs(p), np.abs(p[i]))) & (k == k[i])
+                near[i] = False  # two modes of one power at (nearly) one pole: distinct poles
                 if near.any():
                     return True
         return False

@@ -183,10 +183,11 @@ def engineering_results(model: NumericModel, t_end: float, units=None, definitio
         add("natural_frequency_hz", "natural frequency f_n" + which, wn / (2 * math.pi),
             "Hz" if units else "", "f_n = ω_n/(2π)", _VIB)
         add("damping_ratio", "damping ratio" + which, zeta, "", how, _VIB)
-        if zeta < 1:
+        if abs(zeta) < 1:
             add("damped_frequency", "damped frequency ω_d" + which, wn * math.sqrt(1 - zeta ** 2),
                 "rad/s" if units else "", "ω_d = ω_n √(1 - ζ²)", _VIB)
-        regime = ("undamped" if abs(zeta) < 1e-12 else "underdamped" if zeta < 1 - 1e-9 else
+        regime = ("negatively damped (unstable)" if zeta < -1e-12 else
+                  "undamped" if abs(zeta) < 1e-12 else "underdamped" if zeta < 1 - 1e-9 else
                   "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
         add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
 

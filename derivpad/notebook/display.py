@@ -25,7 +25,7 @@ from __future__ import annotations
 import re
 
 from ..core.engine import derive
-from ..errors import DerivpadError, ParseError, import_extra
+from ..errors import DerivpadError, ParseError, import_extra, in_syntax
 
 __all__ = ["load_ipython_extension", "parse_cell", "derivation_magic", "show"]
 
@@ -92,7 +92,7 @@ def derivation_magic(line: str, cell: str, shell=None):
     try:
         d = derive(**parse_cell(cell))
     except DerivpadError as exc:
-        print(f"derivpad: {exc}")
+        print(f"derivpad: {in_syntax(str(exc), 'cell')}")
         return None
     name = line.strip()
     if name:

@@ -6,6 +6,7 @@ import sympy as sp
 from derivpad import UnitError, derive
 from derivpad.core.problem import make_problem
 from derivpad.core.units import read_quantity, registry
+from derivpad.core.parse import T
 
 REST = {"x(0)": 0, "x'(0)": 0}
 
@@ -82,3 +83,25 @@ def test_problem_step_shows_given_and_si_values():
     d = derive("m*x'' + k*x = F0*u(t)", REST, {"m": "1200 kg", "k": "480 kN/m", "F0": "6 kN"})
     labels = [line.label for line in d.steps[0].lines]
     assert "given 480 kN/m; SI N/m" in labels
+
+
+def test_offset_temperatures_give_the_same_physical_answer_in_k_degc_and_degf():
+    # An enclosure: C T' + (T - Ta)/R = P u(t - t1). 20 °C = 68 °F = 293.15 K (pint's own
+    # conversion, with the offset); the rise P·R = 50 K is the same in every scale, so the
+    # final temperature is 343.15 K = 70 °C (common practice, no source).
+    finals = []
+    for ambient, unit in (("293.15 K", "K"), ("20 degC", "degC"), ("68 degF", "degF")):
+        d = derive("C*T' + (T - Ta)/R = P*u(t - t1)", ics={"T(0)": ambient},
+                   params={"C": "5 kJ/K", "R": "0.2 K/W", "Ta": ambient, "P": "250 W",
+                           "t1": "60 s"}, units={"T": unit})
+        finals.append(d.results["final_value"].value.to("kelvin").magnitude)
+        assert d.solution.subs(T, 0) == pytest.approx(293.15, rel=1e-12)  # SI, absolute
+    assert finals == pytest.approx([343.15] * 3, rel=1e-12)
+
+
+def test_a_compound_unit_with_an_offset_scale_reads_as_a_difference():
+    # pint reads J/degC as J per degree-Celsius difference: the same as J/K (pint docs,
+    # "Temperature conversion"); a parameter of 5 kJ/degC is 5000 J/K
+    d = derive("C*T' + T/R = P", ics={"T(0)": 0}, params={"C": "5 kJ/degC", "R": "0.2 K/W",
+                                                        "P": "250 W"})
+    assert dict(d.problem.parameters)["C"] == 5000
