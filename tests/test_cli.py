@@ -19,7 +19,7 @@ def test_solve_text_and_values(capsys):
     assert main(["solve", "y'' + 9*y = delta(t)", "--ic", "y(0)=0", "--ic", "y'(0)=0",
                  "--at", "0.5"]) == 0
     out = capsys.readouterr().out
-    assert "Solution: y(t) = sin(3*t)/3" in out
+    assert "Solution (t in s): y(t) = sin(3*t)/3" in out
     # sin(1.5)/3 = 0.332498 (direct evaluation)
     assert "3.324983e-01" in out
 

@@ -362,7 +362,8 @@ def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit
                (f"settling_time_{_pct(band)}pct", f"{_pct(band)} % settling time", t_unit))
     reason = ""
     if final is None:
-        reason = "no final value (" + why + ")"
+        reason = ("unbounded: no rise, overshoot or settling" if why.startswith("unbounded")
+                  else "the response has no final value: no rise, overshoot or settling")
     elif final == 0.0:
         reason = "the response returns to zero: no rise, overshoot or settling to a new level"
     elif not at_rest:
