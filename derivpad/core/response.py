@@ -76,13 +76,13 @@ def growth(modes: Modes, system_poles=()) -> Growth | None:
     m = max(idx, key=lambda i: (0.0 if steady[i] else modes.rate[i], modes.power[i]))
     a, b, k = (0.0 if steady[m] else float(modes.rate[m])), float(modes.freq[m]), int(modes.power[m])
     power = "" if k == 0 else ("t·" if k == 1 else f"t^{k}·")
-    trig = f"sin({_fmt(b)} t)" if b else ""
+    trig = ("sin t" if b == 1 else f"sin({_fmt(b)} t)") if b else ""
     if a > 0:
-        law = f"{power}e^({_fmt(a)} t)" + (f"·{trig}" if trig else "")
+        law = f"{power}e^({_fmt(a)} t)".replace("e^(1 t)", "e^t") + (f"·{trig}" if trig else "")
         where = f"{_fmt(a)} ± {_fmt(b)}i" if b else _fmt(a)
         own = _multiplicity(system_poles, complex(a, b))
-        reason = (f"a pole with positive real part at s = {where}: the response grows without "
-                  "bound (unstable)" if own else
+        reason = (f"a pole with positive real part at s = {where} (unstable): the response "
+                  f"grows like {law}" if own else
                   f"the load grows like e^({_fmt(a)} t) and the response with it")
         return Growth(law, reason)
     law = (f"{power}{trig}" if trig else ("t" if k == 1 else f"t^{k}"))

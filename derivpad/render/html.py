@@ -158,7 +158,8 @@ class HtmlRenderer(Renderer):
 
     def _result_row(self, r) -> str:
         value, unit, remark = result_parts(r, self.settings["float_digits"])
-        how = _esc(r.formula) + (f"<br><em>{_esc(remark)}</em>" if remark else "")
+        how = "<br>".join(x for x in (_esc(r.formula), f"<em>{_esc(remark)}</em>" if remark
+                                      else "") if x)
         return (f"<tr><td>{_esc(r.label)}</td><td class=\"dp-num\">{_esc(value)}</td>"
                 f"<td>{_esc(unit)}</td><td>{how}</td></tr>")
 
