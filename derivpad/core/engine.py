@@ -141,8 +141,9 @@ def stages_for_values(problem: Problem, regime: str, value_map: dict) -> "Stages
         raise ParameterError(f"regime must be 'underdamped' or 'overdamped', not {regime!r}",
                              "regime")
     stages = solve_stages(problem, regime, value_map or None)
-    if not value_map or not stages.conditions or form_holds(stages, value_map):
-        return stages
+    complete_values = all(name in value_map for name in problem.symbols)
+    if not complete_values or not stages.conditions or form_holds(stages, value_map):
+        return stages  # with some values missing the form cannot be judged: checks sample it
     other = REGIMES[1 - REGIMES.index(regime)]
     try:
         alternative = solve_stages(problem, other, value_map)
