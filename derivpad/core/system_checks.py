@@ -330,7 +330,7 @@ def system_independent_checks(numbers: SystemNumbers, tolerances, t_end: float):
             continue
         inv = inversion_check(m.parts, m.closed_form, inversion_horizon(m.response_poles, t_end,
                                                                         bps),
-                              bps, peak, tol["inversion"])
+                              bps, peak, tol["inversion"], m.modes)
         checks.append(_renamed(inv, f"Numerical inversion of {Ysym(u)}"))
         decays = [-z.real for z in m.response_poles if z.real < 0]
         far = max(bps, default=0.0) + (60.0 / min(decays) if decays else t_end)
