@@ -15,7 +15,6 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-import sympy as sp
 
 from ..errors import DerivpadError, ParameterError
 from .derivation import Derivation

@@ -1,11 +1,11 @@
 """Engineering results from the closed form: poles, damping, peak, dynamic load factor, settling.
 
-Each result says how it was found and where the formula comes from. A result is stated only
-where it means something: damping figures for oscillatory or second-order systems, the
-dynamic load factor where the load has a peak and the system a static stiffness (a_0 ≠ 0),
-settling, overshoot and rise time where the response settles to a non-zero final value.
-Peaks are found at zeros of y'(t), bracketed on a fine grid and refined by Brent's method,
-not read off the grid.
+Each result says how it was found and where the formula comes from. Every figure of the
+response holds over all t ≥ 0, read from the closed form's modes (core/response.py): a
+supremum proven by a bound on what is left, ``math.inf`` for an unbounded response with its
+cause, ``None`` with the reason where a figure does not apply (a settling time of a response
+that returns to rest, a dynamic load factor without static stiffness). Damping figures are
+given for oscillatory or second-order systems.
 """
 
 from __future__ import annotations
@@ -15,7 +15,6 @@ from dataclasses import dataclass
 from types import MappingProxyType
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .numeric_model import NumericModel
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
@@ -108,18 +107,6 @@ def _polynomial_text(a) -> str:
     return " + ".join(parts).replace("+ -", "- ")
 
 
-def _zeros(f, times) -> list[float]:
-    """Roots of f on the grid's sign changes, refined by Brent's method."""
-    values = f(times)
-    finite = np.isfinite(values[:-1]) & np.isfinite(values[1:])
-    exact = np.nonzero(finite & (values[:-1] == 0))[0]
-    change = np.nonzero(finite & (values[:-1] * values[1:] < 0))[0]
-    out = [float(times[i]) for i in exact]
-    out += [brentq(lambda x: float(f(np.array([x]))[0]), times[i], times[i + 1],
-                   xtol=1e-14, rtol=1e-13, maxiter=200) for i in change]
-    return sorted(out)
-
-
 def engineering_results(model: NumericModel, t_end: float, units=None, definitions=None):
     """The results mapping (read-only) from a derivation's numeric model; each figure of the
     response holds over all t ≥ 0 (``t_end`` only bounds nothing but is kept for callers)."""
@@ -147,7 +134,7 @@ def engineering_results(model: NumericModel, t_end: float, units=None, definitio
     a = list(model.coefficients)
     n = len(a) - 1
     zs = list(model.system_poles)
-    breakpoints, impulses = model.breakpoints, model.impulses
+    impulses = model.impulses
     char = _polynomial_text(a)
     add("characteristic_polynomial", "characteristic polynomial", char, "",
         "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")

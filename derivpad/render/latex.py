@@ -6,7 +6,7 @@ from ..core.derivation import Derivation
 from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
-from .notation import format_value, latex_expr, result_parts
+from .notation import latex_expr, result_parts
 
 __all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
 

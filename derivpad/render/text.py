@@ -9,7 +9,7 @@ from ..core.steps import Line, Step
 from ..core.verify import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
-from .notation import format_value, result_parts, text_expr
+from .notation import result_parts, text_expr
 
 __all__ = ["TextRenderer", "to_text"]
 
