@@ -27,7 +27,6 @@ messages. Messages say what is wrong, where, and how to fix it.
 from __future__ import annotations
 
 __all__ = [
-    "in_syntax",
     "DerivpadError",
     "EquationError",
     "ExportError",
