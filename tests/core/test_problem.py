@@ -103,3 +103,18 @@ def test_algebraic_equation_is_not_an_ode():
 def test_leading_coefficient_zero_by_values():
     with pytest.raises(ParameterError, match="order drops"):
         make_problem("m*y'' + y = 0", ZERO2, {"m": 0})
+
+
+def test_a_users_own_sympy_t_is_time():
+    # sympy.Symbol("t") without assumptions, in a load given as a parameter and in the
+    # documented Piecewise form: the same solution as the parser's t (by hand:
+    # (1 - cos 2(t - 1))/4 after t = 1)
+    t = sp.Symbol("t")
+    from derivpad import derive
+    rest = {"y(0)": 0, "y'(0)": 0}
+    step = derive("y'' + 4*y = F", ics=rest, params={"F": sp.Heaviside(t - 1)})
+    text = derive("y'' + 4*y = u(t - 1)", ics=rest)
+    assert sp.simplify(step.solution - text.solution) == 0
+    window = derive("y'' + 4*y = F", ics=rest, params={"F": sp.Piecewise((1, t < 2), (0, True))})
+    both = derive("y'' + 4*y = u(t) - u(t - 2)", ics=rest)
+    assert sp.simplify(window.solution - both.solution) == 0

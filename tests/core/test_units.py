@@ -105,3 +105,24 @@ def test_a_compound_unit_with_an_offset_scale_reads_as_a_difference():
     d = derive("C*T' + T/R = P", ics={"T(0)": 0}, params={"C": "5 kJ/degC", "R": "0.2 K/W",
                                                         "P": "250 W"})
     assert dict(d.problem.parameters)["C"] == 5000
+
+
+def test_a_display_unit_of_time_never_changes_the_dimension_check():
+    # numbers written in the equation are in the SI unit of their place; t shown in ms
+    plain = derive("y'' + 4*y = u(t - 1)", ics={"y(0)": 0, "y'(0)": 0})
+    shown = derive("y'' + 4*y = u(t - 1)", ics={"y(0)": 0, "y'(0)": 0}, units={"t": "ms"})
+    assert shown.solution == plain.solution
+    assert shown.results["time_of_peak"].value.to("s").magnitude == pytest.approx(
+        plain.results["time_of_peak"].magnitude, rel=1e-12)
+
+
+def test_us_customary_units_with_many_digits_give_the_si_answer():
+    # 1 lb = 0.45359237 kg, 1 lbf = 4.4482216152605 N, 1 in = 0.0254 m (NIST SP 811, App. B)
+    us = derive("m*x'' + k*x = F*u(t)", ics={"x(0)": 0, "x'(0)": 0},
+                params={"m": f"{1 / 0.45359237!r} lb",
+                        "k": f"{1000 / (4.4482216152605 / 0.0254)!r} lbf/in", "F": "1 N"})
+    si = derive("m*x'' + k*x = F*u(t)", ics={"x(0)": 0, "x'(0)": 0},
+                params={"m": "1 kg", "k": "1000 N/m", "F": "1 N"})
+    assert us.results["peak"].magnitude == pytest.approx(si.results["peak"].magnitude, rel=1e-9)
+    assert us.results["natural_frequency"].magnitude == pytest.approx(
+        si.results["natural_frequency"].magnitude, rel=1e-9)

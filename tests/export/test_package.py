@@ -119,3 +119,16 @@ def test_a_system_calc_packages_and_audits(tmp_path):
     assert "Matrix form" in html and "Cramer" in html
     report = audit_package(result.folder, rerun=True)
     assert report.holds, report.table()
+
+
+def test_relative_paths_as_the_docs_write_them(tmp_path, monkeypatch):
+    # `derivpad package calc.ipynb -o out`, run in the notebook's folder (README, package.md):
+    # the PDF printer gets absolute paths, and the audit reads the relative folder
+    from derivpad.cli import main
+    shutil.copy(EXAMPLES / "relay_coil_current.ipynb", tmp_path / "calc.ipynb")
+    monkeypatch.chdir(tmp_path)
+    assert main(["package", "calc.ipynb", "-o", "out"]) == 0
+    assert (tmp_path / "out" / "DEMO-002-rev0" / "MANIFEST.sha256").is_file()
+    if Path("/usr/bin/chromium").exists():
+        assert (tmp_path / "out" / "DEMO-002-rev0" / "report.pdf").stat().st_size > 0
+    assert main(["audit", "out/DEMO-002-rev0"]) == 0
