@@ -168,8 +168,33 @@ class ModeTable:
         for i in np.nonzero(flip)[0]:
             ex[2][i], ex[4][i] = -ex[2][i], -ex[4][i]
         sign = np.where(flip, -1.0, 1.0)
-        return Modes(delay.real, self.powers.copy(), a.real, np.abs(b.real),
-                     ca.real, sign * cb.real, tuple(tuple(f) for f in ex))
+        return _merged(Modes(delay.real, self.powers.copy(), a.real, np.abs(b.real),
+                             ca.real, sign * cb.real, tuple(tuple(f) for f in ex)))
+
+
+def _merged(modes: "Modes") -> "Modes":
+    """Modes with one delay, power, rate and frequency added into one (the same switching
+    time written two ways, 7/100 and 0.07, gives two rows of one mode)."""
+    keys: dict = {}
+    for m in range(len(modes)):
+        key = (modes.delay[m], int(modes.power[m]), modes.rate[m], modes.freq[m])
+        if modes.exact:  # poles equal in floats but not exactly stay apart (nearly equal poles)
+            key += (modes.exact[0][m], modes.exact[1][m], modes.exact[2][m])
+        keys.setdefault(key, []).append(m)
+    if len(keys) == len(modes):
+        return modes
+    rows = list(keys.values())
+    pick = np.array([r[0] for r in rows])
+    cos = np.array([modes.cos[r].sum() for r in rows])
+    sin = np.array([modes.sin[r].sum() for r in rows])
+    exact = ()
+    if modes.exact:
+        d, a, b, A, B = modes.exact
+        exact = (tuple(d[r[0]] for r in rows), tuple(a[r[0]] for r in rows),
+                 tuple(b[r[0]] for r in rows), tuple(sum(A[i] for i in r) for r in rows),
+                 tuple(sum(B[i] for i in r) for r in rows))
+    return Modes(modes.delay[pick], modes.power[pick], modes.rate[pick], modes.freq[pick],
+                 cos, sin, exact)
 
 
 # -- the numbers ----------------------------------------------------------------------------
@@ -219,25 +244,21 @@ class Modes:
         return tuple(sorted({float(c) for c in self.delay if c > 0}))
 
     def _terms(self, t: np.ndarray, strict: bool = False) -> np.ndarray:
-        """Each mode's value at each time (modes × times), zero where its step is off."""
-        out = np.zeros((len(self), t.size))
-        for m in range(len(self)):
-            tau = t - self.delay[m]
-            on = tau > 0 if strict else tau >= 0
-            if not np.any(on):
-                continue
-            x = tau[on]
-            with np.errstate(over="ignore", invalid="ignore"):
-                v = np.exp(self.rate[m] * x) if self.rate[m] != 0 else np.ones_like(x)
-                if self.power[m]:
-                    v = v * x ** int(self.power[m])
-                if self.freq[m] != 0:
-                    w = self.freq[m] * x
-                    v = v * (self.cos[m] * np.cos(w) + self.sin[m] * np.sin(w))
-                else:
-                    v = v * self.cos[m]
-            out[m, on] = v
-        return out
+        """Each mode's value at each time (modes × times), zero where its step is off.
+
+        Evaluated for all modes at once (broadcast), each at its own shifted time τ = t - c,
+        with τ set to 0 where the step is off so that no factor is formed there.
+        """
+        tau = t[None, :] - self.delay[:, None]
+        on = tau > 0 if strict else tau >= 0
+        x = np.where(on, tau, 0.0)
+        with np.errstate(over="ignore", invalid="ignore"):
+            v = np.exp(self.rate[:, None] * x)
+            if np.any(self.power):
+                v = v * x ** self.power[:, None]
+            w = self.freq[:, None] * x
+            v = v * (self.cos[:, None] * np.cos(w) + self.sin[:, None] * np.sin(w))
+        return np.where(on, v, 0.0)
 
     def __call__(self, times, strict: bool = False) -> np.ndarray:
         """y(times); ``strict`` gives the left limits (a mode switched on at t not yet on).
@@ -249,10 +270,13 @@ class Modes:
         t = np.atleast_1d(np.asarray(times, dtype=float))
         if not len(self):
             return np.where(t >= 0, 0.0, np.nan)
+        if not self.fragile:
+            step = max(1, 2_000_000 // len(self))  # at most 2e6 mode-time values at once
+            y = np.concatenate([self._terms(t[i:i + step], strict).sum(axis=0)
+                                for i in range(0, t.size, step)]) if t.size else t.copy()
+            return np.where(t >= 0, y, np.nan)
         terms = self._terms(t, strict)
         y = terms.sum(axis=0)
-        if not self.fragile:
-            return np.where(t >= 0, y, np.nan)
         with np.errstate(invalid="ignore"):
             size = np.abs(terms).sum(axis=0)
             bad = np.nonzero(np.isfinite(size) & (size > _CANCELLATION * np.abs(y))
@@ -321,9 +345,9 @@ class Modes:
         if not rows:
             return Modes.empty()
         cols = list(zip(*rows))
-        return Modes(np.array(cols[0], float), np.array(cols[1], int), np.array(cols[2], float),
-                     np.array(cols[3], float), np.array(cols[4], float), np.array(cols[5], float),
-                     exact)
+        return _merged(Modes(np.array(cols[0], float), np.array(cols[1], int),
+                             np.array(cols[2], float), np.array(cols[3], float),
+                             np.array(cols[4], float), np.array(cols[5], float), exact))
 
     def scaled(self, factor: float) -> "Modes":
         """factor·y."""

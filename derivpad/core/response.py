@@ -168,25 +168,40 @@ def _grid(modes: Modes, lo: float, hi: float) -> np.ndarray:
         raise SearchLimit(msg)
     parts = [np.linspace(lo, hi, n)]
     fast = max(a, b, 1e-300)
-    switches = [lo] + [c for c in modes.breakpoints if lo < c < hi]
-    for c in switches:
-        h = min(1.0 / (1000.0 * fast), (hi - c) / 1e6) if hi > c else 0.0
-        if h > 0:
-            parts.append(c + np.geomspace(h, hi - c, 400))
+    spacing = (hi - lo) / max(n - 1, 1)
+    if spacing * fast > 0.05:  # the even grid does not resolve the fastest mode: cluster
+        switches = [lo] + [c for c in modes.breakpoints if lo < c < hi]
+        for c in switches:
+            h = min(1.0 / (1000.0 * fast), (hi - c) / 1e6) if hi > c else 0.0
+            if h > 0:
+                parts.append(c + np.geomspace(h, hi - c, 400))
     parts.append(np.array([c for c in modes.breakpoints if lo <= c <= hi]))
     out = np.unique(np.concatenate(parts))
     return out[(out >= lo) & (out <= hi)]
 
 
-def _on_interval(modes: Modes, slope: Modes, lo: float, hi: float, sign: float):
-    """max of sign·y over [lo, hi] (right values; left limits at switches inside (lo, hi]),
-    as (value of sign·y, time, from the left?)."""
-    best = (-math.inf, lo)
+def _sampled(modes: Modes, slope: Modes, lo: float, hi: float, cache) -> list:
+    """(t, y, y') chunks over [lo, hi], evaluated once per interval (both signs share them)."""
+    key = (lo, hi)
+    if cache is not None and key in cache:
+        return cache[key]
     ts = _grid(modes, lo, hi)
+    out = []
     for start in range(0, ts.size, _CHUNK):
         t = ts[max(0, start - 1): start + _CHUNK]
-        v = sign * modes(t)
-        d = sign * slope(t)
+        out.append((t, modes(t), slope(t)))
+    if cache is not None:
+        cache[key] = out
+    return out
+
+
+def _on_interval(modes: Modes, slope: Modes, lo: float, hi: float, sign: float, cache=None):
+    """max of sign·y over [lo, hi] (right values; left limits at switches inside (lo, hi]),
+    as (value of sign·y, time)."""
+    best = (-math.inf, lo)
+    for t, y, dy in _sampled(modes, slope, lo, hi, cache):
+        v = sign * y
+        d = sign * dy
         i = int(np.nanargmax(v)) if np.isfinite(v).any() else 0
         if v[i] > best[0]:
             best = (float(v[i]), float(t[i]))
@@ -242,7 +257,7 @@ def _steady_sup(modes: Modes, steady, sign: float, t0: float):
 
 
 def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: int = 0,
-             slope: Modes | None = None) -> Extreme:
+             slope: Modes | None = None, cache: dict | None = None) -> Extreme:
     """The supremum of |y| (sense 0) or of sense·y (±1) over [start, stop].
 
     Over a finite interval it is a maximum, found at a zero of y', a switching time or an
@@ -251,13 +266,14 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
     ``math.inf``. Raises :class:`SearchLimit` when the oscillations are too many to search.
     """
     if sense == 0:
-        hi = supremum(modes, start, stop, 1, slope)
-        lo = supremum(modes, start, stop, -1, slope)
+        cache = {} if cache is None else cache  # both signs read one set of samples
+        hi = supremum(modes, start, stop, 1, slope, cache)
+        lo = supremum(modes, start, stop, -1, slope, cache)
         return hi if hi.value >= -lo.value else lo
     sign = float(sense)
     slope = slope if slope is not None else modes.derivative()
     if math.isfinite(stop):
-        v, t = _on_interval(modes, slope, start, stop, sign)
+        v, t = _on_interval(modes, slope, start, stop, sign, cache)
         return Extreme(sign * v, t)
     after = modes.tail()  # what acts after the last switch, with cancelling modes gone
     growing, steady, decaying = after.classify()
@@ -275,7 +291,7 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
         if math.isfinite(low):
             span = max(span, 2 * 2 * math.pi / low)
     upper = last + span
-    best = _on_interval(modes, slope, start, upper, sign)
+    best = _on_interval(modes, slope, start, upper, sign, cache)
     steady_val, attained = _steady_sup(after, steady, sign, upper)
     size = max(abs(steady_val), abs(best[0]), 1e-300)
     # a value found late, where only rounding separates y from its steady part, is the steady
@@ -295,7 +311,7 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
                     "common period, so their amplitudes add up in the limit")
             return Extreme(sign * steady_val, math.inf, False, note)
         nxt = last + 2 * (upper - last)
-        more = _on_interval(modes, slope, upper, nxt, sign)
+        more = _on_interval(modes, slope, upper, nxt, sign, cache)
         if more[0] > best[0]:
             best = more
         upper = nxt

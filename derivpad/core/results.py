@@ -292,8 +292,9 @@ def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit
 
     grows = growth(modes, system_poles)
     slope = modes.derivative()
+    samples: dict = {}  # the peak and the overshoot search read the same samples
     try:
-        peak = supremum(modes, slope=slope)
+        peak = supremum(modes, slope=slope, cache=samples)
     except SearchLimit as exc:
         for k, label in (("peak", "peak response"), ("time_of_peak", "time of peak")):
             absent(add, k, label, y_unit if k == "peak" else t_unit, f"not found: {exc}")
@@ -362,7 +363,7 @@ def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit
         return out
     sign = 1.0 if final > 0 else -1.0
     try:
-        top = supremum(modes, sense=int(sign), slope=slope)
+        top = supremum(modes, sense=int(sign), slope=slope, cache=samples)
         over = max(0.0, (abs(top.value) - abs(final)) / abs(final) * 100) \
             if np.sign(top.value) == sign else 0.0
         add("percent_overshoot", "percent overshoot", over, "%" if units else "",
