@@ -201,7 +201,10 @@ class HtmlRenderer(Renderer):
                                f"{_expr_latex(line.rhs, digits)}"
                                for line in d.steps[0].lines[1:1 + d.problem.order])
         out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-        out.append(f'<div class="dp-label">Solution</div><div class="dp-math">'
+        units = d.problem.units
+        written = (f" (SI: {_esc(y)} in {_esc(units.unknown_si or '1')}, t in s)" if units
+                   else " (t in s)")
+        out.append(f'<div class="dp-label">Solution{written}</div><div class="dp-math">'
                    f'{self._math(y + "(t) = " + _expr_latex(d.solution, digits))}</div>')
         if d.values:
             given = ", \\quad ".join(
@@ -267,7 +270,8 @@ def _render_system(self, d) -> str:
     sol = r" \\ ".join(f"{latex_expr(p.function(j))} &= {_expr_latex(d.solution[u], digits)}"
                         for j, u in enumerate(p.unknowns))
     solution = self._math(_ALIGNED % sol)
-    out.append(f'<div class="dp-label">Solution</div><div class="dp-math">{solution}</div>')
+    out.append('<div class="dp-label">Solution (SI units, t in s)</div>'
+               f'<div class="dp-math">{solution}</div>')
     if d.values:
         given = ", \\quad ".join(
             f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
