@@ -27,6 +27,8 @@ __all__ = ["Extreme", "Growth", "crossing_time", "final_value", "growth", "settl
 _POINTS_PER_PERIOD = 40
 _CHUNK = 100_000
 _MAX_POINTS = 4_000_000
+_MAX_SCAN = 40_000_000
+"""Samples a settling or rise-time search may take, piece by piece (a few seconds)."""
 _TAIL = 1e-10
 """The bound on what is left after T, relative to the values found, below which a supremum
 approached as t → ∞ is reported as reached in the limit."""
@@ -83,7 +85,7 @@ def growth(modes: Modes, system_poles=()) -> Growth | None:
         own = _multiplicity(system_poles, complex(a, b))
         reason = (f"a pole with positive real part at s = {where} (unstable): the response "
                   f"grows like {law}" if own else
-                  f"the load grows like e^({_fmt(a)} t) and the response with it")
+                  f"the load grows like {law} and the response with it")
         return Growth(law, reason)
     law = (f"{power}{trig}" if trig else ("t" if k == 1 else f"t^{k}"))
     own = _multiplicity(system_poles, complex(0.0, b))
@@ -334,36 +336,60 @@ def settled_after(modes: Modes, band: float) -> float:
     raise SearchLimit("the response does not settle within the search span")
 
 
+def _chunks(modes: Modes, lo: float, hi: float, forward: bool = True):
+    """Sample grids over consecutive pieces of [lo, hi] (each a grid of :func:`_grid`, the
+    pieces sharing their ends), in time order or backwards; refused beyond _MAX_SCAN samples."""
+    b, _ = _fastest(modes)
+    per_second = b / (2 * math.pi) * _POINTS_PER_PERIOD
+    total = (hi - lo) * per_second
+    pieces = max(1, int(math.ceil(total / _CHUNK)))
+    edges = np.linspace(lo, hi, pieces + 1)
+    order = range(pieces) if forward else range(pieces - 1, -1, -1)
+    taken = 0
+    for i in order:
+        grid = _grid(modes, float(edges[i]), float(edges[i + 1]))
+        taken += grid.size
+        if taken > _MAX_SCAN:  # counted as the search goes: an early answer costs little
+            msg = (f"more than {_MAX_SCAN:,} samples would be needed to search "
+                   f"[{_fmt(lo)}, {_fmt(hi)}] at {_POINTS_PER_PERIOD} per period of "
+                   f"{_fmt(b)} rad/s")
+            raise SearchLimit(msg)
+        yield grid
+
+
 def settling_time(modes: Modes, final: float, band: float) -> float:
-    """The last time |y - y∞| exceeds ``band`` (exact from the modes, however late)."""
+    """The last time |y - y∞| exceeds ``band`` (exact from the modes, however late): searched
+    backwards from a time after which the decaying modes' bound keeps y inside the band."""
     upper = settled_after(modes, 0.5 * band)
-    ts = _grid(modes, 0.0, upper)
-    g = np.abs(modes(ts) - final) - band
-    out = np.nonzero(g > 0)[0]
-    if not out.size:
-        return 0.0
-    k = int(out[-1])
-    if k + 1 >= ts.size:
-        return float(ts[k])
     f = lambda x: abs(float(modes(np.array([x]))[0]) - final) - band  # noqa: E731
-    try:
-        return float(brentq(f, ts[k], ts[k + 1], xtol=1e-15, rtol=1e-15))
-    except ValueError:
-        return float(ts[k + 1])
+    for ts in _chunks(modes, 0.0, upper, forward=False):
+        g = np.abs(modes(ts) - final) - band
+        out = np.nonzero(g > 0)[0]
+        if not out.size:
+            continue
+        k = int(out[-1])
+        if k + 1 >= ts.size:
+            return float(ts[k])
+        try:
+            return float(brentq(f, ts[k], ts[k + 1], xtol=1e-15, rtol=1e-15))
+        except ValueError:
+            return float(ts[k + 1])
+    return 0.0
 
 
 def crossing_time(modes: Modes, level: float, sign: float, upper: float) -> float | None:
-    """The first time sign·y reaches sign·level, searched over [0, upper]."""
-    ts = _grid(modes, 0.0, upper)
-    g = sign * (modes(ts) - level)
-    idx = np.nonzero(g >= 0)[0]
-    if not idx.size:
-        return None
-    k = int(idx[0])
-    if k == 0:
-        return float(ts[0])
+    """The first time sign·y reaches sign·level, searched forwards over [0, upper]."""
     f = lambda x: sign * (float(modes(np.array([x]))[0]) - level)  # noqa: E731
-    try:
-        return float(brentq(f, ts[k - 1], ts[k], xtol=1e-15, rtol=1e-15))
-    except ValueError:
-        return float(ts[k])
+    for ts in _chunks(modes, 0.0, upper):
+        g = sign * (modes(ts) - level)
+        idx = np.nonzero(g >= 0)[0]
+        if not idx.size:
+            continue
+        k = int(idx[0])
+        if k == 0:
+            return float(ts[0])
+        try:
+            return float(brentq(f, ts[k - 1], ts[k], xtol=1e-15, rtol=1e-15))
+        except ValueError:
+            return float(ts[k])
+    return None

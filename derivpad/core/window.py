@@ -1,8 +1,11 @@
 """The time window a response is looked at over: checks, results and figures share it.
 
 Past the last breakpoint: five time constants of the slowest decaying pole (the response
-is then within 1 % of its end state), and at least two periods of the slowest oscillation;
-a growing response is looked at for at least three and at most ten growth times.
+is then within 1 % of its end state), and at least two periods of the slowest oscillation,
+but no more than 200 periods of the fastest (a lightly damped oscillator would otherwise be
+integrated over millions of cycles); a growing response is looked at for at least three and
+at most ten growth times. The engineering results do not depend on the window: they hold over
+all t ≥ 0 (core/response.py).
 """
 
 from __future__ import annotations
@@ -52,6 +55,8 @@ def window_end(zs, breakpoints=(), t_end: float | None = None) -> float:
     if not spans:  # integrators only: look as far again as the forcing lasts
         spans.append(max(1.0, last))
     span = max(spans)
+    if freqs:  # a lightly damped oscillation: the checks look at 200 periods of its fastest
+        span = min(span, max(200 * 2 * math.pi / max(freqs), 2 * 2 * math.pi / min(freqs)))
     if growths:  # a growing response: do not look so far that it swamps the picture
         span = min(span, 10.0 / max(growths))
     return last + span
