@@ -59,8 +59,10 @@ class Result:
 
     def to_dict(self) -> dict:
         m = self.magnitude
+        infinite = isinstance(m, float) and math.isinf(m)
         status = ("not applicable" if m is None else
-                  "unbounded" if isinstance(m, float) and math.isinf(m) else "value")
+                  "unbounded" if infinite and self.reason.startswith("unbounded") else
+                  "as t → ∞" if infinite else "value")
         return {"key": self.key, "label": self.label, "value": _json_value(m) if m is not None
                 else None, "unit": self.unit, "status": status, "reason": self.reason,
                 "note": self.note, "formula": self.formula, "source": self.source}
