@@ -52,6 +52,10 @@ HOSTILE = [
     ("resonance exactly via values=",
      f'derive("y\'\' + k*y = sin(w*t)", ics={REST}, values={{"k": 4, "w": 2}})'),
     ("a value that is no number", f'derive("m*y\'\' + y = 1", ics={REST}, values={{"m": "abc"}})'),
+    ("a root of a negative number", f'derive("y\'\' + sqrt(-4)*y = 1", ics={REST})'),
+    ("zero to a negative power", f'derive("{EQ}0^(-1)", ics={REST})'),
+    ("a hundred parameter names",
+     f'derive("y\'\' + " + " + ".join(f"a{{i}}" for i in range(100)) + "*y = 1", ics={REST})'),
 ]
 
 _CHILD_HEAD = textwrap.dedent("""

@@ -65,6 +65,7 @@ LIMITS = {
     "power": 100,          # |exponent| of a power with a whole or fractional number exponent
     "number_digits": 400,  # digits of a number a power of numbers would make
     "order": 12,           # highest derivative order
+    "names": 30,           # distinct parameter names in one equation
 }
 """What the parser accepts; beyond each, a ParseError names the limit and the column."""
 
@@ -346,6 +347,9 @@ class _Parser:
                 raise self.error("a power of a power (such as 9^9^9 or 2^(t^2)) is not "
                                  "accepted; write the exponent as one number", op)
             self.check_power(base, exponent, op)
+            if base == 0 and exponent.is_number and exponent.is_real and exponent <= 0:
+                raise self.error("a power of zero with an exponent of zero or below (0^-1 is a "
+                                 "division by zero)", op)
             return sp.Pow(base, exponent)
         return base
 
@@ -420,6 +424,9 @@ class _Parser:
                 "'s' is the Laplace variable and cannot be used in the equation; rename the "
                 "parameter", name, self.text, tok.start)
         if name not in self.symbols:
+            if len(self.symbols) >= LIMITS["names"]:
+                raise self.error(f"more than {LIMITS['names']} parameter names; combine "
+                                 "parameters or give numbers in their place", tok)
             # Parameters are real and positive unless given values; the derivation states this.
             self.symbols[name] = sp.Symbol(name, positive=True)
             self.names.append(name)

@@ -15,7 +15,7 @@ from numbers import Number
 
 import sympy as sp
 
-from ..errors import (EquationError, InitialConditionError, NonlinearTermError, ParameterError,
+from ..errors import (EquationError, ForcingError, InitialConditionError, NonlinearTermError, ParameterError,
                       ParseError, UnitError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_value
 from .units import (UnitContext, dimension_of, check_homogeneity, has_units, dimension_text, display_unit_for,
@@ -391,6 +391,13 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             f"with these values the coefficient of {derivative_name(unknown, order)} is zero; "
             "the ODE's order drops: check the values", "")
     forcing = sp.expand(forcing.subs(subs)) if subs else sp.expand(forcing)
+    for k, c in enumerate(coefficients):
+        if c.has(sp.I) or (c.is_number and c.is_real is False):
+            raise EquationError(f"the coefficient of {derivative_name(unknown, k)} is {c}, which "
+                                "is not a real number (a square root of a negative value?); "
+                                "the model needs real coefficients", term=str(c), text=text)
+    if forcing.has(sp.I, sp.zoo, sp.nan, sp.oo):
+        raise ForcingError(f"the forcing {forcing} is not a real, finite function of t", str(forcing))
     initial = tuple(ic_values[k].subs(subs) for k in range(order))
     remaining = tuple(n for n in list(names) + sorted(ic_names - set(names)) if n not in values)
     remaining = tuple(n for n in remaining

@@ -187,8 +187,12 @@ def _sampled(modes: Modes, slope: Modes, lo: float, hi: float, cache) -> list:
     key = (lo, hi)
     if cache is not None and key in cache:
         return cache[key]
-    ts = _grid(modes, lo, hi)
+    quiet = float(np.min(modes.delay)) if len(modes) else hi
     out = []
+    if quiet > lo:  # nothing is switched on before the first switch: y = 0 there
+        out.append((np.array([lo]), np.zeros(1), np.zeros(1)))
+        lo = min(quiet, hi)
+    ts = _grid(modes, lo, hi)
     for start in range(0, ts.size, _CHUNK):
         t = ts[max(0, start - 1): start + _CHUNK]
         out.append((t, modes(t), slope(t)))
