@@ -54,6 +54,13 @@ HOSTILE = [
     ("a value that is no number", f'derive("m*y\'\' + y = 1", ics={REST}, values={{"m": "abc"}})'),
     ("a root of a negative number", f'derive("y\'\' + sqrt(-4)*y = 1", ics={REST})'),
     ("zero to a negative power", f'derive("{EQ}0^(-1)", ics={REST})'),
+    ("a load table of 10,000 points",
+     f'derive("y\'\' + y = F", ics={REST}, params={{"F": forcing.table([(i / 100, i % 7) '
+     'for i in range(10000)])})'),
+    ("400 switching times", 'derive("y\' + y = " + "+".join(f"u(t-{i})" for i in range(400)), '
+     'ics={"y(0)": 0})'),
+    ("a tolerance that is no number",
+     f'derive("{EQ}u(t)", ics={REST}, tolerances={{"integration": "x"}})'),
     ("a hundred parameter names",
      f'derive("y\'\' + " + " + ".join(f"a{{i}}" for i in range(100)) + "*y = 1", ics={REST})'),
 ]
@@ -61,7 +68,7 @@ HOSTILE = [
 _CHILD_HEAD = textwrap.dedent("""
     import json, resource, time
     resource.setrlimit(resource.RLIMIT_AS, (2 << 30, 2 << 30))
-    from derivpad import DerivpadError, derive
+    from derivpad import DerivpadError, derive, forcing
 """)
 _CHILD_RUN = textwrap.dedent("""
     for label, call in CASES:

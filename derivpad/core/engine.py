@@ -8,6 +8,7 @@ laplace_transform, inverse_laplace_transform and dsolve never run here.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from types import MappingProxyType
 
@@ -393,7 +394,6 @@ def engine_check(problem: Problem, stages: Stages, tolerance=None, preferred=Non
 def check_options(checks: str, tolerances, on_failure: str = "raise", window=None,
                   definitions=None) -> dict:
     """The checks=, tolerances=, on_failure=, window= and definitions= options, validated."""
-    import math
     if checks not in ("all", "engine"):
         raise ParameterError(f"checks must be 'all' or 'engine', not {checks!r}", "checks")
     if on_failure not in ("raise", "return"):
@@ -414,6 +414,11 @@ def check_options(checks: str, tolerances, on_failure: str = "raise", window=Non
         msg = (f"unknown tolerance {sorted(unknown_keys)[0]!r}; the keys are back_substitution, "
                "integration, inversion, limits")
         raise ParameterError(msg, sorted(unknown_keys)[0])
+    for key, value in tolerances.items():
+        good = isinstance(value, (int, float)) and not isinstance(value, bool)
+        if not good or not math.isfinite(value) or value <= 0:
+            raise ParameterError(f"tolerance {key!r} must be a positive, finite number (e.g. "
+                                 f"tolerances={{{key!r}: 1e-6}}), not {value!r}", key)
     return tolerances
 
 

@@ -129,9 +129,21 @@ def table(points, *, hold_last: bool = False) -> Forcing:
                          f"to t = {t1}" + (", last value held" if hold_last else ""))
 
 
+MAX_TABLE_POINTS = 100
+"""Points a load table may have: each adds terms to the symbolic derivation (100 points take
+about a minute with every check; see docs/forcing.md)."""
+
+
 def _pairs(points):
     try:
-        pairs = [tuple(p) for p in points]
+        pairs = []
+        for p in points:
+            pairs.append(tuple(p))
+            if len(pairs) > MAX_TABLE_POINTS:
+                raise ForcingError(f"a load table of more than {MAX_TABLE_POINTS} points; each "
+                                   "point adds terms to the derivation: thin the record to the "
+                                   "points that shape the load, or split it into load cases",
+                                   term="table")
     except TypeError as exc:
         raise ForcingError("a load table is a sequence of (time, value) pairs",
                            term="table") from exc
@@ -290,7 +302,18 @@ def heaviside_pieces(expr: sp.Expr) -> tuple[list[ForcingPiece], list[str]]:
     for term in sp.Add.make_args(expr):
         for factor_term in _distribute_steps(term):
             pieces.extend(_term_pieces(factor_term, notes))
+    switches = {p.delay for p in pieces}
+    if len(switches) > MAX_SWITCHES:
+        msg = (f"the forcing switches at {len(switches)} different times; the limit is "
+               f"{MAX_SWITCHES} (each switching time is a part of the derivation): combine "
+               "pulses, or split the load into load cases")
+        raise ForcingError(msg, term="forcing")
     return _group(pieces), notes
+
+
+MAX_SWITCHES = 120
+"""Distinct switching times a forcing may have (120 steps derive and verify in about ten
+seconds on one core; see docs/forcing.md)."""
 
 
 def _distribute_steps(term: sp.Expr) -> list[sp.Expr]:
