@@ -235,12 +235,14 @@ def _on_interval(modes: Modes, slope: Modes, lo: float, hi: float, sign: float, 
 
 def _period(freqs) -> float | None:
     """The common period of oscillations at ``freqs`` (rad/s), or None where the ratios are not
-    small fractions (then no finite period covers every phase)."""
+    fractions with denominators up to 1000, or the period exceeds 1000 cycles of the slowest.
+    Without one, the amplitudes' sum bounds the oscillation; with a ratio p/q, q > 1000, that
+    bound exceeds the true supremum by less than about (π/q)²/2 of an amplitude."""
     freqs = sorted(freqs)
     base = freqs[0]
     dens = 1
     for f in freqs[1:]:
-        r = Fraction(f / base).limit_denominator(64)
+        r = Fraction(f / base).limit_denominator(1000)
         if abs(float(r) - f / base) > 1e-9 * (f / base):
             return None
         dens = dens * r.denominator // math.gcd(dens, r.denominator)
@@ -249,17 +251,17 @@ def _period(freqs) -> float | None:
 
 
 def _steady_sup(modes: Modes, steady, sign: float, t0: float):
-    """sup of sign·(steady part) over t ≥ t0: (value, attained?)."""
+    """sup of sign·(steady part) over t ≥ t0: (value, attained?, a time it is reached)."""
     part = modes.subset(steady)
     const = float(np.sum(part.cos[part.freq == 0]))
     osc = part.freq > 0
     if not osc.any():
-        return sign * const, True
+        return sign * const, True, t0
     period = _period({float(x) for x in part.freq[osc]})
     if period is None:
-        return sign * const + float(np.sum(part.amplitude[osc])), False
-    val, _ = _on_interval(part, part.derivative(), t0, t0 + period, sign)
-    return val, True
+        return sign * const + float(np.sum(part.amplitude[osc])), False, math.inf
+    val, when = _on_interval(part, part.derivative(), t0, t0 + period, sign)
+    return val, True, when
 
 
 def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: int = 0,
@@ -298,7 +300,13 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
             span = max(span, 2 * 2 * math.pi / low)
     upper = last + span
     best = _on_interval(modes, slope, start, upper, sign, cache)
-    steady_val, attained = _steady_sup(after, steady, sign, upper)
+    steady_val, attained, steady_time = _steady_sup(after, steady, sign, upper)
+    if not decaying.any() and attained:
+        # after the last switch the response is periodic (or constant): its largest value
+        # recurs every period, and one period from `upper` holds it
+        if best[0] >= steady_val:
+            return Extreme(sign * best[0], best[1])
+        return Extreme(sign * steady_val, steady_time)
     size = max(abs(steady_val), abs(best[0]), 1e-300)
     # a value found late, where only rounding separates y from its steady part, is the steady
     # value approached, not a peak attained
@@ -314,7 +322,8 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
                 return Extreme(sign * best[0], best[1])
             note = ("approached as t → ∞, not attained" if attained else
                     "supremum, not attained: the undamped oscillations' frequencies have no "
-                    "common period, so their amplitudes add up in the limit")
+                    "common period within 1000 cycles, so their amplitudes add up in the limit "
+                    "(to within 1e-5 of an amplitude)")
             return Extreme(sign * steady_val, math.inf, False, note)
         nxt = last + 2 * (upper - last)
         more = _on_interval(modes, slope, upper, nxt, sign, cache)

@@ -283,3 +283,15 @@ def test_a_train_of_ten_half_sine_pulses_verifies_and_peaks_as_integrated():
                              [0.0, 0.0], 60.0)
     assert d.results["peak"].magnitude == pytest.approx(peak, rel=1e-6)
     assert d.results["time_of_peak"].magnitude == pytest.approx(when, abs=2e-4)
+
+
+def test_a_beat_with_a_long_common_period_is_searched_over_that_period():
+    # y'' + y = sin(1.01 t) from rest: y = (sin 1.01t - 1.01 sin t)/(1 - 1.01²) (by hand), a
+    # beat whose frequencies 1.01 and 1 share the period 200π; the largest |y| over one common
+    # period, from a 4,000,001-point sample of that closed form (NumPy)
+    d = derive("y'' + y = sin(1.01*t)", ics=REST2)
+    ts = np.linspace(0, 200 * math.pi, 4_000_001)
+    y = (np.sin(1.01 * ts) - 1.01 * np.sin(ts)) / (1 - 1.01 ** 2)
+    i = int(np.argmax(np.abs(y)))
+    assert d.results["peak"].magnitude == pytest.approx(y[i], rel=1e-8)
+    assert d.results["time_of_peak"].magnitude == pytest.approx(ts[i], abs=1e-3)
