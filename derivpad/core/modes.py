@@ -118,7 +118,8 @@ def symbolic_modes(expr: sp.Expr) -> tuple:
 
     Impulse terms (DiracDelta) are left out: they act at an instant, not over time.
     """
-    expr = sp.expand(sp.sympify(expr).replace(sp.DiracDelta, lambda *a: sp.Integer(0)),
+    expr = sp.Integer(0) + expr  # a SymPy expression or a number; text is never read here
+    expr = sp.expand(expr.replace(sp.DiracDelta, lambda *a: sp.Integer(0)),
                      power_exp=False, trig=False)
     table: dict = {}
     for term in sp.Add.make_args(expr):

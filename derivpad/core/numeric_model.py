@@ -148,10 +148,8 @@ class ParametricModel:
         self._impulses = [(lam(sp.Integer(0) + c), lam(sp.Integer(0) + a)) for c, a in impulses]
         self._system = [(p, lam(p.value), lam(p.beta)) for p in system_poles]
         self._response = [(p, lam(p.value), lam(p.beta)) for p in response_poles]
-        self._closed = _compile_numpy(solution, args)
-        self._derivative = _compile_numpy(sp.diff(solution, T), args)
-        self._closed_at = _compile_scalar(solution, args)
-        self._derivative_at = _compile_scalar(sp.diff(solution, T), args)
+        self._solution = solution
+        self._lambdified = None  # the closed form compiled as one expression, only if needed
         self._forcing = _compile_numpy(smooth, args)
         self._forcing_at = _compile_scalar(smooth, args)
         self._parts = [(lam(sp.Integer(0) + c), sp.lambdify((S,) + args, r, modules=_MPMATH))
@@ -161,6 +159,16 @@ class ParametricModel:
         ivt, fvt = s_limits(parts)
         self._ivt = lam(ivt)
         self._fvt = lam(fvt) if not fvt.has(sp.zoo, sp.nan, sp.oo) else None
+
+    def _as_expression(self):
+        """The closed form and its derivative lambdified whole (array and one-point forms),
+        for a solution that is not a sum of modes; compiled on first need."""
+        if self._lambdified is None:
+            d = sp.diff(self._solution, T)
+            self._lambdified = ((_compile_numpy(self._solution, self._args),
+                                 _compile_scalar(self._solution, self._args)),
+                                (_compile_numpy(d, self._args), _compile_scalar(d, self._args)))
+        return self._lambdified
 
     def at(self, values: dict) -> NumericModel:
         """The model for numbers ``values`` ({name: number}) of the symbols."""
@@ -196,10 +204,10 @@ class ParametricModel:
         subs = dict(zip(self._args, nums))
         modes = _modes_at(self._modes, nums)
         load = _modes_at(self._forcing_modes, nums)
-        closed = _vector(self._closed, nums, self._closed_at)
-        derivative = _vector(self._derivative, nums, self._derivative_at)
         if modes is not None:  # evaluated mode by mode: stable for any poles and switching times
             closed, derivative = stable(modes), stable(modes.derivative())
+        else:
+            closed, derivative = (_vector(vec, nums, one) for vec, one in self._as_expression())
         return NumericModel(
             coefficients=tuple(float(c(*nums)) for c in self._coefficients),
             initial=tuple(float(v(*nums)) for v in self._initial),

@@ -366,7 +366,8 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
         stray = sorted(x.name for x in values[name].free_symbols
                        if x.name not in known and x != T)
         if values[name].has(T) and any(sp.Symbol(name, positive=True) in
-                                       sp.sympify(c).free_symbols for c in coeffs.values()):
+                                       (sp.Integer(0) + c).free_symbols
+                                       for c in coeffs.values()):
             raise ParameterError(f"{name}: a value that depends on t is a load; it may stand on "
                                  "the right side only (a time-varying coefficient is outside "
                                  "the method)", name)

@@ -19,7 +19,7 @@ import numpy as np
 from .numeric_model import NumericModel
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
-__all__ = ["Result", "engineering_results"]
+__all__ = ["Result", "ResultWriter", "engineering_results", "response_results"]
 
 _VIB = "single-degree-of-freedom vibration theory (e.g. Thomson, Theory of Vibration; from memory)"
 _CTRL = "second-order system time-response definitions (control texts, e.g. Ogata; from memory)"
@@ -109,54 +109,97 @@ def _polynomial_text(a) -> str:
     return " + ".join(parts).replace("+ -", "- ")
 
 
+class ResultWriter:
+    """Collects the Results of one response in its display units: ``units`` is the unit
+    context (None without units), ``name`` and ``key`` label a system's unknown."""
+
+    def __init__(self, units=None, name: str = "", key=lambda k: k):
+        self.units = units
+        self.y_unit = units.unknown_display if units else ""
+        self.t_unit = units.time_display if units else ""
+        self.of = f" of {name}" if name else ""
+        self.key = key
+        self.out: dict[str, Result] = {}
+
+    def to_y(self, v):
+        """A value of the response, SI → display unit."""
+        if self.units is None:
+            return v
+        from .units import to_display
+        return to_display(v, self.units.unknown_si, self.y_unit)
+
+    def to_t(self, v):
+        """A time, s → display unit."""
+        if self.units is None:
+            return v
+        from .units import to_display
+        return to_display(v, "s", self.t_unit)
+
+    def add(self, k, label, value, unit, formula, source, reason="", note=""):
+        key = self.key(k)
+        self.out[key] = Result(key, label + self.of, _quantity(value, unit, self.units), unit,
+                               formula, source, reason, note)
+
+    def absent(self, k, label, unit, reason):
+        """A result that does not apply or cannot be given: value None and the reason."""
+        self.add(k, label, None, unit, "", "", reason=reason)
+
+
 def engineering_results(model: NumericModel, t_end: float, units=None, definitions=None):
     """The results mapping (read-only) from a derivation's numeric model; each figure of the
-    response holds over all t ≥ 0 (``t_end`` only bounds nothing but is kept for callers)."""
-    res: dict[str, Result] = {}
-    y_unit = units.unknown_display if units else ""
-    y_si = units.unknown_si if units else ""
-    t_unit = units.time_display if units else ""
-
-    def to_y(v):
-        if units is None:
-            return v
-        from .units import to_display
-        return to_display(v, y_si, y_unit)
-
-    def to_t(v):
-        if units is None:
-            return v
-        from .units import to_display
-        return to_display(v, "s", t_unit)
-
-    def add(key, label, value, unit, formula, source, reason="", note=""):
-        res[key] = Result(key, label, _quantity(value, unit, units), unit, formula, source,
-                          reason, note)
-
+    response holds over all t ≥ 0 (``t_end``, the checks' window, does not bound them)."""
+    w = ResultWriter(units)
     a = list(model.coefficients)
-    n = len(a) - 1
     zs = list(model.system_poles)
-    impulses = model.impulses
-    char = _polynomial_text(a)
-    add("characteristic_polynomial", "characteristic polynomial", char, "",
-        "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")
-    add("poles", "poles", tuple(zs), "1/s" if units else "",
-        "roots of P(s) (the derivation's factorisation)", "definition")
+    _pole_results(w, a, zs)
+    _damping_results(w, a, zs)
+    modes = model.modes
+    if modes is None:
+        for key, label in (("peak", "peak response"), ("final_value", "final value")):
+            w.absent(key, label, w.y_unit, "the closed form is not a sum of modes, so its "
+                     "behaviour over all t cannot be bounded")
+        return MappingProxyType(w.out)
+    load = _load_figures(model)
+    static_peak = None
+    if a[0] != 0 and not model.impulses and load.peak is not None \
+            and math.isfinite(load.peak) and load.peak > 0:
+        static_peak = load.peak / abs(a[0])
+    if a[0] != 0 and load.final is not None:
+        w.add("static_response", "static response to the final load",
+              w.to_y(load.final / a[0]), w.y_unit,
+              "f(∞)/a_0: the final load level over the stiffness term", _VIB)
+    response_results(w, modes, model.system_poles, at_rest=not any(model.initial),
+                     static_peak=static_peak, load=load, definitions=definitions,
+                     load_note=_load_note(a, model.impulses, load))
+    return MappingProxyType(w.out)
+
+
+def _pole_results(w: ResultWriter, a, zs) -> None:
+    """Characteristic polynomial, poles, stability and time constants."""
+    units = w.units
+    w.add("characteristic_polynomial", "characteristic polynomial", _polynomial_text(a), "",
+          "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")
+    w.add("poles", "poles", tuple(zs), "1/s" if units else "",
+          "roots of P(s) (the derivation's factorisation)", "definition")
     stable = all(z.real < 0 for z in zs)
     marginal = all(z.real <= 1e-12 for z in zs) and not stable
-    add("stability", "stability", "stable" if stable else ("marginal" if marginal else "unstable"),
-        "", "stable when every pole is in the open left half-plane", _CTRL)
+    w.add("stability", "stability",
+          "stable" if stable else ("marginal" if marginal else "unstable"),
+          "", "stable when every pole is in the open left half-plane", _CTRL)
     decays = []
     for rate in sorted(-z.real for z in zs if z.real < 0):
         if not decays or rate > decays[-1] * (1 + 1e-9):  # a conjugate pair has one rate
             decays.append(rate)
     if decays:
-        add("time_constants", "time constants", tuple(to_t(1 / d) for d in decays), t_unit,
-            "τ = 1/|Re p| for each decaying pole", _CTRL)
+        w.add("time_constants", "time constants", tuple(w.to_t(1 / d) for d in decays),
+              w.t_unit, "τ = 1/|Re p| for each decaying pole", _CTRL)
 
-    # Damping figures: the ODE's own for order 2, the dominant complex pair otherwise.
+
+def _damping_results(w: ResultWriter, a, zs) -> None:
+    """Damping figures: the ODE's own for order 2, the dominant complex pair otherwise."""
+    units = w.units
     wn = zeta = None
-    if n == 2 and a[0] > 0 and a[2] != 0 and a[0] * a[2] > 0:
+    if len(a) == 3 and a[0] > 0 and a[2] != 0 and a[0] * a[2] > 0:
         wn = math.sqrt(a[0] / a[2])
         zeta = a[1] / (2 * math.sqrt(a[0] * a[2]))
         how, which = "ω_n = √(a_0/a_2), ζ = a_1/(2√(a_0 a_2))", ""
@@ -166,40 +209,20 @@ def engineering_results(model: NumericModel, t_end: float, units=None, definitio
             dom = max(pairs, key=lambda z: z.real)
             wn, zeta = abs(dom), -dom.real / abs(dom)
             how, which = "ω_n = |p|, ζ = -Re p/|p| of the dominant complex pair", " (dominant pair)"
-    if wn is not None:
-        add("natural_frequency", "natural frequency ω_n" + which, wn, "rad/s" if units else "",
-            how, _VIB)
-        add("natural_frequency_hz", "natural frequency f_n" + which, wn / (2 * math.pi),
-            "Hz" if units else "", "f_n = ω_n/(2π)", _VIB)
-        add("damping_ratio", "damping ratio" + which, zeta, "", how, _VIB)
-        if abs(zeta) < 1:
-            add("damped_frequency", "damped frequency ω_d" + which, wn * math.sqrt(1 - zeta ** 2),
-                "rad/s" if units else "", "ω_d = ω_n √(1 - ζ²)", _VIB)
-        regime = ("negatively damped (unstable)" if zeta < -1e-12 else
-                  "undamped" if abs(zeta) < 1e-12 else "underdamped" if zeta < 1 - 1e-9 else
-                  "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
-        add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
-
-    modes = model.modes
-    if modes is None:
-        for key, label in (("peak", "peak response"), ("final_value", "final value")):
-            absent(add, key, label, y_unit, "the closed form is not a sum of modes, so its "
-                   "behaviour over all t cannot be bounded")
-        return MappingProxyType(res)
-    load = _load_figures(model)
-    static_peak = None
-    if a[0] != 0 and not impulses and load.peak is not None and math.isfinite(load.peak) \
-            and load.peak > 0:
-        static_peak = load.peak / abs(a[0])
-    if a[0] != 0 and load.final is not None:
-        add("static_response", "static response to the final load", to_y(load.final / a[0]),
-            y_unit, "f(∞)/a_0: the final load level over the stiffness term", _VIB)
-    for r in response_results(modes, model.system_poles, at_rest=not any(model.initial),
-                              to_y=to_y, to_t=to_t, y_unit=y_unit, t_unit=t_unit, units=units,
-                              static_peak=static_peak, load=load, definitions=definitions,
-                              load_note=_load_note(a, impulses, load)):
-        res[r.key] = r
-    return MappingProxyType(res)
+    if wn is None:
+        return
+    w.add("natural_frequency", "natural frequency ω_n" + which, wn, "rad/s" if units else "",
+          how, _VIB)
+    w.add("natural_frequency_hz", "natural frequency f_n" + which, wn / (2 * math.pi),
+          "Hz" if units else "", "f_n = ω_n/(2π)", _VIB)
+    w.add("damping_ratio", "damping ratio" + which, zeta, "", how, _VIB)
+    if abs(zeta) < 1:
+        w.add("damped_frequency", "damped frequency ω_d" + which, wn * math.sqrt(1 - zeta ** 2),
+              "rad/s" if units else "", "ω_d = ω_n √(1 - ζ²)", _VIB)
+    regime = ("negatively damped (unstable)" if zeta < -1e-12 else
+              "undamped" if abs(zeta) < 1e-12 else "underdamped" if zeta < 1 - 1e-9 else
+              "critically damped" if abs(zeta - 1) <= 1e-9 else "overdamped")
+    w.add("regime", "damping regime" + which, regime, "", "from ζ: 0, < 1, = 1, > 1", _VIB)
 
 
 @dataclass(frozen=True, slots=True)
@@ -241,11 +264,6 @@ def _load_note(a, impulses, load) -> str:
     return ""
 
 
-def absent(add, key, label, unit, reason):
-    """A result that does not apply or cannot be given: value None and the reason."""
-    add(key, label, None, unit, "", "", reason=reason)
-
-
 DEFAULT_DEFINITIONS = MappingProxyType({"settling_band": 0.02, "rise": (0.1, 0.9)})
 """Settling band (fraction of |y∞|) and rise-time levels (fractions of y∞); python-control's
 step_info uses the same defaults (SettlingTimeThreshold 0.02, RiseTimeLimits (0.1, 0.9))."""
@@ -277,79 +295,85 @@ def _pct(x: float) -> str:
     return f"{100 * x:g}"
 
 
-def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit, units,
-                     static_peak=None, load=None, definitions=None, load_note="",
-                     name="", key=lambda k: k) -> list:
+def response_results(w: ResultWriter, modes, system_poles, *, at_rest, static_peak=None,
+                     load=None, definitions=None, load_note="") -> None:
     """Peak, time of peak, final value, overshoot, rise and settling (and, with a static
     response to the peak load, the dynamic load factor with its primary and residual parts)
-    of one response, each over all t ≥ 0 from its modes; absent with the reason where it does
-    not apply. ``name`` and ``key`` label a system's unknowns."""
+    of one response into ``w``, each over all t ≥ 0 from its modes; absent with the reason
+    where it does not apply. One equation and each unknown of a system alike."""
     defs = definitions_of(definitions)
-    out = []
-    of = f" of {name}" if name else ""
-
-    def add(k, label, value, unit, formula, source, reason="", note=""):
-        out.append(Result(key(k), label + of, _quantity(value, unit, units), unit, formula,
-                          source, reason, note))
-
     grows = growth(modes, system_poles)
     slope = modes.derivative()
     samples: dict = {}  # the peak and the overshoot search read the same samples
+    peak = _peak_results(w, modes, slope, grows, samples)
+    if static_peak is not None and peak is not None:
+        _load_factor_results(w, modes, slope, grows, peak, static_peak, load)
+    elif load_note and peak is not None:
+        w.absent("dynamic_load_factor", "dynamic load factor", "", load_note)
+    final, why = final_value(modes, system_poles)
+    if final is None:
+        w.absent("final_value", "final value", w.y_unit, why)
+    else:
+        w.add("final_value", "final value", w.to_y(final), w.y_unit,
+              "lim y(t) as t → ∞: the constant modes of the closed form, added exactly", _MODES)
+    _step_figures(w, modes, slope, samples, final, why, at_rest, defs)
+
+
+def _peak_results(w: ResultWriter, modes, slope, grows, samples):
+    """Peak and time of peak over t ≥ 0; the Extreme found (None where the search failed)."""
     try:
         peak = supremum(modes, slope=slope, cache=samples)
     except SearchLimit as exc:
-        for k, label in (("peak", "peak response"), ("time_of_peak", "time of peak")):
-            absent(add, k, label, y_unit if k == "peak" else t_unit, f"not found: {exc}")
-        peak = None
-    if peak is not None:
-        if grows is not None:
-            add("peak", "peak response", math.inf, y_unit, "sup |y(t)| over t ≥ 0", _MODES,
-                reason="unbounded: " + grows.reason)
-            add("time_of_peak", "time of peak", math.inf, t_unit, "", _MODES,
-                reason="unbounded: the response grows without limit")
-        else:
-            add("peak", "peak response", to_y(peak.value), y_unit,
-                "sup |y(t)| over t ≥ 0; " + _REFINE, _MODES, note=peak.note)
-            add("time_of_peak", "time of peak", to_t(peak.time) if peak.attained else math.inf,
-                t_unit, _REFINE, _MODES, note=peak.note)
-    if static_peak is not None and peak is not None:
-        dlf_how = "DLF = sup|y| / (max|f| / a_0): the peak over the static response to the peak load"
-        add("static_response_peak_load", "static response to the peak load", to_y(static_peak),
-            y_unit, "max|f|/a_0", _BIGGS)
-        if grows is not None:
-            add("dynamic_load_factor", "dynamic load factor", math.inf, "", dlf_how, _BIGGS,
-                reason="unbounded: " + grows.reason)
-        else:
-            add("dynamic_load_factor", "dynamic load factor", peak.size / static_peak, "",
-                dlf_how, _BIGGS, note=peak.note)
-        if load is not None and load.ends is not None and grows is None:
-            primary = supremum(modes, 0.0, load.ends, slope=slope)
-            residual = supremum(modes, load.ends, slope=slope)
-            for part, ext, when in (("primary", primary, "while the load acts, 0 ≤ t ≤ t_d"),
-                                    ("residual", residual, "after the load ends, t ≥ t_d")):
-                add(f"peak_{part}", f"{part} peak ({when})", to_y(ext.value), y_unit,
-                    f"sup |y(t)| {when}, t_d = {load.ends:.6g} s", _SHOCK, note=ext.note)
-                add(f"time_of_peak_{part}", f"time of {part} peak",
-                    to_t(ext.time) if ext.attained else math.inf, t_unit, _REFINE, _SHOCK,
-                    note=ext.note)
-                add(f"dynamic_load_factor_{part}", f"{part} dynamic load factor",
-                    ext.size / static_peak, "", f"{part} peak / (max|f| / a_0)", _SHOCK,
-                    note=ext.note)
-    elif load_note and peak is not None:
-        absent(add, "dynamic_load_factor", "dynamic load factor", "", load_note)
-
-    final, why = final_value(modes, system_poles)
-    if final is None:
-        absent(add, "final_value", "final value", y_unit, why)
+        w.absent("peak", "peak response", w.y_unit, f"not found: {exc}")
+        w.absent("time_of_peak", "time of peak", w.t_unit, f"not found: {exc}")
+        return None
+    if grows is not None:
+        w.add("peak", "peak response", math.inf, w.y_unit, "sup |y(t)| over t ≥ 0", _MODES,
+              reason="unbounded: " + grows.reason)
+        w.add("time_of_peak", "time of peak", math.inf, w.t_unit, "", _MODES,
+              reason="unbounded: the response grows without limit")
     else:
-        add("final_value", "final value", to_y(final), y_unit,
-            "lim y(t) as t → ∞: the constant modes of the closed form, added exactly", _MODES)
+        w.add("peak", "peak response", w.to_y(peak.value), w.y_unit,
+              "sup |y(t)| over t ≥ 0; " + _REFINE, _MODES, note=peak.note)
+        w.add("time_of_peak", "time of peak", w.to_t(peak.time) if peak.attained else math.inf,
+              w.t_unit, _REFINE, _MODES, note=peak.note)
+    return peak
 
+
+def _load_factor_results(w: ResultWriter, modes, slope, grows, peak, static_peak, load):
+    """The dynamic load factor, and for a pulse load its primary and residual parts."""
+    dlf_how = "DLF = sup|y| / (max|f| / a_0): the peak over the static response to the peak load"
+    w.add("static_response_peak_load", "static response to the peak load",
+          w.to_y(static_peak), w.y_unit, "max|f|/a_0", _BIGGS)
+    if grows is not None:
+        w.add("dynamic_load_factor", "dynamic load factor", math.inf, "", dlf_how, _BIGGS,
+              reason="unbounded: " + grows.reason)
+        return
+    w.add("dynamic_load_factor", "dynamic load factor", peak.size / static_peak, "", dlf_how,
+          _BIGGS, note=peak.note)
+    if load is None or load.ends is None:
+        return
+    primary = supremum(modes, 0.0, load.ends, slope=slope)
+    residual = supremum(modes, load.ends, slope=slope)
+    for part, ext, when in (("primary", primary, "while the load acts, 0 ≤ t ≤ t_d"),
+                            ("residual", residual, "after the load ends, t ≥ t_d")):
+        w.add(f"peak_{part}", f"{part} peak ({when})", w.to_y(ext.value), w.y_unit,
+              f"sup |y(t)| {when}, t_d = {load.ends:.6g} s", _SHOCK, note=ext.note)
+        w.add(f"time_of_peak_{part}", f"time of {part} peak",
+              w.to_t(ext.time) if ext.attained else math.inf, w.t_unit, _REFINE, _SHOCK,
+              note=ext.note)
+        w.add(f"dynamic_load_factor_{part}", f"{part} dynamic load factor",
+              ext.size / static_peak, "", f"{part} peak / (max|f| / a_0)", _SHOCK, note=ext.note)
+
+
+def _step_figures(w: ResultWriter, modes, slope, samples, final, why, at_rest, defs) -> None:
+    """Overshoot, rise and settling of a response from rest to a non-zero final value;
+    otherwise each absent with the reason."""
     band = defs["settling_band"]
     lo, hi = defs["rise"]
-    figures = (("percent_overshoot", "percent overshoot", "%" if units else ""),
-               ("rise_time", f"{_pct(lo)}–{_pct(hi)} % rise time", t_unit),
-               (f"settling_time_{_pct(band)}pct", f"{_pct(band)} % settling time", t_unit))
+    figures = (("percent_overshoot", "percent overshoot", "%" if w.units else ""),
+               ("rise_time", f"{_pct(lo)}–{_pct(hi)} % rise time", w.t_unit),
+               (f"settling_time_{_pct(band)}pct", f"{_pct(band)} % settling time", w.t_unit))
     reason = ""
     if final is None:
         reason = ("unbounded: no rise, overshoot or settling" if why.startswith("unbounded")
@@ -361,32 +385,29 @@ def response_results(modes, system_poles, *, at_rest, to_y, to_t, y_unit, t_unit
                   "rise and settling are defined for a response from rest to a new level")
     if reason:
         for k, label, unit in figures:
-            absent(add, k, label, unit, reason)
-        return out
+            w.absent(k, label, unit, reason)
+        return
     sign = 1.0 if final > 0 else -1.0
     try:
         top = supremum(modes, sense=int(sign), slope=slope, cache=samples)
         over = max(0.0, (abs(top.value) - abs(final)) / abs(final) * 100) \
             if np.sign(top.value) == sign else 0.0
-        add("percent_overshoot", "percent overshoot", over, "%" if units else "",
-            "100·(y_max - y∞)/y∞, y_max the supremum on the side of y∞", _CTRL)
+        w.add(*figures[0][:2], over, figures[0][2],
+              "100·(y_max - y∞)/y∞, y_max the supremum on the side of y∞", _CTRL)
         upper = settled_after(modes, 0.5 * band * abs(final))
         t_lo = crossing_time(modes, lo * final, sign, upper)
         t_hi = crossing_time(modes, hi * final, sign, upper)
         if t_lo is not None and t_hi is not None and t_hi >= t_lo:
-            add("rise_time", figures[1][1], to_t(t_hi - t_lo), t_unit,
-                f"time from {_pct(lo)} % to {_pct(hi)} % of the change to y∞ (first crossings)",
-                _CTRL)
+            w.add(*figures[1][:2], w.to_t(t_hi - t_lo), w.t_unit,
+                  f"time from {_pct(lo)} % to {_pct(hi)} % of the change to y∞ (first "
+                  "crossings)", _CTRL)
         else:
-            absent(add, "rise_time", figures[1][1], t_unit, "the levels are not crossed")
+            w.absent(*figures[1], "the levels are not crossed")
         ts = settling_time(modes, final, band * abs(final))
-        add(figures[2][0], figures[2][1], to_t(ts), t_unit,
-            f"last time |y - y∞| > {_pct(band)} % of |y∞|, from the modes (the decaying part is "
-            "bounded after it), refined by Brent's method", _CTRL)
+        w.add(*figures[2][:2], w.to_t(ts), w.t_unit,
+              f"last time |y - y∞| > {_pct(band)} % of |y∞|, from the modes (the decaying part "
+              "is bounded after it), refined by Brent's method", _CTRL)
     except SearchLimit as exc:
         for k, label, unit in figures:
-            if not any(r.key == key(k) for r in out):
-                absent(add, k, label, unit, f"not found: {exc}")
-    return out
-
-
+            if w.key(k) not in w.out:
+                w.absent(k, label, unit, f"not found: {exc}")

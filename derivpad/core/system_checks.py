@@ -95,11 +95,12 @@ def compile_system(problem, stages, values: dict) -> SystemNumbers:
         ivt, fvt = s_limits(num_parts) if num_parts else (sp.nan, sp.nan)
         poles = stages.response_poles.get(name, stages.system_poles)
         modes = _modes_at(_mode_table(expr, ()), ())
-        closed = _vector(_compile_numpy(expr, ()), (), _compile_scalar(expr, ()))
-        derivative = _vector(_compile_numpy(sp.diff(expr, T), ()), (),
-                             _compile_scalar(sp.diff(expr, T), ()))
         if modes is not None:  # evaluated mode by mode: stable for any poles and switches
             closed, derivative = stable(modes), stable(modes.derivative())
+        else:
+            closed = _vector(_compile_numpy(expr, ()), (), _compile_scalar(expr, ()))
+            derivative = _vector(_compile_numpy(sp.diff(expr, T), ()), (),
+                                 _compile_scalar(sp.diff(expr, T), ()))
         models[name] = NumericModel(
             coefficients=(), initial=(), breakpoints=bps, impulses=(),
             system_poles=_poles_numbers([_at(p, subs) for p in stages.system_poles]),

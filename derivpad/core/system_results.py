@@ -16,7 +16,7 @@ import numpy as np
 
 import sympy as sp
 
-from .results import Result, _VIB, _CTRL, _quantity, response_results
+from .results import Result, ResultWriter, _VIB, _CTRL, _quantity, response_results
 
 __all__ = ["system_results"]
 
@@ -46,16 +46,9 @@ def system_results(problem, numbers, t_end: float, values: dict,
     """The results mapping (read-only) for a system with numbers for all parameters."""
     res: dict[str, Result] = {}
     ctx0 = problem.unit_context(problem.unknowns[0]) if problem.units else None
-    t_unit = ctx0.time_display if ctx0 else ""
 
     def add(key, label, value, unit, formula, source, units=ctx0):
         res[key] = Result(key, label, _quantity(value, unit, units), unit, formula, source)
-
-    def to_t(v):
-        if ctx0 is None:
-            return v
-        from .units import to_display
-        return to_display(v, "s", t_unit)
 
     zs = list(numbers.system_poles)
     add("poles", "poles (roots of det A(s))", tuple(zs), "1/s" if ctx0 else "",
@@ -102,22 +95,12 @@ def system_results(problem, numbers, t_end: float, values: dict,
     at_rest = not any(float(v.subs({sp.Symbol(k, positive=True): x for k, x in values.items()}))
                       for vals in problem.initial_values for v in vals)
     for name, model in numbers.models.items():
-        ctx = problem.unit_context(name) if problem.units else None
-        unit = ctx.unknown_display if ctx else ""
-
-        def to_y(v, ctx=ctx):
-            if ctx is None:
-                return v
-            from .units import to_display
-            return to_display(v, ctx.unknown_si, ctx.unknown_display)
-
+        w = ResultWriter(problem.unit_context(name) if problem.units else None, name,
+                         key=lambda k, name=name: f"{k}_{name}")
         if model.modes is None:
-            res[f"peak_{name}"] = Result(f"peak_{name}", f"peak of {name}", None, unit, "", "",
-                                         "the closed form is not a sum of modes")
-            continue
-        for r in response_results(model.modes, numbers.system_poles, at_rest=at_rest, to_y=to_y,
-                                  to_t=to_t, y_unit=unit, t_unit=t_unit, units=ctx or ctx0,
-                                  name=name, key=lambda k, name=name: f"{k}_{name}",
-                                  definitions=definitions):
-            res[r.key] = r
+            w.absent("peak", "peak", w.y_unit, "the closed form is not a sum of modes")
+        else:
+            response_results(w, model.modes, numbers.system_poles, at_rest=at_rest,
+                             definitions=definitions)
+        res.update(w.out)
     return MappingProxyType(res)
