@@ -346,6 +346,43 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             f"{derivative_name(unknown, order - 1)}(0); remove {', '.join(extra)}", extra=extra)
 
     known = set(names) | ic_names
+    values, loads, quantities = _read_params(params, known, forcing, coeffs, units)
+    context = None
+    if quantities or ic_quantities or units:
+        context = _unit_context(terms, positions, unknown, names, quantities, ic_quantities,
+                                units, loads)
+    subs = {sp.Symbol(n, positive=True): v for n, v in values.items()}
+    if loads:
+        forcing = forcing.subs({sp.Symbol(n, positive=True): f.expr for n, f in loads.items()})
+        names = tuple(n for n in names if n not in loads)
+    coefficients = tuple(sp.expand(sp.Add(coeffs.get(k, 0)).subs(subs)) for k in range(order + 1))
+    if coefficients[-1] == 0:
+        raise ParameterError(
+            f"with these values the coefficient of {derivative_name(unknown, order)} is zero; "
+            "the ODE's order drops: check the values", "")
+    forcing = sp.expand(forcing.subs(subs)) if subs else sp.expand(forcing)
+    for k, c in enumerate(coefficients):
+        if c.has(sp.I) or (c.is_number and c.is_real is False):
+            raise EquationError(f"the coefficient of {derivative_name(unknown, k)} is {c}, which "
+                                "is not a real number (a square root of a negative value?); "
+                                "the model needs real coefficients", term=str(c), text=text)
+    if forcing.has(sp.I, sp.zoo, sp.nan, sp.oo):
+        raise ForcingError(f"the forcing {forcing} is not a real, finite function of t", str(forcing))
+    initial = tuple(ic_values[k].subs(subs) for k in range(order))
+    remaining = tuple(n for n in list(names) + sorted(ic_names - set(names)) if n not in values)
+    remaining = tuple(n for n in remaining
+                      if any(sp.Symbol(n, positive=True) in e.free_symbols
+                             for e in coefficients + initial + (forcing,)))
+    return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
+                   initial_values=initial, parameters=tuple(values.items()), symbols=remaining,
+                   loads=tuple((n, f.description, f.expr) for n, f in loads.items()),
+                   quantities=tuple(quantities.values()), units=context)
+
+
+def _read_params(params: dict, known: set, forcing, coeffs: dict, units: dict):
+    """params= read and checked: (exact values, loads given as derivpad.forcing, quantities
+    with units). A name must be in the equation or the conditions; a value may name other
+    parameters, and may depend on t only as a load on the right side."""
     values: dict[str, sp.Expr] = {}
     loads: dict[str, sp.Expr] = {}
     quantities: dict = {}
@@ -378,36 +415,7 @@ def make_problem(equation, ics=None, params=None, unknown: str | None = None,
             raise ParameterError(msg, name)
         if quantity is not None:
             quantities[name] = quantity
-    context = None
-    if quantities or ic_quantities or units:
-        context = _unit_context(terms, positions, unknown, names, quantities, ic_quantities,
-                                units, loads)
-    subs = {sp.Symbol(n, positive=True): v for n, v in values.items()}
-    if loads:
-        forcing = forcing.subs({sp.Symbol(n, positive=True): f.expr for n, f in loads.items()})
-        names = tuple(n for n in names if n not in loads)
-    coefficients = tuple(sp.expand(sp.Add(coeffs.get(k, 0)).subs(subs)) for k in range(order + 1))
-    if coefficients[-1] == 0:
-        raise ParameterError(
-            f"with these values the coefficient of {derivative_name(unknown, order)} is zero; "
-            "the ODE's order drops: check the values", "")
-    forcing = sp.expand(forcing.subs(subs)) if subs else sp.expand(forcing)
-    for k, c in enumerate(coefficients):
-        if c.has(sp.I) or (c.is_number and c.is_real is False):
-            raise EquationError(f"the coefficient of {derivative_name(unknown, k)} is {c}, which "
-                                "is not a real number (a square root of a negative value?); "
-                                "the model needs real coefficients", term=str(c), text=text)
-    if forcing.has(sp.I, sp.zoo, sp.nan, sp.oo):
-        raise ForcingError(f"the forcing {forcing} is not a real, finite function of t", str(forcing))
-    initial = tuple(ic_values[k].subs(subs) for k in range(order))
-    remaining = tuple(n for n in list(names) + sorted(ic_names - set(names)) if n not in values)
-    remaining = tuple(n for n in remaining
-                      if any(sp.Symbol(n, positive=True) in e.free_symbols
-                             for e in coefficients + initial + (forcing,)))
-    return Problem(text=text, unknown=unknown, coefficients=coefficients, forcing=forcing,
-                   initial_values=initial, parameters=tuple(values.items()), symbols=remaining,
-                   loads=tuple((n, f.description, f.expr) for n, f in loads.items()),
-                   quantities=tuple(quantities.values()), units=context)
+    return values, loads, quantities
 
 
 def read_parameter(name: str, value, units: dict):
