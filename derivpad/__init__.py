@@ -5,15 +5,12 @@ The supported names are listed in ``__all__``; everything else is internal.
 
 from . import forcing
 from .core.derivation import Derivation
-from .core.engine import derive
+from .core.engine import derive, derive_state_space
 from .core.problem import Problem
 from .core.record import CalcRecord
 from .core.results import Result
 from .core.rules import RULES
 from .core.steps import Line, Rule, Step
-from .core.system_derivation import SystemDerivation
-from .core.system_engine import derive_state_space
-from .core.system_problem import SystemProblem
 from .core.verify import Check, Verification
 from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
                      ManifestMismatchError, MissingExtraError, NonlinearTermError,
@@ -27,7 +24,7 @@ __all__ = sorted([
     "CalcRecord", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
-    "SolveError", "Step", "SystemDerivation", "SystemProblem", "UnitError", "UnknownNameError", "UnsafeInputError",
+    "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "derive_state_space", "explore",
     "forcing", "load_ipython_extension",
 ])

@@ -35,7 +35,7 @@ def _parser() -> argparse.ArgumentParser:
                        help="the ODE, e.g. \"y'' + 4*y' + 13*y = 2*u(t - 1)\"; several "
                             "equations make a coupled system (one per unknown)")
     solve.add_argument("--derived", action="append", default=[], metavar="NAME=EXPR",
-                       help="for a system: a quantity to report, e.g. stroke=x1-x2 (repeat)")
+                       help="a quantity of the unknowns to report, e.g. stroke=x1-x2 (repeat)")
     solve.add_argument("--ic", action="append", default=[], metavar="COND",
                        help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
     solve.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
@@ -103,41 +103,20 @@ def _read_pairs(items: list[str], option: str, example: str) -> dict:
     return out
 
 
-def _emit_system(d, fmt: str, times) -> str:
-    if fmt == "json":
-        data = d.to_dict()
-        if times:
-            values = d(list(times))
-            data["samples"] = [{"t": t, **{name: float(v[i]) for name, v in values.items()}}
-                               for i, t in enumerate(times)]
-            data["sample_units"] = {"t": "s", "values": "SI"}
-        return json.dumps(data, indent=2, ensure_ascii=False)
-    if fmt == "latex":
-        return d.to_latex(document=True)
-    from .render.notation import text_expr
-    out = [d.to_text(), ""]
-    out += [f"Solution (SI units, t in s): {u}(t) = {text_expr(d.solution[u])}"
-            for u in d.unknowns]
-    if times:
-        values = d(list(times))
-        names = list(values)
-        out += ["", f"{'t':>12}  " + "  ".join(f"{n + ' (SI)':>18}" for n in names)]
-        out += [f"{t:>12.4g}  " + "  ".join(f"{values[n][i]:>18.6e}" for n in names)
-                for i, t in enumerate(times)]
-    return "\n".join(out)
-
-
 def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
-    if not hasattr(derivation, "unknown"):  # a coupled system
-        return _emit_system(derivation, fmt, times)
-    units = derivation.problem.units
-    si = units.unknown_si if units else ""
+    """The derivation in the chosen format; samples at ``times`` (s) of every unknown and
+    derived quantity, in display units in the text table and in SI in JSON."""
+    p = derivation.problem
+    names = p.names
     if fmt == "json":
         data = derivation.to_dict()
         if times:
-            data["samples"] = [{"t": t, "value": float(v)} for t, v in
-                               zip(times, derivation(list(times)))]
-            data["sample_units"] = {"t": "s", "value": si or "as the equation's numbers"}
+            values = _sampled(derivation, times)
+            data["samples"] = [{"t": t, **{n: float(values[n][i]) for n in names}}
+                               for i, t in enumerate(times)]
+            data["sample_units"] = {"t": "s", **{
+                n: (p.unit_context(n).unknown_si if p.units else "")
+                or "as the equation's numbers" for n in names}}
         return json.dumps(data, indent=2, ensure_ascii=False)
     if fmt == "latex":
         return derivation.to_latex(document=True)
@@ -145,20 +124,42 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     out = []
     if title:
         out += [title, "=" * len(title), ""]
-    out.append(derivation.to_text())
-    written = f" (SI: {derivation.unknown} in {si}, t in s)" if si else " (t in s)"
-    out += ["", f"Solution{written}: {derivation.unknown}(t) = {text_expr(derivation.solution)}"]
+    out += [derivation.to_text(), ""]
+    for u, solution in derivation.solutions.items():
+        si = p.unit_context(u).unknown_si if p.units else ""
+        written = f" (SI: {u} in {si}, t in s)" if si else " (t in s)"
+        out.append(f"Solution{written}: {u}(t) = {text_expr(solution)}")
     if times:
-        from .core.units import display_factor, display_offset
-        scale = display_factor(units.unknown_si, units.unknown_display) if units else 1.0
-        offset = display_offset(units.unknown_si, units.unknown_display) if units else 0.0
-        t_unit = f" [{units.time_display}]" if units else ""
-        y_unit = f" [{units.unknown_display}]" if units else ""
-        t_scale = display_factor("s", units.time_display) if units else 1.0
-        values = derivation(list(times)) * scale + offset
-        out += ["", f"{'t' + t_unit:>12}  {derivation.unknown + '(t)' + y_unit:>18}"]
-        out += [f"{t * t_scale:>12.4g}  {v:>18.6e}" for t, v in zip(times, values)]
+        out += [""] + _sample_table(derivation, times)
     return "\n".join(out)
+
+
+def _sampled(derivation, times) -> dict:
+    values = derivation(list(times))
+    if derivation.problem.size == 1:
+        return {derivation.problem.unknowns[0]: values}
+    return values
+
+
+def _sample_table(derivation, times) -> list[str]:
+    """Rows of t and each quantity, in display units."""
+    from .core.units import display_factor, display_offset
+    p = derivation.problem
+    values = _sampled(derivation, times)
+    t_unit = p.units.time_display if p.units else ""
+    t_scale = display_factor("s", t_unit) if p.units else 1.0
+    columns, heads = [], []
+    for name in p.names:
+        ctx = p.unit_context(name)
+        scale = display_factor(ctx.unknown_si, ctx.unknown_display) if ctx else 1.0
+        offset = display_offset(ctx.unknown_si, ctx.unknown_display) if ctx else 0.0
+        columns.append(values[name] * scale + offset)
+        heads.append(f"{name}(t)" + (f" [{ctx.unknown_display}]" if ctx else ""))
+    out = [f"{'t' + (f' [{t_unit}]' if t_unit else ''):>12}  "
+           + "  ".join(f"{h:>18}" for h in heads)]
+    out += [f"{t * t_scale:>12.4g}  " + "  ".join(f"{c[i]:>18.6e}" for c in columns)
+            for i, t in enumerate(times)]
+    return out
 
 
 def main(argv=None) -> int:
@@ -207,8 +208,7 @@ def _main(argv=None) -> int:
                        units=_read_pairs(args.unit, "--unit", "x=mm"),
                        values=_read_pairs(args.value, "--value", "m=2"),
                        unknown=args.unknown, regime=args.regime, on_failure="return",
-                       derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2")
-                       if system else None)
+                       derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2"))
             if args.figure:
                 d.save_figure(args.figure)
             text = _emit(d, args.format, args.at)

@@ -26,9 +26,9 @@ def integrate(problem, times, breakpoints=(), impulses=()):
         acc = float(f(t)) - sum(a[k] * z[k] for k in range(n))
         return np.concatenate([z[1:], [acc / a[n]]])
 
-    z = np.array([float(v) for v in problem.initial_values], dtype=float)
+    z = np.array([float(v) for v in problem.initial_values[0]], dtype=float)
     kicks = {}
-    for c, area in impulses:
+    for *_, c, area in impulses:  # (equation, time, area)
         kicks[float(c)] = kicks.get(float(c), 0.0) + float(area)
     cuts = sorted({0.0} | {float(b) for b in breakpoints} | set(kicks))
     times = np.asarray(times, dtype=float)

@@ -81,7 +81,7 @@ def test_solve_a_coupled_system_as_json(capsys):
                  "--derived", "stroke=x1-x2", "--at", "0.1", "--at", "0.5",
                  "--format", "json"]) == 0
     data = json.loads(capsys.readouterr().out)
-    assert data["kind"] == "system" and data["problem"]["unknowns"] == ["x1", "x2"]
+    assert data["version"] == 2 and data["problem"]["unknowns"] == ["x1", "x2"]
     ref = integrate_second_order([[2, 0], [0, 1]], np.zeros((2, 2)),
                                  [[1000, -200], [-200, 200]], lambda t: [50.0, 0.0],
                                  [0, 0], [0, 0], [0.1, 0.5])

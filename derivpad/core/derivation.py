@@ -1,8 +1,11 @@
-"""The Derivation value object: the steps, the solved transform, the solution, its checks.
+"""The Derivation value object: the steps, the solved transforms, the solution, its checks.
 
-It is plain data with one canonical JSON-safe form (``to_dict``). Display methods
-(``to_latex``, ``to_text``) import ``derivpad.render`` inside their bodies, so loading the core
-never loads printing.
+One class for one unknown or many (as python-control's one class for SISO and MIMO): the
+mappings ``transforms``, ``solutions``, ``interval_map`` and ``parts`` are keyed by unknown,
+and the properties ``transform``, ``solution``, ``intervals`` and ``transform_parts`` squeeze
+them for a single equation (the expression itself) and return the mapping otherwise. Display
+methods import ``derivpad.render`` inside their bodies, so loading the core never loads
+printing.
 """
 
 from __future__ import annotations
@@ -23,62 +26,95 @@ __all__ = ["Derivation"]
 
 @dataclass(frozen=True, slots=True)
 class Derivation(DisplayFacade):
-    """A complete Laplace-transform derivation of one linear ODE, checked by the engine.
+    """A complete Laplace-transform derivation of linear ODEs, checked by the engine.
 
     Attributes
     ----------
     problem : Problem
-    steps : tuple of Step, in order (problem, transform, derivatives, solve, decompose,
-        invert, assemble)
-    transform : the solved transform Y(s), delay factors e^{-cs} in front of their parts
-    solution : y(t) for t ≥ 0 in Heaviside form
-    intervals : ((start, expression), ...): the solution on [start, next start)
-    assumptions : stated assumptions, as sentences
+    steps : tuple of Step, in order (problem, transform, derivatives, [matrix form,] solve,
+        partial fractions, invert, assemble)
+    transforms : unknown → its transform, delay factors e^{-cs} in front of their parts
+    solutions : unknown → its solution for t ≥ 0 in Heaviside form
+    interval_map : unknown → ((start, expression), ...), the solution on [start, next start)
+    derived : derived quantity → expression in t
+    determinant : Δ(s) = det A(s) (the characteristic polynomial P(s) for one unknown)
     verification : the engine's own checks and the independent ones
     results : engineering results by key (peak, dynamic_load_factor, damping_ratio, ...)
+    values : numbers used for symbolic parameters in checks and results
     """
 
     problem: Problem
     steps: tuple[Step, ...]
-    transform: sp.Expr
-    solution: sp.Expr
-    intervals: tuple[tuple[sp.Expr, sp.Expr], ...]
-    impulses: tuple[tuple[sp.Expr, sp.Expr], ...]
+    transforms: dict
+    solutions: dict
+    interval_map: dict
+    impulses: tuple                  # ((equation index, time, area), ...)
     poles: tuple
     assumptions: tuple[str, ...]
     conditions: tuple[sp.Basic, ...]
     verification: Verification
     notes: tuple[str, ...] = ()
     results: object = None           # read-only mapping key → Result
-    transform_parts: tuple = ()      # ((c, R_c(s)), ...): Y(s) = Σ e^{-cs} R_c(s)
-    values: tuple = ()               # numbers used for symbolic parameters in checks and results
+    parts: dict = field(default_factory=dict)   # unknown → ((c, R_c(s)), ...)
+    values: tuple = ()
+    derived: dict = field(default_factory=dict)
+    determinant: sp.Expr = sp.Integer(0)
     _cache: dict = field(default_factory=dict, compare=False, repr=False)
 
-    # -- values -------------------------------------------------------------------------
+    # -- squeezed views -------------------------------------------------------------------
+    def _squeezed(self, mapping: dict):
+        return mapping[self.problem.unknowns[0]] if self.problem.size == 1 else dict(mapping)
+
+    @property
+    def unknowns(self) -> tuple[str, ...]:
+        return self.problem.unknowns
+
     @property
     def unknown(self) -> str:
+        """The unknown's name (a single equation only)."""
         return self.problem.unknown
+
+    @property
+    def transform(self):
+        """Y(s) for one unknown; {unknown: X_j(s)} for several."""
+        return self._squeezed(self.transforms)
+
+    @property
+    def solution(self):
+        """y(t) in Heaviside form for one unknown; {unknown: x_j(t)} for several."""
+        return self._squeezed(self.solutions)
+
+    @property
+    def intervals(self):
+        """((start, expression), ...) for one unknown; keyed by unknown for several."""
+        return self._squeezed(self.interval_map)
+
+    @property
+    def transform_parts(self):
+        """((c, R_c(s)), ...) with Y(s) = Σ e^{-cs} R_c(s); keyed by unknown for several."""
+        return self._squeezed(self.parts)
 
     @property
     def breakpoints(self) -> tuple[sp.Expr, ...]:
         """Times after 0 where the forcing switches or strikes."""
-        return tuple(c for c, _ in self.intervals[1:])
+        first = self.interval_map[self.problem.unknowns[0]]
+        return tuple(c for c, _ in first[1:])
 
-    def piecewise(self) -> sp.Piecewise:
-        """The solution as a Piecewise in t, interval by interval (valid for t ≥ 0)."""
-        args = []
-        for i, (start, expr) in enumerate(self.intervals):
-            if i + 1 < len(self.intervals):
-                args.append((expr, T < self.intervals[i + 1][0]))
-            else:
-                args.append((expr, True))
-        return sp.Piecewise(*args)
+    def piecewise(self):
+        """The solution as a Piecewise in t, interval by interval (valid for t ≥ 0); keyed by
+        unknown for several."""
+        out = {}
+        for u, ivs in self.interval_map.items():
+            args = [(e, T < ivs[i + 1][0]) if i + 1 < len(ivs) else (e, True)
+                    for i, (_, e) in enumerate(ivs)]
+            out[u] = sp.Piecewise(*args)
+        return self._squeezed(out)
 
+    # -- numbers ----------------------------------------------------------------------------
     def __call__(self, times):
-        """Evaluate y(t) with NumPy at the given times (t ≥ 0; NaN before 0), compiled once.
-
-        At a breakpoint the value from the right is returned.
-        """
+        """Evaluate with NumPy at ``times`` (t ≥ 0; NaN before 0), compiled once: an array for
+        one unknown, {name: array} of the unknowns and derived quantities for several. At a
+        breakpoint the value from the right is returned."""
         given = dict(self.values)
         open_symbols = [n for n in self.problem.symbols if n not in given]
         if open_symbols:
@@ -87,33 +123,40 @@ class Derivation(DisplayFacade):
                    f"({', '.join(open_symbols)}); derive again with params= (or values=) "
                    "giving their values to evaluate it")
             raise ParameterError(msg)
-        fn = self._cache.get("numpy")
-        if fn is None:
-            fn = numpy_function(self.evaluated_solution)
-            self._cache["numpy"] = fn
-        return fn(times)
+        fns = self._cache.get("numpy")
+        if fns is None:
+            subs = {sp.Symbol(k, positive=True): v for k, v in self.values}
+            fns = {name: numpy_function(expr.subs(subs)) for name, expr in
+                   list(self.solutions.items()) + list(self.derived.items())}
+            self._cache["numpy"] = fns
+        if self.problem.size == 1:
+            return fns[self.problem.unknowns[0]](times)
+        return {name: fn(times) for name, fn in fns.items()}
 
     def _values_units(self):
         return self.problem.units
 
     @property
-    def evaluated_solution(self) -> sp.Expr:
-        """y(t) with the numbers of ``values`` put in for the symbolic parameters (the solution
-        itself when there are none)."""
+    def evaluated_solution(self):
+        """The solution with the numbers of ``values`` put in for the symbolic parameters."""
         if not self.values:
             return self.solution
         out = self._cache.get("evaluated")
         if out is None:
-            out = self.solution.subs({sp.Symbol(k, positive=True): v for k, v in self.values})
+            subs = {sp.Symbol(k, positive=True): v for k, v in self.values}
+            out = {u: e.subs(subs) for u, e in self.solutions.items()}
             self._cache["evaluated"] = out
-        return out
+        return self._squeezed(out)
 
     def __repr__(self) -> str:
-        return (f"<Derivation {self.problem.text!r}: {len(self.steps)} steps, "
-                f"verification {'passed' if self.verification.passed else 'FAILED'}>")
+        status = "verification passed" if self.verification.passed else "NOT VERIFIED"
+        if self.problem.size == 1:
+            return f"<Derivation {self.problem.text!r}: {len(self.steps)} steps, {status}>"
+        return (f"<Derivation of {self.problem.size} unknowns ({', '.join(self.unknowns)}): "
+                f"{len(self.steps)} steps, {status}>")
 
     def describe_initial_conditions(self) -> tuple[str, ...]:
-        """Plain text of the initial conditions, y(0⁻) = ...."""
-        return tuple(f"{derivative_name(self.unknown, k)}(0-) = {sp.sstr(v)}"
-                     for k, v in enumerate(self.problem.initial_values))
-
+        """Plain text of the initial conditions, x(0⁻) = ..., unknown by unknown."""
+        return tuple(f"{derivative_name(u, k)}(0-) = {sp.sstr(v)}"
+                     for u, vals in zip(self.problem.unknowns, self.problem.initial_values)
+                     for k, v in enumerate(vals))

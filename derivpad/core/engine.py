@@ -1,40 +1,33 @@
-"""derive(): run the stages in order, build the Derivation, and check it before returning.
+"""derive(): read the problem, run the stages, check the answer, build the Derivation.
 
-Stages: problem → forcing in Heaviside form → transform both sides → derivatives with the
-initial conditions → solve for Y(s) → partial fractions per delay group → invert term by term
-→ assemble y(t) → the engine's own check. Only the engine's own rule table is used; SymPy's
-laplace_transform, inverse_laplace_transform and dsolve never run here.
+One route for one unknown or many: ``make_problem`` (core/read_problem.py) → the symbolic
+stages (core/stages.py) → the engine's own check (core/verify.py) → the derivation compiled
+for numbers (core/numeric_model.py) → the independent checks (core/numeric_checks.py) → the
+engineering results (core/results.py).
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from types import MappingProxyType
 
 import sympy as sp
 
 from ..errors import DerivpadError, ParameterError, UnitError, VerificationFailedError
-from .algebra import (PoleSet, characteristic_polynomial, initial_condition_polynomial,
-                      merge_poles, poles_of, solve_system)
 from .derivation import Derivation
-from .forcing import TAU, heaviside_pieces
-from .inverse import invert_term, inversion_step, shift
-from .parse import T
-from .partial_fractions import fraction_steps, partial_fractions
-from .problem import Problem, derivative_name, make_problem, mapping_of, to_exact
-from .rules import rule
-from .steps import Line, Step
-from .units import dimension_text, read_quantity, sign_cautions
-from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
 from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
-from .numeric_model import ParametricModel
+from .numeric_model import ParametricNumbers
+from .problem import Problem, mapping_of, to_exact
+from .read_problem import make_problem
 from .results import definitions_of, engineering_results
+from .stages import Stages, derived_solutions, solve_stages
+from .units import dimension_text, read_quantity
 from .verify import Verification, self_check
 from .window import window_end
 
-__all__ = ["Stages", "check_options", "compile_model", "complete", "derive", "derive_problem",
-           "engine_check", "parameter_values", "solve_stages"]
+__all__ = ["check_options", "compile_numbers", "complete", "derive", "derive_problem",
+           "derive_state_space", "engine_check", "form_holds", "parameter_values",
+           "stages_for_values"]
 
 
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
@@ -48,8 +41,8 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     ----------
     equation : str, sympy.Eq, or a list of them
         The ODE, e.g. ``"m*x'' + c*x' + k*x = F0*u(t - t1)"``; see docs/input-syntax.md. A
-        list is a coupled system (one equation per unknown; see docs/systems.md): the result
-        is then a :class:`~derivpad.core.system_derivation.SystemDerivation`.
+        list is a coupled system (one equation per unknown; see docs/systems.md): the same
+        Derivation, its solution and transform then keyed by unknown.
     ics : mapping
         Initial values at 0⁻, one for each order below the ODE's: ``{"x(0)": 0, "x'(0)": 0}``.
     params : mapping, optional
@@ -75,7 +68,7 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
         "all" runs the independent checks and the results too; "engine" only the engine's own
         back-substitution (for fast exploration; the derivation then counts as not verified).
     derived : mapping, optional
-        For a system: named quantities to report, ``{"stroke": "x1 - x2"}``.
+        Named quantities of the unknowns to report, ``{"stroke": "x1 - x2"}``.
     on_failure : {"raise", "return"}
         When a check fails: raise VerificationFailedError (default), or return the derivation
         for inspection, marked NOT VERIFIED, with every engineering result absent.
@@ -100,19 +93,21 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     >>> d.solution
     sin(3*t)/3
     """
-    if isinstance(equation, (list, tuple)):
-        if unknown is not None:
-            raise ParameterError("unknown= is for a single equation; a system's unknowns are "
-                                 "the names written with primes", "unknown")
-        from .system_engine import derive_system
-        return derive_system(equation, ics, params, units=units, values=values,
-                             derived=derived, regime=regime, tolerances=tolerances,
-                             window=window, checks=checks, on_failure=on_failure,
-                             definitions=definitions)
-    if derived is not None:
-        raise ParameterError("derived= is for a system of equations; for one equation, "
-                             "evaluate the quantity from d.solution", "derived")
-    problem = make_problem(equation, ics, params, unknown, units)
+    problem = make_problem(equation, ics, params, unknown, units, derived)
+    return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
+                          window=window, checks=checks, on_failure=on_failure,
+                          definitions=definitions)
+
+
+def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, names=None,
+                       values=None, tolerances=None, window: float | None = None,
+                       checks: str = "all", regime: str = "underdamped",
+                       on_failure: str = "raise", definitions=None) -> Derivation:
+    """Solve x' = A x + B u(t), x(0⁻) = x0 step by step; outputs y = C x + D u (``outputs``
+    is C) are reported as derived quantities y1, y2, ... Inputs ``u`` are in the forcing
+    library's Heaviside form (text, SymPy expressions in t, or ``derivpad.forcing`` loads)."""
+    from .state_space import state_space_problem
+    problem = state_space_problem(A, B, u, x0, outputs, D, names)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,
                           definitions=definitions)
@@ -184,203 +179,13 @@ def form_holds(stages, value_map: dict) -> bool:
     return all(a < b for a, b in zip(nums, nums[1:])) and all(t > 0 for t in nums)
 
 
-@dataclass(frozen=True)
-class Stages:
-    """What the symbolic stages produce, before any check: steps, Y(s), y(t) and its parts."""
-
-    steps: tuple
-    transform: sp.Expr
-    solution: sp.Expr
-    intervals: tuple
-    impulses: tuple
-    system_poles: tuple
-    response_poles: tuple
-    assumptions: tuple
-    conditions: tuple
-    notes: tuple
-    parts: tuple
-    breakpoints: tuple
-    delayed_solutions: tuple
-
-
-def solve_stages(problem: Problem, regime: str = "underdamped", order=None) -> Stages:
-    """Stages 1-7: problem, transform, derivatives, Y(s), partial fractions, inversion, y(t).
-
-    ``order`` ({name: number}) orders symbolic switching times by those numbers.
-    """
-    y = problem.unknown
-    Y = Ysym(y)
-    n = problem.order
-    a = problem.coefficients
-
-    pieces, notes = heaviside_pieces(problem.forcing)
-    assumptions: list[str] = list(sign_cautions(problem.quantities))
-    conditions: list = []
-    if problem.symbols:
-        assumptions.append("symbolic parameters (" + ", ".join(problem.symbols)
-                           + ") are taken as positive real numbers")
-    for p in pieces:
-        if not p.delay.is_number:
-            text = f"switching time {sp.sstr(p.delay)} ≥ 0"
-            if text not in assumptions:
-                assumptions.append(text)
-    heaviside = sp.Add(*[p.shape * sp.DiracDelta(T - p.delay) if p.impulse
-                         else shift(p.shape, p.delay) for p in pieces])
-
-    # 1. Problem
-    ic_lines = tuple(Line(sp.Symbol(derivative_name(y, k) + "(0^-)"), v, "=")
-                     for k, v in enumerate(problem.initial_values))
-    given = {q.name: q for q in problem.quantities}
-    param_lines = tuple(Line(sp.Symbol(name), value, "=",
-                             f"given {given[name].given}; SI {given[name].si_unit}"
-                             if name in given else "parameter")
-                        for name, value in problem.parameters)
-    load_lines = tuple(Line(sp.Function(name)(T), expr, "=", description)
-                       for name, description, expr in problem.loads)
-    forcing_line = load_lines + (Line(sp.Function("f")(T), heaviside, "=",
-                                      "forcing in unit-step form"),)
-    problem_step = Step(
-        "Problem", rule("definition"),
-        (Line(problem.lhs, problem.forcing, "=", "for t > 0"),) + ic_lines + forcing_line
-        + param_lines,
-        f"Order-{n} linear ODE with constant coefficients. Initial values are taken just "
-        "before t = 0 (0⁻), so an impulse at t = 0 acts after them.",
-        rules_used=(rule("piecewise_to_step"),) if problem.forcing.has(sp.Piecewise) else ())
-
-    # 2. Transform the forcing, term by term
-    groups, forcing_steps = transform_groups(pieces)
-    F_total = sp.Add(*[delayed(g.delay, _group_transform(g)) for g in groups])
-    lhs_laplace = sp.Add(*[a[k] * Laplace(problem.function.diff(T, k) if k else problem.function)
-                           for k in range(n + 1) if a[k] != 0])
-    transform_step = Step(
-        "Transform both sides", rule("linearity"),
-        (Line(lhs_laplace, F_total, "="),),
-        "The transform is linear, so each side transforms term by term; each forcing piece "
-        "uses a table pair, delayed pieces the second shifting theorem.",
-        tuple(forcing_steps),
-        tuple({r.id: r for s in forcing_steps for r in s.all_rules}.values()))
-
-    # 3. Derivatives with the initial conditions
-    deriv_lines = tuple(
-        Line(Laplace(problem.function.diff(T, k) if k else problem.function),
-             derivative_transform(y, k, problem.initial_values), "=")
-        for k in range(1, n + 1) if a[k] != 0)
-    P = characteristic_polynomial(a)
-    Q = initial_condition_polynomial(a, problem.initial_values)
-    substituted = Line(sp.Mul(P, Y, evaluate=False) - Q, F_total, "=")
-    derivative_step = Step(
-        "Transform the derivatives", rule("derivative"), deriv_lines + (substituted,),
-        "Each derivative brings down a power of s and the initial values at 0⁻.")
-
-    # 4. Solve for Y(s): the 1×1 case of A(s) X(s) = B(s)
-    A = sp.Matrix([[P]])
-    char_poles = poles_of(P, regime)
-    assumptions += [x for x in char_poles.assumptions if x not in assumptions]
-    conditions += list(char_poles.conditions)
-    solved_parts = []
-    group_data = []
-    for g in groups:
-        num, den_factors = _group_fraction(g, Q if g.delay == 0 else sp.Integer(0))
-        det, (numerator,) = solve_system(A, sp.Matrix([num]))
-        extra = [pole.with_multiplicity(m) for f, m in den_factors for pole in poles_of(f).poles]
-        poles = merge_poles(char_poles, extra)
-        group_data.append((g.delay, numerator, poles))
-    if not any(g.delay == 0 for g in groups) and Q != 0:
-        det, (numerator,) = solve_system(A, sp.Matrix([Q]))
-        group_data.insert(0, (sp.Integer(0), numerator, char_poles))
-    for delay, numerator, poles in group_data:
-        for x in poles.assumptions:
-            if x not in assumptions:
-                assumptions.append(x)
-                conditions.extend(c for c in poles.conditions if c not in conditions)
-    labels = _labels(y, group_data)
-    for (delay, numerator, poles), label in zip(group_data, labels):
-        part = numerator / poles.factored
-        solved_parts.append(delayed(delay, part))
-    transform = sp.Add(*solved_parts) if solved_parts else sp.Integer(0)
-    regime_note = _regime_sentence(char_poles, n)
-    solve_lines = (
-        Line(Y, sp.Mul(sp.Add(F_total, Q), sp.Pow(P, -1), evaluate=False), "="),
-        Line(sp.Symbol("P(s)"), P, "=", "characteristic polynomial"),
-        Line(sp.Symbol("P(s)"), char_poles.factored, "=", "factored"),
-    ) + tuple(Line(sp.Symbol(lbl), num / poles.factored, "=",
-                   "part delayed by " + sp.sstr(delay) if delay != 0 else "undelayed part")
-              for (delay, num, poles), lbl in zip(group_data, labels)) + (
-        Line(Y, _labelled_sum(group_data, labels), "="),)
-    taken = [x for x in assumptions if x.startswith(("underdamped", "overdamped", "non-resonant"))]
-    solve_step = Step(
-        f"Solve for {Y}", rule("solve_algebraic"), solve_lines,
-        f"{Y} is the forcing and initial-value terms over the characteristic polynomial. "
-        f"{regime_note}" + (" Numerical roots are carried to 50 digits."
-                            if char_poles.numeric else "")
-        + ("".join(f" Assumed ({x})." for x in taken)),
-        rules_used=(rule("numeric_roots"),) if char_poles.numeric else ())
-
-    # 5-6. Partial fractions and inversion, group by group
-    fraction_steps_list, inversion_steps = [], []
-    delayed_solutions = []
-    for (delay, numerator, poles), label in zip(group_data, labels):
-        terms = partial_fractions(numerator, poles)
-        fraction_steps_list.append(fraction_steps(label, numerator, poles, terms))
-        inverses = [invert_term(t) for t in terms]
-        inversion_steps.append(inversion_step(label, delay, inverses))
-        g = sp.Add(*[inv.time for inv in inverses])
-        delayed_solutions.append((delay, g))
-    decompose = Step("Partial fractions", rule("pf_simple"),
-                     (), "Each part of Y(s) between delay factors is split separately.",
-                     tuple(fraction_steps_list),
-                     tuple({r.id: r for s in fraction_steps_list for r in s.all_rules}.values()))
-    invert = Step("Invert term by term", rule("second_shift") if any(
-        d != 0 for d, _ in delayed_solutions) else None, (),
-        "Each partial fraction maps back through its table pair; delayed parts shift.",
-        tuple(inversion_steps),
-        tuple({r.id: r for s in inversion_steps for r in s.all_rules}.values()))
-
-    # 7. Assemble
-    solution = sp.Add(*[shift(g, d) for d, g in delayed_solutions])
-    breaks = sorted({p.delay for p in pieces if p.delay != 0} | {d for d, _ in delayed_solutions
-                                                                if d != 0},
-                    key=lambda c: _order_key(c, order))
-    if any(not b.is_number for b in breaks) and len(breaks) > 1:
-        assumptions.append("switching times in the order " + " < ".join(sp.sstr(b) for b in breaks))
-    intervals = []
-    rank = {sp.Integer(0): 0, **{b: i + 1 for i, b in enumerate(breaks)}}
-    for start in [sp.Integer(0)] + breaks:
-        # a part acts from its own switching time on, in the order just assumed
-        active = [(d, g) for d, g in delayed_solutions if rank[d] <= rank[start]]
-        expr = sp.Add(*[g.subs(TAU, T - d) for d, g in active])
-        intervals.append((start, expr))
-    impulses = tuple((p.delay, p.shape) for p in pieces if p.impulse)
-    assemble_lines = (Line(problem.function, solution, "=", "Heaviside form"),) + tuple(
-        Line(problem.function, expr, "=", _interval_text(i, intervals))
-        for i, (start, expr) in enumerate(intervals))
-    assemble = Step(f"Assemble {y}(t)", rule("second_shift") if breaks else rule("linearity"),
-                    assemble_lines,
-                    "The inverted parts add up to the solution; on each interval between "
-                    "breakpoints only the parts already switched on act.")
-
-    steps = (problem_step, transform_step, derivative_step, solve_step, decompose, invert,
-             assemble)
-    parts = tuple((delay, numerator / poles.factored) for delay, numerator, poles in group_data)
-    all_poles = char_poles
-    for _, _, poles in group_data:
-        all_poles = merge_poles(all_poles, [p for p in poles.poles if p not in all_poles.poles])
-    return Stages(steps=steps, transform=transform, solution=solution,
-                  intervals=tuple(intervals), impulses=impulses, system_poles=char_poles.poles,
-                  response_poles=all_poles.poles, assumptions=tuple(assumptions),
-                  conditions=tuple(conditions), notes=tuple(notes), parts=parts,
-                  breakpoints=tuple(breaks), delayed_solutions=tuple(delayed_solutions))
-
-
 def engine_check(problem: Problem, stages: Stages, tolerance=None, preferred=None) -> tuple:
     """The engine's own back-substitution, ICs and jumps; raises when it rejects the answer.
 
     Symbolic parameters are sampled at ``preferred`` ({name: value}) where those satisfy the
     derivation's conditions.
     """
-    checks_own = self_check(problem, list(stages.delayed_solutions), list(stages.breakpoints),
-                            dict(stages.impulses), list(stages.conditions), tolerance,
-                            preferred)
+    checks_own = self_check(problem, stages, tolerance, preferred)
     own = Verification(checks_own)
     if not own.passed:
         worst = "; ".join(f"{c.name}: error {c.error:.3g} > tolerance {c.tolerance:.3g}"
@@ -422,26 +227,26 @@ def check_options(checks: str, tolerances, on_failure: str = "raise", window=Non
     return tolerances
 
 
-def compile_model(problem: Problem, stages: Stages, symbols=()) -> ParametricModel:
+def compile_numbers(problem: Problem, stages: Stages, symbols=()) -> ParametricNumbers:
     """The derivation compiled once for numbers, with ``symbols`` as arguments."""
-    return ParametricModel(problem, stages.solution, stages.parts, stages.response_poles,
-                           stages.system_poles, stages.breakpoints, stages.impulses, symbols)
+    return ParametricNumbers(problem, stages, symbols)
 
 
 def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, tolerances,
-             window, checks: str = "all", model: ParametricModel | None = None,
+             window, checks: str = "all", model: ParametricNumbers | None = None,
              on_failure: str = "raise", definitions=None) -> Derivation:
     """The Derivation: the stages, the engine's checks, and (for checks="all" with numbers
     for every symbolic parameter) the independent checks and the engineering results.
 
     ``model`` is the derivation already compiled (the explorer compiles once per family).
     """
-    fields = dict(problem=problem, steps=stages.steps, transform=stages.transform,
-                  solution=stages.solution, intervals=stages.intervals,
+    fields = dict(problem=problem, steps=stages.steps, transforms=stages.transform,
+                  solutions=stages.solution, interval_map=stages.intervals,
                   impulses=stages.impulses, poles=stages.system_poles,
                   assumptions=stages.assumptions, conditions=stages.conditions,
-                  notes=stages.notes, transform_parts=stages.parts,
-                  values=tuple(value_map.items()))
+                  notes=stages.notes, parts=stages.parts, values=tuple(value_map.items()),
+                  derived=derived_solutions(problem, stages.solution),
+                  determinant=stages.determinant)
     numeric_tol = {k: v for k, v in tolerances.items() if k != "back_substitution"}
     if checks == "engine":
         skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
@@ -453,16 +258,17 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
         return Derivation(**fields, verification=Verification(tuple(checks_own) + skipped),
                           results=MappingProxyType({}))
     if model is None:
-        model = compile_model(problem, stages, tuple(value_map))
+        model = compile_numbers(problem, stages, tuple(value_map))
     numbers = model.at(value_map)
-    extra, samples = independent_checks(numbers, numeric_tol,
-                                        lambda poles, bps: window_end(poles, bps, window))
+    end = window_end(numbers.every_pole, list(numbers.breakpoints), window)
+    extra, samples = independent_checks(numbers, numeric_tol, end)
     verification = Verification(tuple(checks_own) + extra, samples)
     refuse_failed(verification, problem.text, on_failure)
-    results = (engineering_results(numbers, float(samples.times[-1]), problem.units, definitions)
+    results = (engineering_results(problem, numbers, definitions)
                if verification.passed else withheld(verification))
     derivation = Derivation(**fields, verification=verification, results=results)
-    derivation._cache["numpy"] = numbers.closed_form  # d(times) uses the same compiled form
+    # d(times) uses the same compiled forms
+    derivation._cache["numpy"] = {name: m.closed_form for name, m in numbers.models.items()}
     return derivation
 
 
@@ -530,68 +336,3 @@ def _symbol_value(problem: Problem, name: str, value) -> sp.Expr:
                         f"{dimension_text(q.dimensionality)}; {name} is declared in {unit!r}, "
                         f"which is {dimension_text(want)}", name=name)
     return q.si_value
-
-
-def _group_transform(g) -> sp.Expr:
-    return sp.Add(*[t.expr for t in g.terms]) + g.impulse_area
-
-
-def _group_fraction(g, extra_numerator: sp.Expr):
-    """Σ terms + impulse + initial-value part over the least common denominator of the terms."""
-    lcd: dict = {}
-    for t in g.terms:
-        for f, m in t.factors:
-            lcd[f] = max(lcd.get(f, 0), m)
-    den = sp.Mul(*[f ** m for f, m in lcd.items()])
-    num = sp.Integer(0)
-    for t in g.terms:
-        rest = sp.Mul(*[f ** (lcd[f] - dict(t.factors).get(f, 0)) for f in lcd])
-        num += t.numerator * rest
-    num += (g.impulse_area + extra_numerator) * den
-    return sp.expand(num), list(lcd.items())
-
-
-def _labels(y: str, group_data) -> list[str]:
-    base = Ysym(y).func.__name__
-    return [f"{base}_{i}(s)" for i in range(len(group_data))]
-
-
-def _labelled_sum(group_data, labels):
-    parts = []
-    for (delay, _, _), label in zip(group_data, labels):
-        sym = sp.Symbol(label)
-        parts.append(delayed(delay, sym))
-    return sp.Add(*parts)
-
-
-def _regime_sentence(poles: PoleSet, n: int) -> str:
-    kinds = [p for p in poles.poles]
-    if n == 2 and len(kinds) >= 1:
-        p = kinds[0]
-        if p.kind == "complex":
-            return "The characteristic roots are a complex pair: " + (
-                "undamped oscillation." if p.alpha == 0 else "an underdamped response.")
-        if p.multiplicity == 2:
-            return "The characteristic root is repeated: critically damped."
-        return "The characteristic roots are real and distinct: an overdamped response."
-    return ""
-
-
-def _order_key(c, order=None):
-    """Numeric switching times by value; symbolic ones by their value in ``order`` (numbers
-    for the parameters, e.g. an explorer's starting values) where given, else after the
-    numeric ones."""
-    if c.is_number:
-        return (0, float(c))
-    if order:
-        value = c.subs({sp.Symbol(k, positive=True): v for k, v in order.items()})
-        if value.is_number:
-            return (0, float(value))
-    return (1, 0.0)
-
-
-def _interval_text(i: int, intervals) -> str:
-    start = sp.sstr(intervals[i][0])
-    if i + 1 < len(intervals):
-        return f"{start} ≤ t < {sp.sstr(intervals[i + 1][0])}"
-    return f"t ≥ {start}"

@@ -18,9 +18,10 @@ from dataclasses import dataclass
 
 from ..errors import DerivpadError, ParameterError
 from .derivation import Derivation
-from .engine import (check_options, form_holds, compile_model, complete, derive, engine_check,
-                     parameter_values, solve_stages)
-from .problem import make_problem
+from .engine import (check_options, compile_numbers, complete, derive, engine_check, form_holds,
+                     parameter_values)
+from .read_problem import make_problem
+from .stages import solve_stages
 
 __all__ = ["DerivationFamily", "FamilyMember", "what_changed"]
 
@@ -56,7 +57,7 @@ class DerivationFamily:
     """
 
     def __init__(self, equation, ics=None, params=None, *, vary, unknown=None, units=None,
-                 regime: str = "underdamped", tolerances=None, window=None):
+                 regime: str = "underdamped", tolerances=None, window=None, derived=None):
         params = dict(params or {})
         self.vary = tuple(vary)
         if not self.vary:
@@ -76,27 +77,22 @@ class DerivationFamily:
             if unit:
                 units[name] = unit
         self._args = dict(equation=equation, ics=ics, unknown=unknown, units=units or None,
-                          tolerances=tolerances, window=window)
+                          tolerances=tolerances, window=window, derived=derived)
         self._params = params
         self._tolerances = check_options("all", tolerances)
         fixed = {k: v for k, v in params.items() if k not in self.vary}
-        self.is_system = isinstance(equation, (list, tuple))
-        if self.is_system:  # a coupled system is derived afresh with the numbers each time
-            from .system_problem import make_system_problem
-            self._args.pop("unknown")
-            self.problem = make_system_problem(equation, ics, fixed, units or None)
-        else:
-            self.problem = make_problem(equation, ics, fixed, unknown, units or None)
+        self.problem = make_problem(equation, ics, fixed, unknown, units or None, derived)
         stray = [n for n in self.vary if n not in self.problem.symbols]
         if stray:
             raise ParameterError(f"{stray[0]!r} does not appear in the problem once the other "
                                  "values are in; nothing would change", stray[0])
         self._regime = regime if regime in _REGIMES else _REGIMES[0]
         self._forms: dict = {}
+        self._why_not = ""
         self._compiled: dict = {}
         self.start = start
         # symbolic switching times are ordered as at the starting values
-        self._order = {} if self.is_system else parameter_values(self.problem, start)
+        self._order = parameter_values(self.problem, start)
 
     # -- the values ----------------------------------------------------------------------
     def params_for(self, values: dict) -> dict:
@@ -121,8 +117,9 @@ class DerivationFamily:
         if regime not in self._forms:
             try:
                 self._forms[regime] = solve_stages(self.problem, regime, self._order)
-            except DerivpadError:  # e.g. roots of a symbolic cubic: derive with numbers
+            except DerivpadError as exc:  # e.g. roots of a symbolic cubic: derive with numbers
                 self._forms[regime] = None
+                self._why_not = str(exc).split(";")[0]
         return self._forms[regime]
 
     def _derived_in_symbols(self, regime: str, value_map: dict):
@@ -134,7 +131,7 @@ class DerivationFamily:
         if regime not in self._compiled:  # checked and compiled once, at values it holds for
             own = engine_check(self.problem, stages, self._tolerances.get("back_substitution"),
                                value_map)
-            self._compiled[regime] = (own, compile_model(self.problem, stages, self.vary))
+            self._compiled[regime] = (own, compile_numbers(self.problem, stages, self.vary))
         own, model = self._compiled[regime]
         d = complete(self.problem, stages, own, value_map, tolerances=self._tolerances,
                      window=self._args["window"], model=model, on_failure="return")
@@ -142,14 +139,6 @@ class DerivationFamily:
 
     def at(self, values: dict) -> FamilyMember:
         """The derivation for ``values`` ({name: number in the parameter's unit})."""
-        if self.is_system:
-            missing = [n for n in self.vary if n not in values]
-            if missing:
-                raise ParameterError(f"no value for {missing[0]!r}; give every varied "
-                                     f"parameter ({', '.join(self.vary)})", missing[0])
-            d = derive(params=self.params_for(values), regime=self._regime, **self._args)
-            return FamilyMember(d, "derived with the numbers (a coupled system is derived "
-                                   "afresh on each change)", True)
         value_map = self._exact(values)
         first = not self._compiled
         d = self._derived_in_symbols(self._regime, value_map)
@@ -174,6 +163,9 @@ class DerivationFamily:
                            f"the {regime} form")
                 return FamilyMember(d, how, not known)
         d = derive(params=self.params_for(values), regime=self._regime, **self._args)
+        if all(self._forms.get(r, 0) is None for r in _REGIMES):
+            return FamilyMember(d, "no form in symbols could be derived ("
+                                + self._why_not + "): derived with the numbers", True)
         return FamilyMember(d, "no symbolic form holds at these values (e.g. exactly on a "
                                "regime boundary): derived with the numbers", True)
 

@@ -1,10 +1,11 @@
-"""A derivation's numbers: the closed form, the forcing and Y(s) compiled for evaluation.
+"""A derivation's numbers: the closed forms, the forcings and the transforms compiled once.
 
-The numerical checks and the engineering results read a :class:`NumericModel` and never
-touch SymPy. A :class:`ParametricModel` compiles a
-derivation once, with its symbolic parameters (if any) as arguments; :meth:`ParametricModel.at`
-gives the :class:`NumericModel` for numbers without SymPy, which is what lets the explorer
-re-check a derivation on every change without deriving or compiling again.
+The numerical checks and the engineering results read :class:`Numbers` (and a
+:class:`NumericModel` per unknown or derived quantity) and never touch SymPy.
+:class:`ParametricNumbers` compiles a derivation once, with its symbolic parameters (if any)
+as arguments; :meth:`ParametricNumbers.at` gives the numbers for values without SymPy, which is
+what lets the explorer and load cases re-check a derivation on every change without deriving
+or compiling again. One unknown and many take the same route.
 """
 
 from __future__ import annotations
@@ -21,40 +22,214 @@ from .evaluate import _heaviside, _no_impulse
 from .forcing import forcing_on_interval
 from .modes import ModeTable, NotAModeSum
 from .parse import S, T
+from .stages import derived_solutions
 
-__all__ = ["NumericModel", "ParametricModel", "s_limits", "stable"]
+__all__ = ["NumericModel", "Numbers", "ParametricNumbers", "s_limits", "stable"]
 
 _MPMATH = "mpmath"
 
 
 @dataclass(frozen=True)
 class NumericModel:
-    """Everything the numerical checks and the results need, as numbers and callables.
+    """One unknown's (or derived quantity's) response as numbers and callables.
 
-    ``closed_form``, ``derivative`` and ``forcing`` map an array of times to an array (NaN
-    before t = 0; impulses left out); ``forcing_at`` is the scalar form for an integrator's
-    right-hand side. ``parts`` are the delay parts (c, R_c) of Y(s), each R_c callable on an
-    mpmath number. ``initial_value_limit`` is lim sY(s) as s → ∞; ``final_value_limit`` is
-    lim sY(s) as s → 0 (None where it is not finite). ``final_load`` is the forcing's level after the last
-    breakpoint, or None where the forcing does not settle to a constant.
+    ``closed_form`` and ``derivative`` map an array of times to an array (NaN before t = 0;
+    impulses left out). ``parts`` are the delay parts (c, R_c) of its transform, each R_c
+    callable on an mpmath number (none for a derived quantity). ``initial_value_limit`` is
+    lim sX(s) as s → ∞; ``final_value_limit`` lim sX(s) as s → 0 (None where not finite).
     """
 
-    coefficients: tuple[float, ...]
-    initial: tuple[float, ...]
+    name: str
     breakpoints: tuple[float, ...]
-    impulses: tuple[tuple[float, float], ...]
     system_poles: tuple[complex, ...]
     response_poles: tuple[complex, ...]
     closed_form: Callable
     derivative: Callable
-    forcing: Callable
-    forcing_at: Callable
     parts: tuple[tuple[float, Callable], ...]
     initial_value_limit: float
     final_value_limit: float | None
-    final_load: float | None
     modes: object = None          # the closed form as a sum of modes (None where it is not one)
-    forcing_modes: object = None  # the forcing (impulses left out) as a sum of modes
+
+
+@dataclass(frozen=True)
+class Numbers:
+    """A derivation's numbers: each quantity's model and the equations' first-order data.
+
+    ``lead`` is E, the coefficients of each unknown's highest derivative; ``lower`` the other
+    coefficients (i, j, k, a_ijk); ``static`` A(0), the coefficients of the unknowns
+    themselves. Per equation: ``forcing`` (times → array), ``forcing_at`` (scalar, for an
+    integrator), ``forcing_modes`` (None where not a sum of modes) and ``final_loads`` (the
+    level after the last switch, None where the load does not settle). ``impulses`` are
+    (equation, time, area).
+    """
+
+    unknowns: tuple[str, ...]
+    models: dict
+    lead: np.ndarray
+    lower: tuple
+    static: np.ndarray
+    orders: tuple[int, ...]
+    initial: tuple
+    forcing: tuple
+    forcing_at: tuple
+    forcing_modes: tuple
+    final_loads: tuple
+    impulses: tuple
+    breakpoints: tuple[float, ...]
+    system_poles: tuple[complex, ...]
+    operators: tuple = ()    # a_ijk as floats, operators[i][j][k]
+
+    def coefficients(self, i: int, j: int) -> tuple[float, ...]:
+        """a_ij0 … a_ijN: unknown j's coefficients in equation i, by derivative order."""
+        return self.operators[i][j]
+
+    def matrix(self, k: int) -> np.ndarray:
+        """The n×n matrix of the coefficients of the k-th derivatives."""
+        n = len(self.unknowns)
+        return np.array([[self.operators[i][j][k] if k < len(self.operators[i][j]) else 0.0
+                          for j in range(n)] for i in range(n)])
+
+    @property
+    def every_pole(self) -> list:
+        """Every response pole of every unknown (for the window)."""
+        return [z for u in self.unknowns for z in self.models[u].response_poles]
+
+
+class _Compiled:
+    """One expression in t compiled for the symbols: its modes, or (on first need) the whole
+    expression and its derivative lambdified."""
+
+    def __init__(self, expr, symbols, args):
+        self.expr = expr
+        self.args = args
+        self.modes = _mode_table(expr, symbols)
+        self._lambdified = None
+
+    def functions(self, nums):
+        """(closed form, derivative, modes) for numbers ``nums`` of the symbols."""
+        modes = _modes_at(self.modes, nums)
+        if modes is not None:  # mode by mode: stable for any poles and switching times
+            return stable(modes), stable(modes.derivative()), modes
+        if self._lambdified is None:
+            d = sp.diff(self.expr, T)
+            self._lambdified = ((_compile_numpy(self.expr, self.args),
+                                 _compile_scalar(self.expr, self.args)),
+                                (_compile_numpy(d, self.args), _compile_scalar(d, self.args)))
+        closed, derivative = (_vector(vec, nums, one) for vec, one in self._lambdified)
+        return closed, derivative, None
+
+
+class ParametricNumbers:
+    """A derivation in symbols for ``symbols``, compiled once; :meth:`at` puts in numbers.
+
+    Everything that needs SymPy (derived quantities, s-limits, lambdified functions, mode
+    tables) is done here, once; :meth:`at` only evaluates.
+    """
+
+    def __init__(self, problem, stages, symbols=()):
+        self.symbols = tuple(symbols)
+        args = tuple(sp.Symbol(n, positive=True) for n in self.symbols)
+        self._args = args
+        lam = lambda e: sp.lambdify(args, sp.Integer(0) + e, modules="math")  # noqa: E731
+        self._lam = lam
+        self.unknowns = problem.unknowns
+        exprs = {**stages.solution, **derived_solutions(problem, stages.solution)}
+        self._quantities = {}
+        for name, expr in exprs.items():
+            parts = stages.parts.get(name, ())
+            ivt, fvt = s_limits(parts) if parts else (sp.nan, sp.nan)
+            self._quantities[name] = (
+                _Compiled(expr, self.symbols, args),
+                [(lam(c), sp.lambdify((S,) + args, r, modules=_MPMATH)) for c, r in parts],
+                self._pole_table(stages.response_poles.get(name, stages.system_poles)),
+                lam(ivt) if parts else None,
+                lam(fvt) if parts and not fvt.has(sp.zoo, sp.nan, sp.oo) else None)
+        self._system = self._pole_table(stages.system_poles)
+        self._breakpoints = [lam(b) for b in stages.breakpoints]
+        self._impulses = [(i, lam(c), lam(a)) for i, c, a in stages.impulses]
+        self._initial = [[lam(v) for v in vals] for vals in problem.initial_values]
+        self._coefficients = [(i, j, k, lam(a)) for i, row in enumerate(problem.operators)
+                              for j, coeffs in enumerate(row) for k, a in enumerate(coeffs)
+                              if a != 0]
+        self._shape = [[len(coeffs) for coeffs in row] for row in problem.operators]
+        self._orders = problem.orders
+        self._forcings = []
+        for f in problem.forcings:
+            smooth = _smooth(f)
+            self._forcings.append((smooth, _compile_numpy(smooth, args),
+                                   _compile_scalar(smooth, args),
+                                   _mode_table(smooth, self.symbols)))
+
+    def _pole_table(self, poles):
+        return [(p, self._lam(p.value), self._lam(p.beta)) for p in poles]
+
+    def at(self, values: dict) -> Numbers:
+        """The numbers for ``values`` ({name: number}) of the symbols."""
+        nums = tuple(float(values[n]) for n in self.symbols)
+        exact = tuple(mpmath.mpf(x) for x in nums)  # a float is exact as an mpf; converted once
+        bps = tuple(float(b(*nums)) for b in self._breakpoints)
+        system = _poles(self._system, nums)
+        models = {name: self._model(name, entry, nums, exact, bps, system)
+                  for name, entry in self._quantities.items()}
+        n = len(self.unknowns)
+        lead, static = np.zeros((n, n)), np.zeros((n, n))
+        lower = []
+        operators = [[[0.0] * m for m in row] for row in self._shape]
+        for i, j, k, a in self._coefficients:
+            value = float(a(*nums))
+            operators[i][j][k] = value
+            if k == 0:
+                static[i, j] = value
+            if k == self._orders[j]:
+                lead[i, j] = value
+            elif value != 0.0:
+                lower.append((i, j, k, value))
+        subs = dict(zip(self._args, nums))
+        loads = [_modes_at(table, nums) for _, _, _, table in self._forcings]
+        return Numbers(
+            unknowns=self.unknowns, models=models, lead=lead, lower=tuple(lower),
+            static=static, orders=self._orders,
+            initial=tuple(tuple(float(v(*nums)) for v in vals) for vals in self._initial),
+            forcing=tuple(stable(load) if load is not None else _vector(vec, nums)
+                          for (_, vec, _, _), load in zip(self._forcings, loads)),
+            forcing_at=tuple(_guarded(lambda t, fn=one: fn(t, *nums), load)
+                             for (_, _, one, _), load in zip(self._forcings, loads)),
+            forcing_modes=tuple(loads),
+            final_loads=tuple(_final_load(smooth.subs(subs), bps)
+                              for smooth, _, _, _ in self._forcings),
+            impulses=tuple((i, float(c(*nums)), float(a(*nums))) for i, c, a in self._impulses),
+            breakpoints=bps, system_poles=system,
+            operators=tuple(tuple(tuple(c) for c in row) for row in operators))
+
+    def _model(self, name, entry, nums, exact, bps, system) -> NumericModel:
+        compiled, parts, poles, ivt, fvt = entry
+        closed, derivative, modes = compiled.functions(nums)
+        final = None
+        if fvt is not None:
+            try:
+                final = _finite(fvt(*nums))
+            except (ZeroDivisionError, ValueError, OverflowError):
+                final = None
+        return NumericModel(
+            name=name, breakpoints=bps, system_poles=system,
+            response_poles=_poles(poles, nums), closed_form=closed, derivative=derivative,
+            parts=tuple((float(c(*nums)), lambda s, fn=fn: fn(s, *exact)) for c, fn in parts),
+            initial_value_limit=float(ivt(*nums)) if ivt is not None else math.nan,
+            final_value_limit=final, modes=modes)
+
+
+def _poles(table, nums) -> tuple:
+    """Complex poles (conjugates included, each as often as its multiplicity)."""
+    out = []
+    for p, value, beta in table:
+        a = complex(value(*nums))
+        for _ in range(p.multiplicity):
+            if p.kind == "real":
+                out.append(complex(a.real, 0.0))
+            else:
+                b = float(beta(*nums))
+                out += [complex(a.real, b), complex(a.real, -b)]
+    return tuple(out)
 
 
 def _scalar_heaviside(x, *args):
@@ -125,102 +300,6 @@ def _final_load(smooth: sp.Expr, breakpoints) -> float | None:
     far = max([float(b) for b in breakpoints] + [0.0]) + 1.0
     level = forcing_on_interval(smooth, sp.Float(far) + 10 ** 6)
     return None if level.has(T) else float(level)
-
-
-class ParametricModel:
-    """A derivation in symbols for ``symbols``, compiled once; :meth:`at` puts in numbers.
-
-    Everything that needs SymPy (the derivative of the solution, the s-limits, the lambdified
-    functions) is done here, once; :meth:`at` only evaluates.
-    """
-
-    def __init__(self, problem, solution, parts, response_poles, system_poles, breakpoints,
-                 impulses, symbols):
-        self.symbols = tuple(symbols)
-        args = tuple(sp.Symbol(n, positive=True) for n in self.symbols)
-        self._args = args
-        smooth = _smooth(problem.forcing)
-        self._smooth = smooth
-        lam = lambda e: sp.lambdify(args, e, modules="math")  # noqa: E731
-        self._coefficients = [lam(c) for c in problem.coefficients]
-        self._initial = [lam(v) for v in problem.initial_values]
-        self._breakpoints = [lam(sp.Integer(0) + b) for b in breakpoints]
-        self._impulses = [(lam(sp.Integer(0) + c), lam(sp.Integer(0) + a)) for c, a in impulses]
-        self._system = [(p, lam(p.value), lam(p.beta)) for p in system_poles]
-        self._response = [(p, lam(p.value), lam(p.beta)) for p in response_poles]
-        self._solution = solution
-        self._lambdified = None  # the closed form compiled as one expression, only if needed
-        self._forcing = _compile_numpy(smooth, args)
-        self._forcing_at = _compile_scalar(smooth, args)
-        self._parts = [(lam(sp.Integer(0) + c), sp.lambdify((S,) + args, r, modules=_MPMATH))
-                       for c, r in parts]
-        self._modes = _mode_table(solution, self.symbols)
-        self._forcing_modes = _mode_table(smooth, self.symbols)
-        ivt, fvt = s_limits(parts)
-        self._ivt = lam(ivt)
-        self._fvt = lam(fvt) if not fvt.has(sp.zoo, sp.nan, sp.oo) else None
-
-    def _as_expression(self):
-        """The closed form and its derivative lambdified whole (array and one-point forms),
-        for a solution that is not a sum of modes; compiled on first need."""
-        if self._lambdified is None:
-            d = sp.diff(self._solution, T)
-            self._lambdified = ((_compile_numpy(self._solution, self._args),
-                                 _compile_scalar(self._solution, self._args)),
-                                (_compile_numpy(d, self._args), _compile_scalar(d, self._args)))
-        return self._lambdified
-
-    def at(self, values: dict) -> NumericModel:
-        """The model for numbers ``values`` ({name: number}) of the symbols."""
-        nums = tuple(float(values[n]) for n in self.symbols)
-        bps = tuple(float(b(*nums)) for b in self._breakpoints)
-
-        def poles(table):
-            out = []
-            for p, value, beta in table:
-                a = complex(value(*nums))
-                for _ in range(p.multiplicity):
-                    if p.kind == "real":
-                        out.append(complex(a.real, 0.0))
-                    else:
-                        b = float(beta(*nums))
-                        out += [complex(a.real, b), complex(a.real, -b)]
-            return tuple(out)
-
-        exact = tuple(mpmath.mpf(x) for x in nums)  # a float is exact as an mpf; converted once
-
-        def part(fn):
-            return lambda s: fn(s, *exact)
-
-        def scalar(fn):
-            return lambda t: fn(t, *nums)
-
-        fvt = None
-        if self._fvt is not None:
-            try:
-                fvt = _finite(self._fvt(*nums))
-            except (ZeroDivisionError, ValueError, OverflowError):
-                fvt = None
-        subs = dict(zip(self._args, nums))
-        modes = _modes_at(self._modes, nums)
-        load = _modes_at(self._forcing_modes, nums)
-        if modes is not None:  # evaluated mode by mode: stable for any poles and switching times
-            closed, derivative = stable(modes), stable(modes.derivative())
-        else:
-            closed, derivative = (_vector(vec, nums, one) for vec, one in self._as_expression())
-        return NumericModel(
-            coefficients=tuple(float(c(*nums)) for c in self._coefficients),
-            initial=tuple(float(v(*nums)) for v in self._initial),
-            breakpoints=bps,
-            impulses=tuple((float(c(*nums)), float(a(*nums))) for c, a in self._impulses),
-            system_poles=poles(self._system), response_poles=poles(self._response),
-            closed_form=closed, derivative=derivative,
-            forcing=stable(load) if load is not None else _vector(self._forcing, nums),
-            forcing_at=_guarded(scalar(self._forcing_at), load),
-            parts=tuple((float(c(*nums)), part(fn)) for c, fn in self._parts),
-            initial_value_limit=float(self._ivt(*nums)), final_value_limit=fvt,
-            final_load=_final_load(self._smooth.subs(subs), bps),
-            modes=modes, forcing_modes=load)
 
 
 def _mode_table(expr, symbols):

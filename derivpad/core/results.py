@@ -16,7 +16,7 @@ from types import MappingProxyType
 
 import numpy as np
 
-from .numeric_model import NumericModel
+from .numeric_model import Numbers
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
 __all__ = ["Result", "ResultWriter", "engineering_results", "response_results"]
@@ -145,42 +145,101 @@ class ResultWriter:
         self.add(k, label, None, unit, "", "", reason=reason)
 
 
-def engineering_results(model: NumericModel, t_end: float, units=None, definitions=None):
-    """The results mapping (read-only) from a derivation's numeric model; each figure of the
-    response holds over all t ≥ 0 (``t_end``, the checks' window, does not bound them)."""
-    w = ResultWriter(units)
-    a = list(model.coefficients)
-    zs = list(model.system_poles)
-    _pole_results(w, a, zs)
-    _damping_results(w, a, zs)
-    modes = model.modes
-    if modes is None:
-        for key, label in (("peak", "peak response"), ("final_value", "final value")):
-            w.absent(key, label, w.y_unit, "the closed form is not a sum of modes, so its "
-                     "behaviour over all t cannot be bounded")
-        return MappingProxyType(w.out)
-    load = _load_figures(model)
-    static_peak = None
-    if a[0] != 0 and not model.impulses and load.peak is not None \
-            and math.isfinite(load.peak) and load.peak > 0:
-        static_peak = load.peak / abs(a[0])
-    if a[0] != 0 and load.final is not None:
-        w.add("static_response", "static response to the final load",
-              w.to_y(load.final / a[0]), w.y_unit,
-              "f(∞)/a_0: the final load level over the stiffness term", _VIB)
-    response_results(w, modes, model.system_poles, at_rest=not any(model.initial),
+def engineering_results(problem, numbers: Numbers, definitions=None):
+    """The results mapping (read-only) of a derivation with numbers for every parameter: the
+    poles and their figures, the modal figures of a mechanical system, then each unknown's
+    and derived quantity's response figures (keys suffixed ``_<name>`` except for the one
+    unknown of a single equation). Each figure of a response holds over all t ≥ 0."""
+    w = ResultWriter(problem.units)
+    zs = list(numbers.system_poles)
+    single = problem.size == 1
+    _pole_results(w, numbers.coefficients(0, 0) if single else None, zs)
+    if single:
+        _damping_results(w, numbers.coefficients(0, 0), zs)
+    else:
+        _pair_results(w, zs)
+        _modal_results(w, problem, numbers)
+    out = dict(w.out)
+    at_rest = not any(v for vals in numbers.initial for v in vals)
+    statics = _static_gains(numbers)
+    for name, model in numbers.models.items():
+        plain = single and name == problem.unknowns[0]
+        r = ResultWriter(problem.unit_context(name), "" if plain else name,
+                         key=(lambda k: k) if plain else (lambda k, name=name: f"{k}_{name}"))
+        if model.modes is None:
+            for key, label in (("peak", "peak response"), ("final_value", "final value")):
+                r.absent(key, label, r.y_unit, "the closed form is not a sum of modes, so its "
+                         "behaviour over all t cannot be bounded")
+        else:
+            _response_of(r, model, numbers, statics.get(name), at_rest, definitions)
+        out.update(r.out)
+    return MappingProxyType(out)
+
+
+def _response_of(w: ResultWriter, model, numbers: Numbers, static, at_rest, definitions):
+    """One response's figures, with its static response to the load where there is one."""
+    gain, note = static if static is not None else (None, "the dynamic load factor is given "
+                                                    "for the unknowns, not derived quantities")
+    load, static_peak = None, None
+    if gain is not None:
+        row, loaded = gain
+        finals = numbers.final_loads
+        if all(f is not None for f in finals):
+            w.add("static_response", "static response to the final load",
+                  w.to_y(float(sum(g * f for g, f in zip(row, finals)))), w.y_unit,
+                  _STATIC_FINAL[len(row) > 1], _VIB)
+        load = _load_figures(numbers.forcing_modes[loaded])
+        note = _load_note(numbers, loaded, load)
+        if not note and load.peak is not None and abs(row[loaded]) > 0:
+            static_peak = load.peak * abs(row[loaded])
+        elif not note:
+            note = "the load does not act statically on this unknown (zero static gain)"
+    response_results(w, model.modes, numbers.system_poles, at_rest=at_rest,
                      static_peak=static_peak, load=load, definitions=definitions,
-                     load_note=_load_note(a, model.impulses, load))
-    return MappingProxyType(w.out)
+                     load_note=note, static_how=_STATIC_PEAK[len(numbers.unknowns) > 1])
+
+
+_STATIC_FINAL = ("f(∞)/a_0: the final load level over the stiffness term",
+                 "A(0)⁻¹ f(∞): the final loads through the static stiffness matrix A(0)")
+_STATIC_PEAK = ("max|f|/a_0", "max|f_i|·|(A(0)⁻¹)_ji|, the one loaded equation i")
+
+
+def _static_gains(numbers: Numbers) -> dict:
+    """Per unknown: ((row j of A(0)⁻¹), index of the one loaded equation), or (None, why)
+    where no static response to one load exists."""
+    n = len(numbers.unknowns)
+    loaded = [i for i, f in enumerate(numbers.forcing_modes)
+              if f is None or len(f) or numbers.final_loads[i] != 0.0]
+    impulse_only = [i for i, _, _ in numbers.impulses]
+    if not loaded and impulse_only:
+        loaded = sorted(set(impulse_only))
+    why = ""
+    if np.linalg.matrix_rank(numbers.static) < n:
+        why = ("the system has no static stiffness (a_0 = 0): no static response to compare "
+               "with" if n == 1 else "the static stiffness matrix A(0) is singular: no static "
+               "response to compare with")
+    elif len(loaded) > 1:
+        why = ("loads act in more than one equation: the dynamic load factor is defined for "
+               "one load")
+    elif not loaded:
+        why = "there is no load (the response comes from the initial values alone)"
+    if why:
+        return {u: (None, why) for u in numbers.unknowns}
+    inverse = np.linalg.inv(numbers.static)
+    return {u: ((tuple(float(x) for x in inverse[j]), loaded[0]), "")
+            for j, u in enumerate(numbers.unknowns)}
 
 
 def _pole_results(w: ResultWriter, a, zs) -> None:
-    """Characteristic polynomial, poles, stability and time constants."""
+    """Characteristic polynomial (``a``: a single ODE's coefficients, else None), poles,
+    stability and time constants."""
     units = w.units
-    w.add("characteristic_polynomial", "characteristic polynomial", _polynomial_text(a), "",
-          "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")
+    if a is not None:
+        w.add("characteristic_polynomial", "characteristic polynomial", _polynomial_text(a),
+              "", "P(s) = Σ a_k s^k from the ODE's coefficients", "definition")
     w.add("poles", "poles", tuple(zs), "1/s" if units else "",
-          "roots of P(s) (the derivation's factorisation)", "definition")
+          "roots of P(s) (the derivation's factorisation)" if a is not None else
+          "roots of the characteristic determinant Δ(s) = det A(s)", "definition")
     stable = all(z.real < 0 for z in zs)
     marginal = all(z.real <= 1e-12 for z in zs) and not stable
     w.add("stability", "stability",
@@ -235,8 +294,8 @@ class LoadFigures:
     reason: str = ""
 
 
-def _load_figures(model) -> LoadFigures:
-    fm = getattr(model, "forcing_modes", None)
+def _load_figures(fm) -> LoadFigures:
+    """The load's figures from its modes (``fm``; None where the load is not a sum of modes)."""
     if fm is None:
         return LoadFigures(None, None, None, "the load is not a sum of modes")
     final, why = final_value(fm)
@@ -250,10 +309,9 @@ def _load_figures(model) -> LoadFigures:
     return LoadFigures(peak, final, ends, why)
 
 
-def _load_note(a, impulses, load) -> str:
-    if a[0] == 0:
-        return "the system has no static stiffness (a_0 = 0): no static response to compare with"
-    if impulses:
+def _load_note(numbers: Numbers, loaded: int, load: LoadFigures) -> str:
+    """Why the dynamic load factor of load ``loaded`` is not given ("" where it is)."""
+    if any(i == loaded for i, _, _ in numbers.impulses):
         return "the load includes impulses, which have no peak level"
     if load.peak is None:
         return "the load's peak cannot be found: " + load.reason
@@ -296,7 +354,7 @@ def _pct(x: float) -> str:
 
 
 def response_results(w: ResultWriter, modes, system_poles, *, at_rest, static_peak=None,
-                     load=None, definitions=None, load_note="") -> None:
+                     load=None, definitions=None, load_note="", static_how="max|f|/a_0") -> None:
     """Peak, time of peak, final value, overshoot, rise and settling (and, with a static
     response to the peak load, the dynamic load factor with its primary and residual parts)
     of one response into ``w``, each over all t ≥ 0 from its modes; absent with the reason
@@ -307,7 +365,7 @@ def response_results(w: ResultWriter, modes, system_poles, *, at_rest, static_pe
     samples: dict = {}  # the peak and the overshoot search read the same samples
     peak = _peak_results(w, modes, slope, grows, samples)
     if static_peak is not None and peak is not None:
-        _load_factor_results(w, modes, slope, grows, peak, static_peak, load)
+        _load_factor_results(w, modes, slope, grows, peak, static_peak, load, static_how)
     elif load_note and peak is not None:
         w.absent("dynamic_load_factor", "dynamic load factor", "", load_note)
     final, why = final_value(modes, system_poles)
@@ -340,11 +398,13 @@ def _peak_results(w: ResultWriter, modes, slope, grows, samples):
     return peak
 
 
-def _load_factor_results(w: ResultWriter, modes, slope, grows, peak, static_peak, load):
+def _load_factor_results(w: ResultWriter, modes, slope, grows, peak, static_peak, load,
+                         static_how):
     """The dynamic load factor, and for a pulse load its primary and residual parts."""
-    dlf_how = "DLF = sup|y| / (max|f| / a_0): the peak over the static response to the peak load"
+    dlf_how = (f"DLF = sup|y| / ({static_how}): the peak over the static response to the peak "
+               "load")
     w.add("static_response_peak_load", "static response to the peak load",
-          w.to_y(static_peak), w.y_unit, "max|f|/a_0", _BIGGS)
+          w.to_y(static_peak), w.y_unit, static_how, _BIGGS)
     if grows is not None:
         w.add("dynamic_load_factor", "dynamic load factor", math.inf, "", dlf_how, _BIGGS,
               reason="unbounded: " + grows.reason)
@@ -363,7 +423,7 @@ def _load_factor_results(w: ResultWriter, modes, slope, grows, peak, static_peak
               w.to_t(ext.time) if ext.attained else math.inf, w.t_unit, _REFINE, _SHOCK,
               note=ext.note)
         w.add(f"dynamic_load_factor_{part}", f"{part} dynamic load factor",
-              ext.size / static_peak, "", f"{part} peak / (max|f| / a_0)", _SHOCK, note=ext.note)
+              ext.size / static_peak, "", f"{part} peak / ({static_how})", _SHOCK, note=ext.note)
 
 
 def _step_figures(w: ResultWriter, modes, slope, samples, final, why, at_rest, defs) -> None:
@@ -411,3 +471,68 @@ def _step_figures(w: ResultWriter, modes, slope, samples, final, why, at_rest, d
         for k, label, unit in figures:
             if w.key(k) not in w.out:
                 w.absent(k, label, unit, f"not found: {exc}")
+
+
+def _pair_results(w: ResultWriter, zs) -> None:
+    """Natural frequency and damping ratio of each complex pole pair."""
+    pairs = sorted((z for z in zs if z.imag > 1e-12), key=abs)
+    if pairs:
+        w.add("pole_frequencies", "pole natural frequencies |p|", tuple(abs(z) for z in pairs),
+              "rad/s" if w.units else "", "|p| of each complex pole pair", _VIB)
+        w.add("pole_damping_ratios", "pole damping ratios",
+              tuple(-z.real / abs(z) + 0.0 for z in pairs), "",
+              "-Re p/|p| of each complex pole pair", _VIB)
+
+
+_EIGEN = ("generalized eigenproblem K φ = ω² M φ by scipy.linalg.eigh; mode shapes scaled to a "
+          "largest component of +1 (structural dynamics texts, e.g. Chopra, Dynamics of "
+          "Structures; from memory)")
+
+
+def _mechanical(problem, numbers: Numbers):
+    """(M, C, K) of a second-order system with symmetric M (positive definite) and K."""
+    if not problem.is_mechanical:
+        return None
+    M, C, K = (numbers.matrix(k) for k in (2, 1, 0))
+    if not (np.allclose(M, M.T) and np.allclose(K, K.T)):
+        return None
+    if np.any(np.linalg.eigvalsh(M) <= 0):
+        return None
+    return M, C, K
+
+
+def _modal_results(w: ResultWriter, problem, numbers: Numbers) -> None:
+    """Undamped natural frequencies and mode shapes of M x'' + C x' + K x = f (symmetric M
+    positive definite, symmetric K); modal damping ratios where the damping is proportional.
+
+    Frequencies come from the generalized eigenproblem K φ = ω² M φ (``scipy.linalg.eigh``);
+    ζ_r = φ_rᵀ C φ_r / (2 ω_r) with mass-normalized φ, stated only where Φᵀ C Φ is diagonal.
+    """
+    mech = _mechanical(problem, numbers)
+    if mech is None:
+        return
+    from scipy.linalg import eigh
+    M, C, K = mech
+    w2, phi = eigh(K, M)
+    if not np.all(w2 > 0):
+        return
+    omegas = np.sqrt(w2)
+    shapes = []
+    for r in range(phi.shape[1]):
+        v = phi[:, r]
+        shapes.append(tuple(float(x) for x in v / v[np.argmax(np.abs(v))]))
+    rad, hz = ("rad/s", "Hz") if w.units else ("", "")
+    w.add("natural_frequencies", "undamped natural frequencies ω_r", tuple(map(float, omegas)),
+          rad, "ω_r² = eigenvalues of K φ = ω² M φ", _EIGEN)
+    w.add("natural_frequencies_hz", "undamped natural frequencies f_r",
+          tuple(float(om / (2 * math.pi)) for om in omegas), hz, "f_r = ω_r/(2π)", _EIGEN)
+    w.add("mode_shapes", "mode shapes φ_r (" + ", ".join(problem.unknowns) + ")",
+          tuple(shapes), "", "eigenvectors of K φ = ω² M φ, largest component +1", _EIGEN)
+    modal_c = phi.T @ C @ phi
+    diag = np.abs(np.diag(modal_c))
+    off = np.abs(modal_c - np.diag(np.diag(modal_c)))
+    if np.any(C != 0) and off.max(initial=0.0) <= 1e-9 * max(diag.max(initial=0.0), 1e-300):
+        w.add("modal_damping_ratios", "modal damping ratios ζ_r",
+              tuple(float(c / (2 * om)) for c, om in zip(np.diag(modal_c), omegas)), "",
+              "ζ_r = φ_rᵀ C φ_r / (2 ω_r), mass-normalized φ (damping proportional: "
+              "Φᵀ C Φ diagonal)", _EIGEN)

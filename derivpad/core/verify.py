@@ -67,18 +67,18 @@ def _finite(x):
 
 @dataclass(frozen=True, slots=True, eq=False)
 class Samples:
-    """Sampled arrays a verification figure needs: closed form against numerical integration."""
+    """Sampled arrays a verification figure needs: each unknown's closed form against the
+    numerical integration, and each equation's forcing, on one grid of times."""
 
     times: "object"          # numpy array of t
-    closed_form: "object"    # y(t) from the derivation
-    integrated: "object"     # y(t) from solve_ivp
-    forcing: "object"        # f(t)
+    closed_form: dict        # unknown → x(t) from the derivation
+    integrated: dict         # unknown → x(t) from the integrator
+    forcing: dict            # equation label ("f", or "f1", "f2", ...) → f_i(t)
     breakpoints: tuple[float, ...]
 
-    @property
-    def difference(self):
-        """|closed form - integration| at each sample time."""
-        return abs(self.closed_form - self.integrated)
+    def difference(self, name: str):
+        """|closed form - integration| of one unknown at each sample time."""
+        return abs(self.closed_form[name] - self.integrated[name])
 
 
 @dataclass(frozen=True, slots=True, eq=False)
@@ -150,131 +150,162 @@ def _step_value(x, *_):
     return 1 if x > 0 else 0
 
 
-def _symbolic_zero(parts_d, a, forcing, starts) -> bool:
-    """True when the residual on every interval expands to zero (cheap cases only)."""
-    for i, start in enumerate(starts):
-        end = starts[i + 1] if i + 1 < len(starts) else None
-        mid = (start + end) / 2 if end is not None else start + 1
-        active = [(c, ders) for c, ders in parts_d if c <= start]
-        lhs = sp.Add(*[a[k] * ders[k].subs(TAU, T - c) for c, ders in active
-                       for k in range(len(a))])
-        residual = lhs - forcing_on_interval(forcing, mid)
-        if sp.expand(residual.rewrite(sp.exp)) != 0:
-            return False
-    return True
-
-
-def _numeric_ode_error(parts_d, a, forcing, starts) -> float:
-    """Max over sample points of |Σ a_k y^(k) - f| / scale, in 30-digit arithmetic.
-
-    The scale is Σ_k |a_k| Σ_j |d^k/dt^k term_j| + |f| over the solution's additive terms:
-    where terms cancel (y ≈ t^9/9! near a switching time), the residual is judged against
-    the size of what was added, which is what the working precision bounds.
-    """
-    fns = []
-    for c, ders in parts_d:
-        rows = [list(sp.Add.make_args(sp.expand(d, power_exp=False, trig=False))) for d in ders]
-        fns.append((c, sp.lambdify(TAU, rows, modules="mpmath")))
-    f = sp.lambdify(T, forcing, modules=[{"Heaviside": _step_value,
-                                          "DiracDelta": lambda *_: 0}, "mpmath"])
-    worst = mpmath.mpf(0)
-    with mpmath.workdps(_DIGITS):
-        ak = [mpmath.mpf(sp.N(x, _DIGITS)) for x in a]
-        for i, start in enumerate(starts):
-            end = starts[i + 1] if i + 1 < len(starts) else None
-            for p in _points(start, end):
-                x = mpmath.mpf(sp.N(p, _DIGITS))
-                total = mpmath.mpf(0)
-                scale = mpmath.mpf(0)
-                for c, fn in fns:
-                    if c <= start:
-                        rows = fn(x - mpmath.mpf(sp.N(c, _DIGITS)))
-                        for k, row in enumerate(rows):
-                            total += ak[k] * sum(row)
-                            scale += abs(ak[k]) * sum(abs(v) for v in row)
-                fx = mpmath.mpf(f(x))
-                scale = scale + abs(fx) or mpmath.mpf(1)
-                worst = max(worst, abs(total - fx) / scale)
-    return float(worst)
-
-
-def self_check(problem, parts, breakpoints, impulses, conditions,
-               tolerance=None, preferred=None) -> tuple[Check, ...]:
-    """Back-substitution into the ODE, the initial conditions and the jump conditions.
+def self_check(problem, stages, tolerance=None, preferred=None) -> tuple[Check, ...]:
+    """Back-substitution into every equation, the initial values at 0⁺, the jumps.
 
     Parameters
     ----------
     problem : Problem
-    parts : sequence of (delay c, g(τ)): the solution is Σ g(t - c)·u(t - c)
-    breakpoints : the times after 0 where the forcing switches or strikes
-    impulses : mapping from time to impulse area
-    conditions : relations the derivation assumed (used to pick sample values)
+    stages : Stages (each unknown's delayed parts (c, g(τ)), the breakpoints, the impulses and
+        the conditions the derivation assumed, used to pick sample values)
     tolerance : float, optional
         Relative residual allowed; by default 1e-20 for exact work, 1e-9 with numerical poles.
     preferred : mapping, optional
         Numbers for symbolic parameters to check at first (the caller's values=), when they
         satisfy the conditions.
     """
-    floaty = any(g.has(sp.Float) for _, g in parts)
+    floaty = any(g.has(sp.Float) for ds in stages.delayed_solutions.values() for _, g in ds)
     tol = tolerance if tolerance is not None else \
         DEFAULT_TOLERANCES["numeric" if floaty else "exact"]
-    syms = sorted({x for c, g in parts for x in (g.free_symbols | (sp.Integer(0) + c).free_symbols)}
-                  | {x for b in breakpoints for x in b.free_symbols}
-                  | {x for ak in problem.coefficients for x in ak.free_symbols}
-                  | (problem.forcing.free_symbols - {T}), key=lambda x: x.name)
-    syms = [x for x in syms if x not in (T, TAU)]
-    values = _sample_values(syms, conditions, preferred)
+    syms = sorted({sp.Symbol(nm, positive=True) for nm in problem.symbols}, key=lambda x: x.name)
+    values = _sample_values(syms, list(stages.conditions), preferred)
     sampled = f"; symbolic parameters sampled at {values}" if values else ""
-    n = problem.order
-    a = [ak.subs(values) for ak in problem.coefficients]
-    forcing = problem.forcing.subs(values)
-    parts_d = []
-    for c, g in parts:
-        c = (sp.Integer(0) + c).subs(values)
-        ders = [g.subs(values)]
-        for _ in range(n):
-            ders.append(sp.diff(ders[-1], TAU))
-        parts_d.append((c, ders))
-    starts = [sp.Integer(0)] + sorted({(sp.Integer(0) + b).subs(values) for b in breakpoints},
-                                      key=lambda v: float(v))
-    size = sum(sp.count_ops(g) for _, g in parts)
-    if not floaty and size < 250 and len(starts) <= 4 and _symbolic_zero(parts_d, a, forcing,
-                                                                           starts):
+    sub = _Substituted(problem, stages, values)
+    size = sum(sp.count_ops(g) for ds in stages.delayed_solutions.values() for _, g in ds)
+    if not floaty and size < 250 and len(sub.starts) <= 4 and sub.residuals_vanish():
         ode_err, how = 0.0, "expanded to zero symbolically"
     else:
-        ode_err = _numeric_ode_error(parts_d, a, forcing, starts)
+        ode_err = sub.numeric_residual()
         how = f"residuals at sample points in {_DIGITS}-digit arithmetic"
+    one = problem.size == 1
     checks = [Check("ODE on every interval",
-                    "The solution was substituted into the ODE on each open interval between "
-                    f"breakpoints ({how}){sampled}.", tol, ode_err, ode_err <= tol)]
-
-    def start_values(at):
-        return [sp.Add(*[ders[k].subs(TAU, 0) for c, ders in parts_d if c == at])
-                for k in range(n)]
-
-    def area_at(at):
-        return sp.Add(*[(sp.Integer(0) + v).subs(values) for c, v in impulses.items()
-                        if (sp.Integer(0) + c).subs(values) == at])
-
-    got = start_values(sp.Integer(0))
-    expected = [iv.subs(values) for iv in problem.initial_values]
-    expected[-1] += area_at(sp.Integer(0)) / a[n]
-    ic_err = max(_abs_rel(g, e) for g, e in zip(got, expected))
+                    ("The solution was substituted into the ODE" if one else
+                     "Each unknown was substituted into every equation")
+                    + f" on each open interval between breakpoints ({how}){sampled}.",
+                    tol, ode_err, ode_err <= tol)]
+    ic_err = sub.mismatch(sp.Integer(0), lambda j, m: [v.subs(values)
+                                                       for v in problem.initial_values[j]])
     checks.append(Check("Initial conditions at 0+",
                         "y and its derivatives up to order n-1 at t = 0+, against the 0⁻ values "
-                        "(an impulse at 0 adds its area over the leading coefficient to y^(n-1)).",
+                        "(an impulse at 0 adds its area over the leading coefficient to y^(n-1))."
+                        if one else
+                        "Each unknown and its derivatives below its order at t = 0+, against "
+                        "the 0⁻ values (an impulse J at 0 adds E⁻¹J to the highest ones).",
                         tol, ic_err, ic_err <= tol))
-    if len(starts) > 1:
-        # Parts switched on earlier are smooth at c, so the jump is what starts at c.
-        jump_err = 0.0
-        for c in starts[1:]:
-            want = [sp.Integer(0)] * (n - 1) + [area_at(c) / a[n]]
-            jump_err = max(jump_err, max(_abs_rel(g, e) for g, e in zip(start_values(c), want)))
+    if len(sub.starts) > 1:
+        # parts switched on earlier are smooth at c, so the jump is what starts at c
+        jump_err = max(sub.mismatch(c, lambda j, m: [sp.Integer(0)] * m)
+                       for c in sub.starts[1:])
         checks.append(Check("Jump conditions at breakpoints",
                             "y … y^(n-2) continuous at each breakpoint; the jump in y^(n-1) "
-                            "equals the impulse area there over the leading coefficient.",
+                            "equals the impulse area there over the leading coefficient."
+                            if one else
+                            "Below each unknown's highest state derivative, continuity at each "
+                            "breakpoint; the highest ones jump by E⁻¹J for an impulse J there.",
                             tol, jump_err, jump_err <= tol))
     return tuple(checks)
+
+
+class _Substituted:
+    """The problem and each unknown's delayed parts with sample values put in, and the parts'
+    derivatives up to the orders the equations use."""
+
+    def __init__(self, problem, stages, values):
+        self.problem = problem
+        self.values = values
+        self.ops = [[[a.subs(values) for a in c] for c in row] for row in problem.operators]
+        self.forcings = [f.subs(values) for f in problem.forcings]
+        self.impulses = [(i, (sp.Integer(0) + c).subs(values), (sp.Integer(0) + a).subs(values))
+                         for i, c, a in stages.impulses]
+        self.ders = {}
+        for j, u in enumerate(problem.unknowns):
+            top = max(max(len(row[j]) for row in self.ops) - 1, problem.orders[j])
+            out = []
+            for c, g in stages.delayed_solutions[u]:
+                d = [g.subs(values)]
+                for _ in range(top):
+                    d.append(sp.diff(d[-1], TAU))
+                out.append(((sp.Integer(0) + c).subs(values), d))
+            self.ders[u] = out
+        self.starts = [sp.Integer(0)] + sorted({(sp.Integer(0) + b).subs(values)
+                                                for b in stages.breakpoints}, key=float)
+
+    def _lhs(self, i, start, at):
+        """Σ_j Σ_k a_ijk x_j^(k) of equation i on the interval from ``start``, at τ-shifted
+        time ``at`` (a SymPy expression in t)."""
+        return sp.Add(*[a * d[k].subs(TAU, at - c)
+                        for j, u in enumerate(self.problem.unknowns)
+                        for c, d in self.ders[u] if c <= start
+                        for k, a in enumerate(self.ops[i][j]) if a != 0])
+
+    def residuals_vanish(self) -> bool:
+        """True when every equation's residual expands to zero on every interval (cheap
+        cases only)."""
+        for s_i, start in enumerate(self.starts):
+            end = self.starts[s_i + 1] if s_i + 1 < len(self.starts) else None
+            mid = (start + end) / 2 if end is not None else start + 1
+            for i in range(self.problem.size):
+                residual = self._lhs(i, start, T) - forcing_on_interval(self.forcings[i], mid)
+                if sp.expand(residual.rewrite(sp.exp)) != 0:
+                    return False
+        return True
+
+    def numeric_residual(self) -> float:
+        """Max over sample points of |Σ a x^(k) - f| / scale in 30-digit arithmetic; the scale
+        is the size of what was added (Σ |a_k| Σ |term|), which is what the working precision
+        bounds where terms cancel (y ≈ t⁹/9! near a switching time)."""
+        fns = {u: [(c, sp.lambdify(TAU, [list(sp.Add.make_args(
+            sp.expand(x, power_exp=False, trig=False))) for x in d], modules="mpmath"))
+            for c, d in self.ders[u]] for u in self.problem.unknowns}
+        fs = [sp.lambdify(T, f, modules=[{"Heaviside": _step_value,
+                                          "DiracDelta": lambda *_: 0}, "mpmath"])
+              for f in self.forcings]
+        worst = mpmath.mpf(0)
+        with mpmath.workdps(_DIGITS):
+            for s_i, start in enumerate(self.starts):
+                end = self.starts[s_i + 1] if s_i + 1 < len(self.starts) else None
+                for p in _points(start, end):
+                    x = mpmath.mpf(sp.N(p, _DIGITS))
+                    rows = {u: [(c, fn(x - mpmath.mpf(sp.N(c, _DIGITS))))
+                                for c, fn in fns[u] if c <= start] for u in fns}
+                    for i in range(self.problem.size):
+                        total, scale = mpmath.mpf(0), mpmath.mpf(0)
+                        for j, u in enumerate(self.problem.unknowns):
+                            for _, r in rows[u]:
+                                for k, a in enumerate(self.ops[i][j]):
+                                    if a == 0:
+                                        continue
+                                    ak = mpmath.mpf(sp.N(a, _DIGITS))
+                                    total += ak * sum(r[k])
+                                    scale += abs(ak) * sum(abs(v) for v in r[k])
+                        fx = mpmath.mpf(fs[i](x))
+                        scale = scale + abs(fx) or mpmath.mpf(1)
+                        worst = max(worst, abs(total - fx) / scale)
+        return float(worst)
+
+    def mismatch(self, at, before) -> float:
+        """Worst error of the values at ``at`` against ``before(j, m)`` plus the jump E⁻¹J
+        there (the highest ones are not compared where E is singular and J acts)."""
+        n = self.problem.size
+        orders = self.problem.orders
+        lead = sp.Matrix(n, n, lambda i, j: self.ops[i][j][orders[j]]
+                         if orders[j] < len(self.ops[i][j]) else 0)
+        J = sp.zeros(n, 1)
+        for i, c, a in self.impulses:
+            if c == at:
+                J[i] += a
+        dx = lead.inv() * J if lead.det() != 0 else None
+        err = 0.0
+        for j, u in enumerate(self.problem.unknowns):
+            got = [sp.Add(*[d[k].subs(TAU, 0) for c, d in self.ders[u] if c == at])
+                   for k in range(orders[j])]
+            want = list(before(j, len(got)))
+            if dx is not None:
+                want[-1] += dx[j]
+            top = len(got) if dx is not None or J.is_zero_matrix else len(got) - 1
+            for k in range(top):
+                err = max(err, _abs_rel(got[k], want[k]))
+        return err
 
 
 def _abs_rel(got: sp.Expr, expected: sp.Expr) -> float:

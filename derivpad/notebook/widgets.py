@@ -14,7 +14,6 @@ exact ``params={...}`` line for the calc record.
 from __future__ import annotations
 
 from ..core.derivation import Derivation
-from ..core.system_derivation import SystemDerivation
 from ..core.family import DerivationFamily, what_changed
 from ..errors import DerivpadError, ParameterError, import_extra
 
@@ -32,9 +31,8 @@ def _make_view_class():
     class DerivationView(widgets.VBox):
         """Controls, status and the derivation; ``derivation`` holds the current result."""
 
-        derivation = traitlets.Union([traitlets.Instance(Derivation),
-                                      traitlets.Instance(SystemDerivation)], allow_none=True,
-                                     help="the derivation shown; replaced on every change")
+        derivation = traitlets.Instance(Derivation, allow_none=True,
+                                        help="the derivation shown; replaced on every change")
         status = traitlets.Unicode("", help="what the last change did").tag(sync=True)
 
         def __init__(self, family: DerivationFamily, controls):
@@ -117,7 +115,7 @@ def DerivationView(*args, **kwargs):  # noqa: N802 - a class made on first use
 
 
 def explore(equation, ics=None, params=None, controls=None, *, unknown=None, units=None,
-            regime: str = "underdamped", tolerances=None, window=None):
+            regime: str = "underdamped", tolerances=None, window=None, derived=None):
     """A live explorer: sliders for ``controls`` ({name: (low, high)}), the derivation below.
 
     Parameters
@@ -127,12 +125,13 @@ def explore(equation, ics=None, params=None, controls=None, *, unknown=None, uni
         ``params`` (a number, or a number with a unit: the slider then moves in that unit).
     controls : mapping
         Parameter name → (low, high) range of its slider.
-    unknown, units, regime, tolerances, window
-        As for ``derive()``.
+    unknown, units, regime, tolerances, window, derived
+        As for ``derive()``; a list of equations (a coupled system) takes the same route.
     """
     if not controls:
         raise ParameterError("explore() needs controls={'name': (low, high)} for at least one "
                              "parameter", "controls")
     family = DerivationFamily(equation, ics, params, vary=list(controls), unknown=unknown,
-                              units=units, regime=regime, tolerances=tolerances, window=window)
+                              units=units, regime=regime, tolerances=tolerances, window=window,
+                              derived=derived)
     return DerivationView(family, dict(controls))

@@ -30,11 +30,15 @@ def _ticker():
     return ticker
 
 
+_COLOURS = ("#1f3f8f", "#8f3f1f", "#2e7d4f", "#6f2f8f", "#8f7f1f", "#1f7f8f")
+
+
 class _Panels:
-    """The figure's three panels and their lines, made once; :meth:`fill` draws a derivation.
+    """The figure's three panels, made once; :meth:`fill` draws a derivation.
 
     Making axes and ticks is most of matplotlib's cost, so a view that redraws on every change
-    keeps one ``_Panels`` and fills it again (see :class:`LiveFigure`).
+    keeps one ``_Panels`` and fills it again (see :class:`LiveFigure`); the lines of each
+    unknown and each equation's forcing are made on first need and reused.
     """
 
     def __init__(self, width: float, height: float):
@@ -44,13 +48,7 @@ class _Panels:
         fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
         self.ax_y, self.ax_f, self.ax_e = fig.subplots(3, 1, sharex=True,
                                                        height_ratios=[3, 1.3, 1.3])
-        (self.integrated,) = self.ax_y.plot([], [], color="0.65", lw=3.2,
-                                            label="numerical integration (odeint)")
-        (self.closed,) = self.ax_y.plot([], [], color="#1f3f8f", lw=1.2,
-                                        label="closed form (this derivation)")
-        (self.forcing,) = self.ax_f.plot([], [], color="#8f3f1f", lw=1.2)
         self.ax_e.set_yscale("log")
-        (self.error,) = self.ax_e.plot([], [], color="0.2", lw=0.8)
         # plain "1e-06" tick labels: the default 10^{-6} labels go through mathtext, which
         # costs more than all the rest of the figure
         self.ax_e.yaxis.set_major_formatter(ticker.LogFormatter(labelOnlyBase=True))
@@ -58,7 +56,24 @@ class _Panels:
         self.ax_e.yaxis.set_major_locator(ticker.LogLocator(numticks=6))
         for ax in (self.ax_y, self.ax_f, self.ax_e):
             ax.grid(True, lw=0.3, color="0.85")
+        self._lines: list = []    # per unknown: (integrated, closed, error)
+        self._forcing: list = []  # per equation
         self._marks: list = []
+
+    def _unknown_lines(self, i: int):
+        while len(self._lines) <= i:
+            colour = _COLOURS[len(self._lines) % len(_COLOURS)]
+            (integrated,) = self.ax_y.plot([], [], color="0.65", lw=3.2)
+            (closed,) = self.ax_y.plot([], [], color=colour, lw=1.2)
+            (error,) = self.ax_e.plot([], [], color=colour if self._lines else "0.2", lw=0.8)
+            self._lines.append((integrated, closed, error))
+        return self._lines[i]
+
+    def _forcing_line(self, i: int):
+        while len(self._forcing) <= i:
+            colour = ("#8f3f1f", "#2e7d4f", "#6f2f8f", "#1f3f8f")[len(self._forcing) % 4]
+            self._forcing.append(self.ax_f.plot([], [], color=colour, lw=1.2)[0])
+        return self._forcing[i]
 
     def fill(self, d, t_max: float | None = None):
         samples = d.verification.samples
@@ -69,30 +84,61 @@ class _Panels:
         for mark in self._marks:
             mark.remove()
         self._marks = []
-        units = d.problem.units
-        y_unit = units.unknown_display if units else ""
-        t_unit = units.time_display if units else ""
-        f_unit = units.forcing_si if units else ""
-        ys = display_factor(units.unknown_si, y_unit) if units else 1.0
-        y0 = display_offset(units.unknown_si, y_unit) if units else 0.0
-        ts = display_factor("s", t_unit) if units else 1.0
+        p = d.problem
+        one = p.size == 1
+        t_unit = p.units.time_display if p.units else ""
+        ts = display_factor("s", t_unit) if p.units else 1.0
         t = samples.times * ts
         keep = t <= (t_max if t_max is not None else np.inf)
-        self.integrated.set_data(t[keep], samples.integrated[keep] * ys + y0)
-        self.closed.set_data(t[keep], samples.closed_form[keep] * ys + y0)
-        self.forcing.set_data(t[keep], samples.forcing[keep])
-        err = samples.difference * ys
-        floor = max(float(np.max(np.abs(samples.closed_form))) * ys * 1e-17, 1e-300)
-        self.error.set_data(t[keep], np.maximum(err[keep], floor))
+        for line in (x for trio in self._lines for x in trio):
+            line.set_data([], [])
+        for line in self._forcing:
+            line.set_data([], [])
+        y_units = []
+        for i, u in enumerate(p.unknowns):
+            ctx = p.unit_context(u)
+            y_unit = ctx.unknown_display if ctx else ""
+            ys = display_factor(ctx.unknown_si, y_unit) if ctx else 1.0
+            y0 = display_offset(ctx.unknown_si, y_unit) if ctx else 0.0
+            y_units.append(y_unit)
+            integrated, closed, error = self._unknown_lines(i)
+            closed_form = samples.closed_form[u]
+            integrated.set_data(t[keep], samples.integrated[u][keep] * ys + y0)
+            closed.set_data(t[keep], closed_form[keep] * ys + y0)
+            floor = max(float(np.nanmax(np.abs(closed_form))) * ys * 1e-17, 1e-300)
+            error.set_data(t[keep], np.maximum(samples.difference(u)[keep] * ys, floor))
+            closed.set_label("closed form (this derivation)" if one else f"{u} (closed form)")
+            integrated.set_label("numerical integration (odeint)" if i == 0 else "_")
+        for i, (label, values) in enumerate(samples.forcing.items()):
+            line = self._forcing_line(i)
+            if one or np.any(values != 0):
+                line.set_data(t[keep], values[keep])
+            line.set_label(label)
         for ax in (self.ax_y, self.ax_f, self.ax_e):
             ax.relim()
             ax.autoscale_view()
-        self.ax_y.set_ylabel(f"{d.unknown}(t)" + (f" [{y_unit}]" if y_unit else ""))
-        self.ax_f.set_ylabel("f(t)" + (f" [{f_unit}]" if f_unit else ""))
-        self.ax_e.set_ylabel("|difference|" + (f" [{y_unit}]" if y_unit else ""))
-        self.ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
+        self._labels(p, y_units, t_unit)
         self._marks.append(self.ax_y.legend(loc="best", fontsize=8, frameon=False))
-        for c, area in d.impulses:
+        if not one:
+            self._marks.append(self.ax_f.legend(loc="best", fontsize=7, frameon=False))
+        self._mark_switches(d, samples, ts)
+        status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
+        title = p.text if one else f"{p.size} coupled equations"
+        self.ax_y.set_title(f"{title}  —  {status}", fontsize=9, loc="left")
+        return self.fig
+
+    def _labels(self, p, y_units, t_unit) -> None:
+        shown = sorted({u for u in y_units if u})
+        unit_text = f" [{', '.join(shown)}]" if shown else ""
+        f_unit = p.units.forcing_si if p.units and p.size == 1 else ""
+        self.ax_y.set_ylabel((f"{p.unknowns[0]}(t)" if p.size == 1 else "unknowns") + unit_text)
+        self.ax_f.set_ylabel(("f(t)" if p.size == 1 else "f_i(t)")
+                             + (f" [{f_unit}]" if f_unit else ""))
+        self.ax_e.set_ylabel("|difference|" + unit_text)
+        self.ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
+
+    def _mark_switches(self, d, samples, ts) -> None:
+        for _, c, area in d.impulses:
             self._marks.append(self.ax_f.annotate(
                 f"impulse {float(area):.4g}", (float(c) * ts, 0), fontsize=7, xytext=(2, 8),
                 textcoords="offset points"))
@@ -101,66 +147,12 @@ class _Panels:
         for ax in (self.ax_y, self.ax_f, self.ax_e):
             for b in samples.breakpoints:
                 self._marks.append(ax.axvline(b * ts, color="0.5", lw=0.6, ls=":"))
-        status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
-        self.ax_y.set_title(f"{d.problem.text}  —  {status}", fontsize=9, loc="left")
-        return self.fig
 
 
 def verification_figure(d, *, t_max: float | None = None, width: float = 7.5,
                         height: float = 6.5):
     """A matplotlib Figure of the derivation's verification samples."""
-    if isinstance(getattr(d.verification.samples, "closed_form", None), dict):
-        return _system_figure(d, t_max, width, height)
     return _Panels(width, height).fill(d, t_max)
-
-
-_COLOURS = ("#1f3f8f", "#8f3f1f", "#2e7d4f", "#6f2f8f", "#8f7f1f", "#1f7f8f")
-
-
-def _system_figure(d, t_max, width, height):
-    """A system's figure: every unknown's closed form over its integration, each equation's
-    forcing, and each unknown's difference on a log axis (SI units)."""
-    samples = d.verification.samples
-    ticker = _ticker()
-    fig = _figure_class()(figsize=(width, height))
-    fig.subplots_adjust(left=0.12, right=0.98, top=0.95, bottom=0.08, hspace=0.12)
-    ax_y, ax_f, ax_e = fig.subplots(3, 1, sharex=True, height_ratios=[3, 1.3, 1.3])
-    ctx0 = d.problem.unit_context(d.unknowns[0]) if d.problem.units else None
-    t_unit = ctx0.time_display if ctx0 else ""
-    ts = display_factor("s", t_unit) if ctx0 else 1.0
-    t = samples.times * ts
-    keep = t <= (t_max if t_max is not None else np.inf)
-    for i, u in enumerate(d.unknowns):
-        colour = _COLOURS[i % len(_COLOURS)]
-        ax_y.plot(t[keep], samples.integrated[u][keep], color="0.7", lw=3.0)
-        ax_y.plot(t[keep], samples.closed_form[u][keep], color=colour, lw=1.2,
-                  label=f"{u} (closed form)")
-        floor = max(float(np.max(np.abs(samples.closed_form[u]))) * 1e-17, 1e-300)
-        ax_e.plot(t[keep], np.maximum(samples.difference(u)[keep], floor), color=colour, lw=0.8)
-    ax_y.plot([], [], color="0.7", lw=3.0, label="numerical integration (odeint)")
-    ax_y.legend(loc="best", fontsize=8, frameon=False)
-    units = sorted({d.problem.unit_context(u).unknown_si for u in d.unknowns}) if ctx0 else []
-    ax_y.set_ylabel("unknowns" + (f" [{', '.join(units)}]" if units else ""))
-    for i, (label, values) in enumerate(samples.forcing.items()):
-        if np.any(values != 0):
-            ax_f.plot(t[keep], values[keep], color=_COLOURS[i % len(_COLOURS)], lw=1.2,
-                      label=label)
-    if ax_f.lines:
-        ax_f.legend(loc="best", fontsize=7, frameon=False)
-    ax_f.set_ylabel("f_i(t)")
-    ax_e.set_yscale("log")
-    ax_e.yaxis.set_major_formatter(ticker.LogFormatter(labelOnlyBase=True))
-    ax_e.yaxis.set_minor_locator(ticker.NullLocator())
-    ax_e.yaxis.set_major_locator(ticker.LogLocator(numticks=6))
-    ax_e.set_ylabel("|difference|")
-    ax_e.set_xlabel("t" + (f" [{t_unit}]" if t_unit else ""))
-    for ax in (ax_y, ax_f, ax_e):
-        for b in samples.breakpoints:
-            ax.axvline(b * ts, color="0.5", lw=0.6, ls=":")
-        ax.grid(True, lw=0.3, color="0.85")
-    status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
-    ax_y.set_title(f"{len(d.unknowns)} coupled equations  —  {status}", fontsize=9, loc="left")
-    return fig
 
 
 class LiveFigure:
@@ -172,8 +164,6 @@ class LiveFigure:
         self._size = (width, height)
 
     def svg(self, d, t_max: float | None = None) -> str:
-        if isinstance(getattr(d.verification.samples, "closed_form", None), dict):
-            return figure_svg(d, t_max=t_max)  # a system: drawn afresh
         if self._panels is None:
             self._panels = _Panels(*self._size)
         return _svg_text(self._panels.fill(d, t_max))

@@ -15,6 +15,7 @@ import html
 import sympy as sp
 
 from ..core.derivation import Derivation
+from ..core.labels import initial_value_label
 from ..core.steps import Step
 from ..core.verify import Check, Verification
 from .base import Renderer
@@ -82,16 +83,11 @@ def _once(obj, kind: str, digits: int, make) -> str:
 
 def content_id(d) -> str:
     """A short id derived from the derivation's content: the same input, the same id."""
-    if not isinstance(d, Derivation):  # a system
-        key = "\n".join([d.problem.text, repr(d.problem.operators), repr(d.problem.forcings),
-                         repr(d.problem.initial_values), repr(d.problem.parameters),
-                         repr(sorted(d.solution.items())), repr(d.values)])
-        return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
     p = d.problem
-    fixed = _once(p, "key", 0, lambda: "\n".join([p.text, repr(p.coefficients), repr(p.forcing),
+    fixed = _once(p, "key", 0, lambda: "\n".join([p.text, repr(p.operators), repr(p.forcings),
                                                  repr(p.initial_values), repr(p.parameters)]))
-    key = "\n".join([fixed, _once(d.solution, "repr", 0, lambda: repr(d.solution))]
-                    + ([repr(d.values)] if d.values else []))
+    solved = _once(d.solutions, "repr", 0, lambda: repr(sorted(d.solutions.items(), key=str)))
+    key = "\n".join([fixed, solved] + ([repr(d.values)] if d.values else []))
     return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
 
 
@@ -187,34 +183,36 @@ class HtmlRenderer(Renderer):
 
     def _render_Derivation(self, d: Derivation) -> str:
         did = content_id(d)
-        y = d.unknown
+        p = d.problem
+        digits = self.settings["float_digits"]
         out = [f'<div class="derivpad" id="{did}">']
         if self.settings["style"]:
             out.append(f"<style>{STYLE}</style>")
         out.append('<div class="dp-head">')
-        digits = self.settings["float_digits"]
-        equation = _once(d.problem, "equation", digits,
-                         lambda: latex_expr(d.problem.equation, float_digits=digits))
-        out.append(f'<div class="dp-label">Equation</div><div class="dp-math">'
-                   f'{self._math(equation)}</div>')
-        ics = ", \\quad ".join(f"{_expr_latex(line.lhs, digits)} = "
-                               f"{_expr_latex(line.rhs, digits)}"
-                               for line in d.steps[0].lines[1:1 + d.problem.order])
+        equations = _once(p, "equation", digits, lambda: _aligned(
+            [(latex_expr(p.lhs(i), float_digits=digits),
+              latex_expr(p.forcings[i], float_digits=digits)) for i in range(p.size)]))
+        out.append(f'<div class="dp-label">{"Equation" if p.size == 1 else "System"}</div>'
+                   f'<div class="dp-math">{self._math(equations)}</div>')
+        ics = ", \\quad ".join(f"{latex_expr(initial_value_label(u, k))} = "
+                                f"{_expr_latex(v, digits)}"
+                                for u, vals in zip(p.unknowns, p.initial_values)
+                                for k, v in enumerate(vals))
         out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-        units = d.problem.units
-        written = (f" (SI: {_esc(y)} in {_esc(units.unknown_si or '1')}, t in s)" if units
-                   else " (t in s)")
-        out.append(f'<div class="dp-label">Solution{written}</div><div class="dp-math">'
-                   f'{self._math(y + "(t) = " + _expr_latex(d.solution, digits))}</div>')
+        out.append(f'<div class="dp-label">Solution{_written_in(p)}</div><div class="dp-math">'
+                   f'{self._math(_solution_tex(p, d.solutions, digits))}</div>')
         if d.values:
             given = ", \\quad ".join(
-                f"{latex_expr(sp.Symbol(name))} = {format_value(v, self.settings['float_digits'])}"
+                f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
                 + (f"\\ \\text{{{unit}}}" if unit else "")
                 for name, v, unit in d.value_table())
+            evaluated = d.evaluated_solution
+            if p.size == 1:
+                evaluated = {p.unknowns[0]: evaluated}
             out.append('<div class="dp-label">With the values used for the checks and results'
                        f'</div><div class="dp-math">{self._math(given)}</div>'
                        f'<div class="dp-math">'
-                       f'{self._math(y + "(t) = " + latex_expr(d.evaluated_solution))}</div>')
+                       f'{self._math(_solution_tex(p, evaluated, digits))}</div>')
         out.append(f"<div>{self.badge(d.verification)}</div></div>")
         out += self.body(d, did)
         return "\n".join(part for part in out if part)
@@ -246,44 +244,25 @@ class HtmlRenderer(Renderer):
         return out
 
 
-_ALIGNED = "\\begin{aligned}%s\\end{aligned}"
+def _aligned(rows) -> str:
+    """One relation as is; several aligned at their equals signs."""
+    if len(rows) == 1:
+        return f"{rows[0][0]} = {rows[0][1]}"
+    return "\\begin{aligned}" + r" \\ ".join(f"{a} &= {b}" for a, b in rows) + \
+        "\\end{aligned}"
 
 
-def _render_system(self, d) -> str:
-    """HTML of a SystemDerivation: the same layout, one line per equation and per unknown."""
-    did = content_id(d)
-    digits = self.settings["float_digits"]
-    p = d.problem
-    out = [f'<div class="derivpad" id="{did}">']
-    if self.settings["style"]:
-        out.append(f"<style>{STYLE}</style>")
-    out.append('<div class="dp-head">')
-    eqs = r" \\ ".join(f"{_expr_latex(p.lhs(i), digits)} &= {_expr_latex(p.forcings[i], digits)}"
-                        for i in range(len(p.unknowns)))
-    system = self._math(_ALIGNED % eqs)
-    out.append(f'<div class="dp-label">System</div><div class="dp-math">{system}</div>')
-    n_ic = sum(p.orders)
-    ic_lines = d.steps[0].lines[len(p.unknowns):len(p.unknowns) + n_ic]
-    ics = ", \\quad ".join(f"{_expr_latex(line.lhs, digits)} = {_expr_latex(line.rhs, digits)}"
-                           for line in ic_lines)
-    out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-    sol = r" \\ ".join(f"{latex_expr(p.function(j))} &= {_expr_latex(d.solution[u], digits)}"
-                        for j, u in enumerate(p.unknowns))
-    solution = self._math(_ALIGNED % sol)
-    out.append('<div class="dp-label">Solution (SI units, t in s)</div>'
-               f'<div class="dp-math">{solution}</div>')
-    if d.values:
-        given = ", \\quad ".join(
-            f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
-            + (f"\\ \\text{{{unit}}}" if unit else "") for name, v, unit in d.value_table())
-        out.append('<div class="dp-label">With the values used for the checks and results'
-                   f'</div><div class="dp-math">{self._math(given)}</div>')
-    out.append(f"<div>{self.badge(d.verification)}</div></div>")
-    out += self.body(d, did)
-    return "\n".join(part for part in out if part)
+def _solution_tex(p, solutions: dict, digits: int) -> str:
+    return _aligned([(latex_expr(p.function(j)), _expr_latex(solutions[u], digits))
+                     for j, u in enumerate(p.unknowns)])
 
 
-HtmlRenderer._render_SystemDerivation = _render_system
+def _written_in(p) -> str:
+    """' (SI: x in m, t in s)': the units the solution's numbers are in."""
+    if p.units is None:
+        return " (t in s)"
+    units = ", ".join(f"{u} in {p.unit_context(u).unknown_si or '1'}" for u in p.unknowns)
+    return f" (SI: {_esc(units)}, t in s)"
 
 
 def to_html(obj, figure_source=None, **settings) -> str:

@@ -98,7 +98,6 @@ class LatexRenderer(Renderer):
         return body
 
 
-LatexRenderer._render_SystemDerivation = LatexRenderer._render_Derivation  # same layout
 
 
 def to_latex(obj, **settings) -> str:

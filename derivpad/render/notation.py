@@ -7,7 +7,6 @@ primes, and floating-point numbers show a set number of significant digits.
 
 from __future__ import annotations
 
-import re
 
 import mpmath
 import sympy as sp
@@ -19,7 +18,6 @@ from ..core.parse import S
 __all__ = ["NotationLatexPrinter", "NotationTextPrinter", "format_value", "latex_expr",
            "text_expr"]
 
-_LABEL = re.compile(r"^([A-Za-z]+)_(\d+)\(s\)$")
 
 
 def _split_delay(expr: sp.Mul):
@@ -111,14 +109,15 @@ class NotationLatexPrinter(LatexPrinter):
             return tex if exp is None else "%s^{%s}" % (tex, exp)
         return super()._print_Function(expr, exp)
 
-    def _print_Symbol(self, expr, style="plain"):
-        name = expr.name
-        m = _LABEL.match(name)
-        if m:
-            return f"{m.group(1)}_{{{m.group(2)}}}(s)"
-        if any(ch in name for ch in "()'^"):
-            return name.replace("^-", "^{-}").replace("^(", "^{(").replace(")(", ")}(")
-        return super()._print_Symbol(expr, style)
+    def _print_InitialValue(self, expr, style="plain"):
+        name = super()._print_Symbol(sp.Symbol(expr.unknown), style)
+        return _prime_name(name, expr.order, True) + "(0^{-})"
+
+    def _print_PolynomialLabel(self, expr, style="plain"):
+        return super()._print_Symbol(sp.Symbol(expr.letter), style) + "(s)"
+
+    def _print_PartLabel(self, expr, style="plain"):
+        return "%s_{%d}(s)" % (super()._print_Symbol(sp.Symbol(expr.base), style), expr.index)
 
     def _print_Float(self, expr):
         text = _format_float(expr, self._settings["float_digits"])
@@ -152,6 +151,15 @@ class NotationTextPrinter(StrPrinter):
 
     def _print_Laplace(self, expr):
         return "L{%s}" % self._print(expr.args[0])
+
+    def _print_InitialValue(self, expr):
+        return _prime_name(expr.unknown, expr.order, False) + "(0-)"
+
+    def _print_PolynomialLabel(self, expr):
+        return {"Delta": "Δ"}.get(expr.letter, expr.letter) + "(s)"
+
+    def _print_PartLabel(self, expr):
+        return "%s_%d(s)" % (expr.base, expr.index)
 
     def _print_Subs(self, expr):
         inner, (var,), (point,) = expr.args

@@ -96,7 +96,6 @@ class TextRenderer(Renderer):
         return "\n".join(out)
 
 
-TextRenderer._render_SystemDerivation = TextRenderer._render_Derivation  # same layout
 
 
 def to_text(obj, **settings) -> str:

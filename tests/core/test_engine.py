@@ -175,15 +175,15 @@ def test_derivation_api_shape():
 
 
 def test_engine_refuses_to_return_a_wrong_answer(monkeypatch):
-    from derivpad.core import engine
-    real = engine.partial_fractions
+    from derivpad.core import stages
+    real = stages.partial_fractions
 
     def corrupted(numerator, poles):
         terms = real(numerator, poles)
         first = terms[0]
         return [type(first)(first.pole, first.power, first.re * sp.Rational(101, 100), first.im)] + terms[1:]
 
-    monkeypatch.setattr(engine, "partial_fractions", corrupted)
+    monkeypatch.setattr(stages, "partial_fractions", corrupted)
     with pytest.raises(VerificationFailedError) as err:
         derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics=ZERO2)
     assert err.value.checks and not all(c.passed for c in err.value.checks)

@@ -9,10 +9,11 @@ import pytest
 import sympy as sp
 
 from derivpad import ParameterError, VerificationFailedError, derive
-from derivpad.core.engine import compile_model, solve_stages
+from derivpad.core.engine import compile_numbers
+from derivpad.core.stages import solve_stages
 from derivpad.core.numeric_checks import integration_check, inversion_check
 from derivpad.core.parse import S
-from derivpad.core.problem import make_problem
+from derivpad.core.read_problem import make_problem
 
 ZERO2 = {"y(0)": 0, "y'(0)": 0}
 NAMES = ["ODE on every interval", "Initial conditions at 0+", "Jump conditions at breakpoints",
@@ -81,19 +82,21 @@ def test_tolerances_can_be_set_per_call():
         derive("y' + y = 1", ics={"y(0)": 0}, tolerances={"speed": 1})
 
 
-def _model(equation, ics):
+def _numbers(equation, ics):
     problem = make_problem(equation, ics, None, None, None)
-    return compile_model(problem, solve_stages(problem)).at({})
+    return compile_numbers(problem, solve_stages(problem)).at({})
 
 
 def test_integration_check_catches_a_wrong_closed_form():
     # closed form of y'' + 4y = u(t) from rest is (1 - cos 2t)/4 (SymPy dsolve agrees; common
     # practice, no source); give it 1 % wrong
     wrong = lambda t: 1.01 * (1 - np.cos(2 * np.asarray(t))) / 4  # noqa: E731
-    model = dataclasses.replace(_model("y'' + 4*y = u(t)", ZERO2), closed_form=wrong)
-    check, samples = integration_check(model, 6.0, 1e-7)
+    numbers = _numbers("y'' + 4*y = u(t)", ZERO2)
+    model = dataclasses.replace(numbers.models["y"], closed_form=wrong)
+    numbers = dataclasses.replace(numbers, models={"y": model})
+    check, samples = integration_check(numbers, 6.0, 1e-7)
     assert check.status == "FAILED" and 5e-3 < check.error < 2e-2
-    assert samples.times[-1] == 6.0 and len(samples.integrated) == len(samples.times)
+    assert samples.times[-1] == 6.0 and len(samples.integrated["y"]) == len(samples.times)
 
 
 def test_inversion_check_catches_a_wrong_closed_form():

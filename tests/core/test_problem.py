@@ -4,7 +4,7 @@ import pytest
 import sympy as sp
 
 from derivpad.core.parse import T
-from derivpad.core.problem import make_problem
+from derivpad.core.read_problem import make_problem
 from derivpad.errors import (EquationError, InitialConditionError, NonlinearTermError,
                              ParameterError, VariableCoefficientError)
 
@@ -70,7 +70,7 @@ def test_conditions_for_another_name_are_refused():
 
 def test_zero_minus_spellings_are_accepted():
     p = make_problem("y'' + y = 0", {"y(0-)": 1, "y'(0^-)": 2})
-    assert p.initial_values == (1, 2)
+    assert p.initial_values == ((1, 2),)
 
 
 def test_sympy_eq_and_sympy_keys():
@@ -80,7 +80,7 @@ def test_sympy_eq_and_sympy_keys():
     eq = sp.Eq(yf(t).diff(t, 2) + k * yf(t), sp.Heaviside(t - 1))
     p = make_problem(eq, {yf(0): 1, yf(t).diff(t).subs(t, 0): 0}, {"k": 4})
     assert p.coefficients == (4, 0, 1)
-    assert p.initial_values == (1, 0)
+    assert p.initial_values == ((1, 0),)
     assert p.forcing == sp.Heaviside(T - 1)
 
 

@@ -44,9 +44,17 @@ def test_floats_show_six_significant_digits():
     assert latex_expr(sp.Float("1.23456789e-7")) == r"1.23457 \cdot 10^{-7}"
 
 
-def test_initial_value_labels():
-    assert latex_expr(sp.Symbol("y'(0^-)")) == "y'(0^{-})"
-    assert latex_expr(sp.Symbol("Y_1(s)")) == "Y_{1}(s)"
+def test_labels_print_through_their_own_printer_methods():
+    # notation as objects (core/labels.py): no name is decoded; what a checker reads on a
+    # hand calc sheet (common practice, no source)
+    from derivpad.core.labels import InitialValue, PartLabel, PolynomialLabel
+    assert latex_expr(InitialValue("y", 1)) == "y'(0^{-})"
+    assert text_expr(InitialValue("y", 1)) == "y'(0-)"
+    assert latex_expr(InitialValue("x2", 4)) == "x_{2}^{(4)}(0^{-})"
+    assert latex_expr(PartLabel("Y", 1)) == "Y_{1}(s)"
+    assert latex_expr(PolynomialLabel("Delta")) == r"\Delta(s)"
+    assert text_expr(PolynomialLabel("Delta")) == "Δ(s)"
+    assert latex_expr(PolynomialLabel("P") * 2) == "2 P(s)"
 
 
 def test_renderer_settings_are_validated():
