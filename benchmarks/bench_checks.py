@@ -23,7 +23,8 @@ from scipy.integrate import solve_ivp  # noqa: E402
 from timing import median_time  # noqa: E402
 from derivpad.core import numeric_checks as nc  # noqa: E402
 from derivpad.core.engine import derive  # noqa: E402
-from derivpad.core.engine import compile_model, solve_stages  # noqa: E402
+from derivpad.core.engine import compile_numbers  # noqa: E402
+from derivpad.core.stages import solve_stages  # noqa: E402
 from derivpad.core.forcing import TAU  # noqa: E402
 from derivpad.core.parse import T  # noqa: E402
 from derivpad.core.verify import self_check  # noqa: E402
@@ -31,15 +32,6 @@ from derivpad.core.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
 
 
-
-
-def _parts_in_tau(d):
-    """The solution's delayed parts g_c(τ), rebuilt from the interval expressions."""
-    out, previous = [], 0
-    for start, expr in d.intervals:
-        out.append((start, (expr - previous).subs(T, TAU + start)))
-        previous = expr
-    return out
 
 
 def main(argv=None):
@@ -50,14 +42,14 @@ def main(argv=None):
     p = d.problem
     bps = [float(b) for b in d.breakpoints]
     end = time_window(d.poles, bps)
-    model = compile_model(p, solve_stages(p)).at({})
+    stages = solve_stages(p)
+    numbers = compile_numbers(p, stages).at({})
+    model = numbers.models[p.unknown]
     closed = model.closed_form
     peak = float(np.max(np.abs(closed(np.linspace(0, end, 2000)))))
-    tau_parts = _parts_in_tau(d)
     timings = {
-        "back-substitution, ICs, jumps": lambda: self_check(
-            p, tau_parts, d.breakpoints, dict(d.impulses), d.conditions),
-        "numerical integration": lambda: nc.integration_check(model, end, 1e-7),
+        "back-substitution, ICs, jumps": lambda: self_check(p, stages),
+        "numerical integration": lambda: nc.integration_check(numbers, end, 1e-7),
         "numerical inversion": lambda: nc.inversion_check(
             model.parts, closed, nc.inversion_horizon(model.response_poles, end, bps), bps,
             peak, 1e-7),

@@ -29,7 +29,8 @@ from scipy.optimize import brentq  # noqa: E402
 
 from timing import median_time  # noqa: E402
 from derivpad.core import numeric_checks as nc  # noqa: E402
-from derivpad.core.engine import compile_model, derive, solve_stages  # noqa: E402
+from derivpad.core.engine import compile_numbers, derive  # noqa: E402
+from derivpad.core.stages import solve_stages  # noqa: E402
 from derivpad.core.results import engineering_results  # noqa: E402
 from derivpad.core.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
@@ -53,12 +54,13 @@ def main(argv=None):
     args = parser.parse_args(argv)
     d = derive(DEMO_EQUATION, ics=DEMO_ICS, params=DEMO_PARAMS, units=DEMO_UNITS)
     p = d.problem
-    model = compile_model(p, solve_stages(p)).at({})
+    numbers = compile_numbers(p, solve_stages(p)).at({})
+    model = numbers.models[p.unknown]
     bps = [float(b) for b in d.breakpoints]
     end = time_window(d.poles, bps)
-    results = median_time(lambda: engineering_results(model, end, p.units), args.repeat)
+    results = median_time(lambda: engineering_results(p, numbers), args.repeat)
     scan = median_time(lambda: window_scan(model, end), args.repeat)
-    checks = median_time(lambda: nc.independent_checks(model, {}, lambda z, b: end), args.repeat)
+    checks = median_time(lambda: nc.independent_checks(numbers, {}, end), args.repeat)
     print(f"{'engineering results (all t ≥ 0)':<36} {results * 1e3:8.1f} ms")
     print(f"{'reference: window scan (peak only)':<36} {scan * 1e3:8.1f} ms   "
           f"ratio {results / scan:5.2f}   (target ≤ 1.2)")

@@ -49,10 +49,9 @@ def chain(n: int):
 def _sympy_route(n: int, queue) -> None:
     import sympy as sp
     from derivpad.core.parse import S, T
-    from derivpad.core.system_engine import solve_system_stages  # noqa: F401 (same input)
-    from derivpad.core.system_problem import make_system_problem
+    from derivpad.core.read_problem import make_problem
     eqs, ics = chain(n)
-    p = make_system_problem(eqs, ics)
+    p = make_problem(eqs, ics)
     X = sp.symbols(f"X1:{n + 1}")
     rows = []
     for i in range(n):

@@ -1,6 +1,5 @@
-"""What a derivation of one equation and of a system share: the display façade and the
-value table. Every method imports ``derivpad.render`` in its body, so the core never loads
-printing, plotting or the notebook."""
+"""The derivation's display façade and value table. Every method imports ``derivpad.render`` in
+its body, so the core never loads printing, plotting or the notebook."""
 
 from __future__ import annotations
 
@@ -8,7 +7,7 @@ __all__ = ["DisplayFacade"]
 
 
 class DisplayFacade:
-    """Display methods of Derivation and SystemDerivation (both frozen dataclasses)."""
+    """Display methods of the Derivation (a frozen dataclass)."""
 
     __slots__ = ()
 

@@ -178,19 +178,18 @@ def engineering_results(problem, numbers: Numbers, definitions=None):
 
 def _response_of(w: ResultWriter, model, numbers: Numbers, static, at_rest, definitions):
     """One response's figures, with its static response to the load where there is one."""
-    gain, note = static if static is not None else (None, "the dynamic load factor is given "
-                                                    "for the unknowns, not derived quantities")
+    row, loaded, note = static if static is not None else (
+        None, None, "the dynamic load factor is given for the unknowns, not derived quantities")
     load, static_peak = None, None
-    if gain is not None:
-        row, loaded = gain
-        finals = numbers.final_loads
-        if all(f is not None for f in finals):
-            w.add("static_response", "static response to the final load",
-                  w.to_y(float(sum(g * f for g, f in zip(row, finals)))), w.y_unit,
-                  _STATIC_FINAL[len(row) > 1], _VIB)
+    finals = numbers.final_loads
+    if row is not None and all(f is not None for f in finals):
+        w.add("static_response", "static response to the final load",
+              w.to_y(float(sum(g * f for g, f in zip(row, finals)))), w.y_unit,
+              _STATIC_FINAL[len(row) > 1], _VIB)
+    if loaded is not None:
         load = _load_figures(numbers.forcing_modes[loaded])
         note = _load_note(numbers, loaded, load)
-        if not note and load.peak is not None and abs(row[loaded]) > 0:
+        if not note and abs(row[loaded]) > 0:
             static_peak = load.peak * abs(row[loaded])
         elif not note:
             note = "the load does not act statically on this unknown (zero static gain)"
@@ -205,28 +204,26 @@ _STATIC_PEAK = ("max|f|/a_0", "max|f_i|·|(A(0)⁻¹)_ji|, the one loaded equati
 
 
 def _static_gains(numbers: Numbers) -> dict:
-    """Per unknown: ((row j of A(0)⁻¹), index of the one loaded equation), or (None, why)
-    where no static response to one load exists."""
+    """Per unknown: (row j of A(0)⁻¹ or None, the one loaded equation or None, why there is
+    no dynamic load factor ("" where there is one))."""
     n = len(numbers.unknowns)
-    loaded = [i for i, f in enumerate(numbers.forcing_modes)
-              if f is None or len(f) or numbers.final_loads[i] != 0.0]
-    impulse_only = [i for i, _, _ in numbers.impulses]
-    if not loaded and impulse_only:
-        loaded = sorted(set(impulse_only))
-    why = ""
     if np.linalg.matrix_rank(numbers.static) < n:
         why = ("the system has no static stiffness (a_0 = 0): no static response to compare "
                "with" if n == 1 else "the static stiffness matrix A(0) is singular: no static "
                "response to compare with")
-    elif len(loaded) > 1:
+        return {u: (None, None, why) for u in numbers.unknowns}
+    inverse = np.linalg.inv(numbers.static)
+    loaded = [i for i, f in enumerate(numbers.forcing_modes)
+              if f is None or len(f) or numbers.final_loads[i] != 0.0]
+    if not loaded:
+        loaded = sorted({i for i, _, _ in numbers.impulses})
+    why = ""
+    if len(loaded) > 1:
         why = ("loads act in more than one equation: the dynamic load factor is defined for "
                "one load")
     elif not loaded:
         why = "there is no load (the response comes from the initial values alone)"
-    if why:
-        return {u: (None, why) for u in numbers.unknowns}
-    inverse = np.linalg.inv(numbers.static)
-    return {u: ((tuple(float(x) for x in inverse[j]), loaded[0]), "")
+    return {u: (tuple(float(x) for x in inverse[j]), None if why else loaded[0], why)
             for j, u in enumerate(numbers.unknowns)}
 
 

@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 import derivpad
 from derivpad import (EquationError, InitialConditionError, NonlinearTermError, SolveError,
                       UnitError)
-from derivpad.core.parse import S
+from derivpad.core.parse import S, T
 
 from ..reference import integrate_second_order
 
@@ -272,3 +272,66 @@ def test_system_peaks_hold_over_the_whole_response():
         assert abs(peak) == pytest.approx(np.max(np.abs(y)), rel=1e-6)
         assert d.results[f"final_value_{name}"].magnitude == 0.0  # returns to rest, exactly
         assert d.results[f"settling_time_2pct_{name}"].magnitude is None
+
+
+# -- one pipeline: a single equation is the one-unknown case ---------------------------------
+def test_a_single_equation_is_the_one_unknown_case_of_the_same_derivation():
+    # y'' + 4y = u(t) from rest: y = (1 - cos 2t)/4 (SymPy dsolve agrees; common practice,
+    # no source)
+    d = derivpad.derive("y'' + 4*y = u(t)", {"y(0)": 0, "y'(0)": 0})
+    assert type(d) is derivpad.Derivation and d.problem.unknowns == ("y",)
+    assert d.solutions == {"y": d.solution}
+    for x in (0.4, 1.3, 7.0):
+        assert abs(float(d.solution.subs(T, x)) - (1 - math.cos(2 * x)) / 4) < 1e-15
+    assert sp.expand(d.determinant - (S ** 2 + 4)) == 0
+    titles = [s.title for s in d.steps]
+    assert "Matrix form" not in titles and titles[3] == "Solve for Y(s)"
+    with pytest.raises(AttributeError, match="read it per unknown"):
+        derivpad.derive(TWO_DOF, REST2, P2).problem.unknown
+
+
+def test_one_equation_reports_derived_quantities_as_a_system_does():
+    # spring force k·x of a mass on a spring under a step: its peak is k times the peak of x,
+    # 2 F0 (twice the static deflection times k; any vibration text, from memory)
+    d = derivpad.derive("m*x'' + k*x = F0*u(t)", {"x(0)": 0, "x'(0)": 0},
+                        {"m": 2, "k": 800, "F0": 50}, derived={"force": "k*x"})
+    assert math.isclose(d.results["peak_force"].value, 100.0, rel_tol=1e-9)
+    assert math.isclose(d.results["peak"].value, 0.125, rel_tol=1e-9)
+    values = d(np.array([0.3]))
+    assert values.shape == (1,)  # one unknown: d(times) is that unknown's array
+
+
+def test_a_two_mass_system_with_a_pulse_load_derives_verifies_and_has_load_factors():
+    # m1 = 2 kg on k1 = 800 N/m with c1 = 4 N·s/m, m2 = 1 kg on k2 = 200 N/m, 50 N for 0.1 s on
+    # m1. References: scipy solve_ivp of M x'' + C x' + K x = f written from the matrices
+    # (tests/reference.py), and the static deflection K⁻¹ F by numpy.linalg.solve.
+    d = derivpad.derive(["m1*x1'' + c1*x1' + (k1 + k2)*x1 - k2*x2 = P",
+                         "m2*x2'' + k2*(x2 - x1) = 0"], REST2,
+                        {"m1": 2, "m2": 1, "k1": 800, "k2": 200, "c1": 4,
+                         "P": derivpad.forcing.pulse(50, 0, 0.1)})
+    assert d.verification.passed and d.problem.loads[0][0] == "P"
+    M, C, K = np.diag([2.0, 1.0]), np.diag([4.0, 0.0]), np.array([[1000.0, -200], [-200, 200]])
+    times = np.linspace(0, 20, 200001)
+    ref = integrate_second_order(M, C, K, lambda t: np.array([50.0 if t < 0.1 else 0.0, 0.0]),
+                                 [0, 0], [0, 0], times, breakpoints=(0.1,))
+    static = np.linalg.solve(K, [50.0, 0.0])
+    for j, u in enumerate(("x1", "x2")):
+        r = d.results
+        assert math.isclose(r[f"static_response_peak_load_{u}"].value, static[j], rel_tol=1e-12)
+        # the dense reference grid is within 1e-6 of the supremum (damped: it is attained)
+        assert abs(r[f"peak_{u}"].value - np.max(np.abs(ref[:, j]))) < 1e-6 * static[j]
+        assert math.isclose(r[f"dynamic_load_factor_{u}"].value,
+                            r[f"peak_{u}"].value / static[j], rel_tol=1e-12)
+        assert r[f"peak_residual_{u}"].value >= r[f"peak_primary_{u}"].value or \
+            r[f"peak_{u}"].value == r[f"peak_primary_{u}"].value
+
+
+def test_no_load_factor_where_two_equations_are_loaded():
+    d = derivpad.derive(["m1*x1'' + (k1 + k2)*x1 - k2*x2 = F0*u(t)",
+                         "m2*x2'' + k2*(x2 - x1) = F0*u(t)"], REST2,
+                        {"m1": 2, "m2": 1, "k1": 800, "k2": 200, "F0": 50})
+    r = d.results["dynamic_load_factor_x1"]
+    assert r.value is None and "more than one equation" in r.reason
+    # the static response to the final loads is K⁻¹ F (numpy.linalg.solve as the reference)
+    static = np.linalg.solve([[1000.0, -200], [-200, 200]], [50.0, 50.0])
+    assert math.isclose(d.results["static_response_x2"].value, static[1], rel_tol=1e-12)
