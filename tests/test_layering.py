@@ -18,7 +18,18 @@ ALLOWED = {
     "cli": {"errors", "core", "render", "notebook", "export", "demo", "cli"},
     "__main__": {"cli"},
 }
-# The core's display façade reaches render/ lazily, inside method bodies only.
+# Inside core/, the pipeline order: model objects and reading input (0) ← the symbolic stages
+# (1) ← checking: numbers, checks, results (2) ← the derivation, the engine and the family (3).
+CORE_LAYERS = {
+    **dict.fromkeys(("__init__", "display_hook", "parse", "units", "exprtree", "labels", "steps", "rules",
+                     "problem", "problem_units", "read_problem", "state_space", "forcing",
+                     "record", "evaluate", "window"), 0),
+    **dict.fromkeys(("algebra", "transform", "partial_fractions", "inverse", "stages"), 1),
+    **dict.fromkeys(("modes", "response", "verify", "numeric_model", "numeric_checks",
+                     "results"), 2),
+    **dict.fromkeys(("derivation", "display_facade", "engine", "family"), 3),
+}
+# The core reaches render/ lazily, inside function bodies, from core/display_hook.py only.
 LAZY_EXCEPTIONS = {("core", "render"), ("__init__", "notebook")}
 
 
@@ -27,32 +38,84 @@ def _part(path: Path) -> str:
     return rel.parts[0] if len(rel.parts) > 1 else rel.stem
 
 
-def _imports(path: Path):
+def _targets(path: Path, root: Path = ROOT):
+    """(dotted module path inside derivpad, imported at module level?) for every import of
+    ours: relative, absolute (``from derivpad.x import``, ``import derivpad.x``) and
+    ``importlib.import_module("derivpad.x")`` calls."""
     tree = ast.parse(path.read_text())
     top_level = {id(n) for n in tree.body}
     for node in ast.walk(tree):
+        top = id(node) in top_level
         if isinstance(node, ast.ImportFrom) and node.level > 0:
-            base = list(path.relative_to(ROOT).parent.parts)
+            base = list(path.relative_to(root).parent.parts)
             base = base[: len(base) - (node.level - 1)] if node.level > 1 else base
-            target = (base + (node.module.split(".") if node.module else []))
-            yield (target[0] if target else (node.names[0].name)), id(node) in top_level
+            target = base + (node.module.split(".") if node.module else [])
+            if target and target[-1] == path.relative_to(root).parts[0] and not node.module:
+                target = target + [node.names[0].name]
+            yield (target or [node.names[0].name]), top
+        elif isinstance(node, ast.ImportFrom) and (node.module or "").startswith("derivpad."):
+            yield node.module.split(".")[1:], top
         elif isinstance(node, ast.Import):
             for alias in node.names:
                 if alias.name.startswith("derivpad."):
-                    yield alias.name.split(".")[1], id(node) in top_level
+                    yield alias.name.split(".")[1:], top
+        elif isinstance(node, ast.Call) and getattr(node.func, "attr", getattr(
+                node.func, "id", "")) == "import_module" and node.args and \
+                isinstance(node.args[0], ast.Constant) and \
+                str(node.args[0].value).startswith("derivpad."):
+            yield str(node.args[0].value).split(".")[1:], top
+
+
+def _imports(path: Path, root: Path = ROOT):
+    for target, top in _targets(path, root):
+        yield target[0], top
+
+
+def violations(root: Path = ROOT) -> list[str]:
+    """Every import against the package's direction, and inside core/ against the pipeline
+    order (model and reading ← stages ← checking ← engine)."""
+    bad = []
+    for path in root.rglob("*.py"):
+        rel = path.relative_to(root)
+        part = rel.parts[0] if len(rel.parts) > 1 else rel.stem
+        for target, top in _targets(path, root):
+            name = target[0]
+            lazy_ok = (part, name) in LAZY_EXCEPTIONS and not top and \
+                (part != "core" or rel.name == "display_hook.py")
+            if name not in ALLOWED.get(part, set()) and not lazy_ok:
+                bad.append(f"{rel} imports {name}")
+            if part == "core" and name == "core" and len(target) > 1:
+                own, other = CORE_LAYERS.get(rel.stem), CORE_LAYERS.get(target[1])
+                if own is None or other is None or other > own:
+                    bad.append(f"{rel} (core layer {own}) imports core.{target[1]} "
+                               f"(layer {other})")
+    return bad
 
 
 def test_import_directions():
-    bad = []
-    for path in ROOT.rglob("*.py"):
-        part = _part(path)
-        for target, top in _imports(path):
-            if target in ALLOWED.get(part, set()):
-                continue
-            if (part, target) in LAZY_EXCEPTIONS and not top:
-                continue
-            bad.append(f"{path.relative_to(ROOT)} imports {target}")
-    assert bad == []
+    assert violations() == []
+
+
+def test_the_check_catches_each_kind_of_violation(tmp_path):
+    import shutil
+    copy = tmp_path / "derivpad"
+    shutil.copytree(ROOT, copy)
+    plants = {
+        "notebook/widgets.py": "from derivpad.export import package\n",   # absolute
+        "export/report.py": "from ..notebook import display\n",            # relative
+        "render/base.py": "import importlib\nimportlib.import_module('derivpad.cli')\n",
+        "core/parse.py": "from .engine import derive\n",                   # core order
+        "core/units.py": "def f():\n    from ..render import text\n",      # lazy, not façade
+    }
+    for rel, line in plants.items():
+        with open(copy / rel, "a") as fh:
+            fh.write("\n" + line)
+    found = "\n".join(violations(copy))
+    assert "notebook/widgets.py imports export" in found
+    assert "export/report.py imports notebook" in found
+    assert "render/base.py imports cli" in found
+    assert "core/parse.py (core layer 0) imports core.engine" in found
+    assert "core/units.py imports render" in found
 
 
 def test_core_never_imports_jupyter_or_plotting():

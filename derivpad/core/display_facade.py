@@ -3,6 +3,8 @@ its body, so the core never loads printing, plotting or the notebook."""
 
 from __future__ import annotations
 
+from . import display_hook
+
 __all__ = ["DisplayFacade"]
 
 
@@ -32,38 +34,31 @@ class DisplayFacade:
 
     def figure(self, **settings):
         """The verification figure (matplotlib): closed form over integration, forcing, error."""
-        from ..render.figure import verification_figure  # lazy: matplotlib is an extra
-        return verification_figure(self, **settings)
+        return display_hook.figure(self, **settings)
 
     def save_figure(self, path, **settings):
         """Write the verification figure; the format (svg, png, pdf) comes from the suffix."""
-        from ..render.figure import save_figure
-        return save_figure(self, path, **settings)
+        return display_hook.save_figure(self, path, **settings)
 
     def to_dict(self) -> dict:
         """The canonical JSON-safe form: text, LaTeX and a SymPy-readable form of each result."""
-        from ..render.serial import derivation_to_dict  # lazy: printing lives in render/
-        return derivation_to_dict(self)
+        return display_hook.to_dict(self)
 
     def to_latex(self, **settings) -> str:
         """The whole derivation as a LaTeX document body."""
-        from ..render.latex import to_latex
-        return to_latex(self, **settings)
+        return display_hook.latex(self, **settings)
 
     def to_html(self, **settings) -> str:
         """The whole derivation as an HTML fragment with collapsible steps."""
-        from ..render.html import to_html
-        return to_html(self, **settings)
+        return display_hook.html(self, **settings)
 
     def to_text(self, **settings) -> str:
         """The whole derivation as readable terminal text."""
-        from ..render.text import to_text
-        return to_text(self, **settings)
+        return display_hook.text(self, **settings)
 
     def _repr_mimebundle_(self, include=None, exclude=None):
         """Rich display: HTML, LaTeX, text and derivpad's own JSON type; never raises."""
         try:
-            from ..render.mimebundle import mimebundle
+            return display_hook.bundle(self, include, exclude)
         except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
-            return {"text/plain": f"derivpad could not load its display code: {exc}"}
-        return mimebundle(self, include, exclude)
+            return {"text/plain": f"derivpad could not display the derivation: {exc}"}

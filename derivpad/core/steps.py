@@ -52,8 +52,8 @@ class Step:
     @property
     def latex(self) -> str:
         """The step's display math (LaTeX); rendered on demand by ``derivpad.render``."""
-        from ..render.latex import step_math_latex  # lazy: the core never loads printing
-        return step_math_latex(self)
+        from .display_hook import step_latex
+        return step_latex(self)
 
     @property
     def all_rules(self) -> tuple[Rule, ...]:
