@@ -490,13 +490,12 @@ def _rules_of(steps) -> tuple:
 
 def derived_solutions(problem: Problem, solution: dict) -> dict:
     """Each derived quantity as an expression in t, the unknowns' solutions put in (their
-    derivatives too)."""
+    derivatives only where the quantity uses them)."""
     funcs = {problem.function(j): solution[u] for j, u in enumerate(problem.unknowns)}
     out = {}
     for name, expr in problem.derived:
-        e = expr
-        for f, sol in funcs.items():
-            for k in range(4, 0, -1):
-                e = e.subs(f.diff(T, k), sp.diff(sol, T, k))
-        out[name] = sp.expand(e.subs(funcs), power_exp=False)
+        used = {d: sp.diff(funcs[d.expr], T, d.derivative_count)
+                for d in expr.atoms(sp.Derivative) if d.expr in funcs}
+        e = expr.xreplace(used).xreplace(funcs)
+        out[name] = sp.expand(e, power_exp=False)
     return out
