@@ -27,7 +27,7 @@ CORE_LAYERS = {
     **dict.fromkeys(("algebra", "transform", "partial_fractions", "inverse", "stages"), 1),
     **dict.fromkeys(("modes", "response", "verify", "numeric_model", "numeric_checks",
                      "results"), 2),
-    **dict.fromkeys(("derivation", "display_facade", "engine", "family"), 3),
+    **dict.fromkeys(("derivation", "derivation_json", "display_facade", "engine", "family"), 3),
 }
 # The core reaches render/ lazily, inside function bodies, from core/display_hook.py only.
 LAZY_EXCEPTIONS = {("core", "render"), ("__init__", "notebook")}

@@ -155,6 +155,14 @@ class Derivation(DisplayFacade):
         return (f"<Derivation of {self.problem.size} unknowns ({', '.join(self.unknowns)}): "
                 f"{len(self.steps)} steps, {status}>")
 
+    @classmethod
+    def from_dict(cls, data: dict) -> "Derivation":
+        """The Derivation read back from its canonical JSON form (``to_dict()``, version 2);
+        every expression is rebuilt from its tree, never from text. The figure's samples are
+        not part of the JSON form."""
+        from .derivation_json import derivation_from_dict
+        return derivation_from_dict(data)
+
     def describe_initial_conditions(self) -> tuple[str, ...]:
         """Plain text of the initial conditions, x(0⁻) = ..., unknown by unknown."""
         return tuple(f"{derivative_name(u, k)}(0-) = {sp.sstr(v)}"

@@ -10,14 +10,23 @@ from __future__ import annotations
 import sympy as sp
 
 from ..errors import ParseError
+from .labels import InitialValue, InverseLaplace, Laplace, PartLabel, PolynomialLabel
 
 __all__ = ["to_tree", "from_tree"]
 
-_FUNCS = {
-    "Add": sp.Add, "Mul": sp.Mul, "Pow": sp.Pow, "exp": sp.exp, "sin": sp.sin, "cos": sp.cos,
+_FUNCS = {  # sums, products and powers as written: a derivation keeps e^{-cs}·F unevaluated
+    "Add": lambda *a: sp.Add(*a, evaluate=False), "Mul": lambda *a: sp.Mul(*a, evaluate=False),
+    "Pow": lambda *a: sp.Pow(*a, evaluate=False), "exp": sp.exp, "sin": sp.sin, "cos": sp.cos,
     "sinh": sp.sinh, "cosh": sp.cosh, "Heaviside": sp.Heaviside, "DiracDelta": sp.DiracDelta,
     "Abs": sp.Abs, "log": sp.log, "Tuple": sp.Tuple, "Derivative": sp.Derivative,
     "Equality": lambda lhs, rhs: sp.Eq(lhs, rhs, evaluate=False),
+    "Laplace": Laplace, "InverseLaplace": InverseLaplace, "Subs": sp.Subs,
+    "MatMul": lambda *args: sp.MatMul(*args, evaluate=False),
+    "StrictGreaterThan": lambda a, b: sp.StrictGreaterThan(a, b, evaluate=False),
+    "StrictLessThan": lambda a, b: sp.StrictLessThan(a, b, evaluate=False),
+    "GreaterThan": lambda a, b: sp.GreaterThan(a, b, evaluate=False),
+    "LessThan": lambda a, b: sp.LessThan(a, b, evaluate=False),
+    "Unequality": lambda a, b: sp.Ne(a, b, evaluate=False),
 }
 _CONSTANTS = {"pi": sp.pi, "E": sp.E, "I": sp.I, "oo": sp.oo}
 
@@ -29,8 +38,20 @@ def to_tree(expr: sp.Basic):
     if isinstance(expr, sp.Rational):
         return {"rat": [str(expr.p), str(expr.q)]}
     if isinstance(expr, sp.Float):
+        # the decimal text for readers, and the exact binary value (mpmath's sign, mantissa,
+        # exponent) with its precision in bits, so a 50-digit pole reads back bit for bit
+        sign, man, exp, _ = expr._mpf_
         return {"float": sp.sstr(expr, full_prec=True), "digits": expr._prec and
-                max(1, int(expr._prec * 0.30103))}
+                max(1, int(expr._prec * 0.30103)),
+                "exact": [int(sign), str(man), int(exp)], "precision": int(expr._prec)}
+    if isinstance(expr, InitialValue):
+        return {"label": "initial value", "unknown": expr.unknown, "order": expr.order}
+    if isinstance(expr, PolynomialLabel):
+        return {"label": "polynomial", "letter": expr.letter}
+    if isinstance(expr, PartLabel):
+        return {"label": "part", "base": expr.base, "index": expr.index}
+    if isinstance(expr, sp.MatrixBase):
+        return ["Matrix", expr.rows, expr.cols] + [to_tree(a) for a in expr]
     if isinstance(expr, sp.Symbol):
         return {"sym": expr.name, "positive": bool(expr.is_positive),
                 "real": bool(expr.is_real)}
@@ -55,6 +76,12 @@ def from_tree(tree) -> sp.Expr:
         if "rat" in tree:
             p, q = tree["rat"]
             return sp.Rational(int(p), int(q))
+        if "exact" in tree:
+            sign, man, exp = tree["exact"]
+            man, prec = int(str(man)), int(tree["precision"])
+            if not (0 < prec <= 4000 and man.bit_length() <= prec and abs(int(exp)) < 10 ** 6):
+                raise ParseError("a float node's precision or exponent is out of range")
+            return sp.Float._new((int(sign), man, int(exp), man.bit_length()), prec)
         if "float" in tree:
             return sp.Float(str(tree["float"]), int(tree.get("digits", 15)))
         if "sym" in tree:
@@ -66,6 +93,8 @@ def from_tree(tree) -> sp.Expr:
             return sp.Symbol(name, real=True) if tree.get("real") else sp.Symbol(name)
         if "const" in tree and tree["const"] in _CONSTANTS:
             return _CONSTANTS[tree["const"]]
+        if "label" in tree:
+            return _label(tree)
         raise ParseError(f"unreadable expression tree node {tree!r}")
     if isinstance(tree, list) and tree:
         head = tree[0]
@@ -74,6 +103,30 @@ def from_tree(tree) -> sp.Expr:
             if not name.isidentifier():
                 raise ParseError(f"bad function name {name!r} in expression tree")
             return sp.Function(name)(*[from_tree(a) for a in tree[2:]])
+        if head == "Matrix" and len(tree) >= 3:
+            rows, cols = int(tree[1]), int(tree[2])
+            entries = [from_tree(a) for a in tree[3:]]
+            if rows * cols != len(entries) or rows * cols > 10_000:
+                raise ParseError("a matrix node's size does not match its entries")
+            return sp.ImmutableMatrix(rows, cols, entries)
         if head in _FUNCS:
             return _FUNCS[head](*[from_tree(a) for a in tree[1:]])
     raise ParseError(f"unreadable expression tree node {tree!r}")
+
+
+def _label(tree: dict) -> sp.Symbol:
+    kind = tree["label"]
+    if kind == "initial value":
+        return InitialValue(_name(tree["unknown"]), int(tree["order"]))
+    if kind == "polynomial":
+        return PolynomialLabel(_name(tree["letter"]))
+    if kind == "part":
+        return PartLabel(_name(tree["base"]), int(tree["index"]))
+    raise ParseError(f"unknown label kind {kind!r} in expression tree")
+
+
+def _name(name) -> str:
+    name = str(name)
+    if not name.isidentifier():
+        raise ParseError(f"bad name {name!r} in expression tree")
+    return name

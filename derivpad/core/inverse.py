@@ -15,17 +15,12 @@ from .algebra import Pole
 from .forcing import TAU
 from .parse import T
 from .partial_fractions import FractionTerm
+from .labels import InverseLaplace
 from .rules import rule
 from .steps import Line, Rule, Step
 from .transform import delayed
 
 __all__ = ["InverseTerm", "invert_term", "inversion_step", "shift"]
-
-
-class InverseLaplace(sp.Function):
-    """Display-only node for 𝓛⁻¹{F}: never evaluates."""
-
-    nargs = 1
 
 
 @dataclass(frozen=True, slots=True)
@@ -70,7 +65,7 @@ def shift(f: sp.Expr, delay: sp.Expr) -> sp.Expr:
     return f.subs(TAU, T - delay) * sp.Heaviside(T - delay)
 
 
-def inversion_step(label: str, delay: sp.Expr, inverses: list[InverseTerm]) -> Step:
+def inversion_step(label: sp.Symbol, delay: sp.Expr, inverses: list[InverseTerm]) -> Step:
     """One step listing each term's pair and, for a delayed group, the second shift."""
     lines = []
     used: dict[str, Rule] = {}
@@ -83,13 +78,13 @@ def inversion_step(label: str, delay: sp.Expr, inverses: list[InverseTerm]) -> S
     note = "Each term inverts by its table pair."
     if delay != 0:
         shifted = shift(sp.Add(*[inv.time for inv in inverses]), delay)
-        lines.append(Line(InverseLaplace(delayed(delay, sp.Symbol(label))), shifted, "=",
+        lines.append(Line(InverseLaplace(delayed(delay, label)), shifted, "=",
                           rule("second_shift").name))
         used = {"second_shift": rule("second_shift"), **used}
         note += (f" The delay factor e^(-{sp.sstr(delay)} s) shifts the result to start at "
                  f"t = {sp.sstr(delay)}.")
     else:
-        lines.append(Line(InverseLaplace(sp.Symbol(label)), g, "="))
+        lines.append(Line(InverseLaplace(label), g, "="))
     title = f"Invert {label}" + (f" (delayed by {sp.sstr(delay)})" if delay != 0 else "")
     first = next(iter(used.values()), None)
     return Step(title, first, tuple(lines), note, (), tuple(used.values()))

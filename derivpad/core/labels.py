@@ -1,6 +1,6 @@
 """Notation as objects: the labels a derivation writes beside its expressions.
 
-An initial value x'(0⁻), a polynomial of s such as P(s) or Δ(s), and a part X_0(s) of a
+The transform operators 𝓛{…} and 𝓛⁻¹{…}, an initial value x'(0⁻), a polynomial of s such as P(s) or Δ(s), and a part X_0(s) of a
 transform between delay factors are SymPy symbols of their own classes, carrying their parts as
 attributes. The printers in ``derivpad.render.notation`` print each through its own
 ``_print_<Class>`` method (as SymPy's printers dispatch), so nothing decodes a name afterwards.
@@ -10,7 +10,20 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["InitialValue", "PartLabel", "PolynomialLabel", "initial_value_label"]
+__all__ = ["InitialValue", "InverseLaplace", "Laplace", "PartLabel", "PolynomialLabel",
+           "initial_value_label"]
+
+
+class Laplace(sp.Function):
+    """Display-only node for 𝓛{f}: never evaluates."""
+
+    nargs = 1
+
+
+class InverseLaplace(sp.Function):
+    """Display-only node for 𝓛⁻¹{F}: never evaluates."""
+
+    nargs = 1
 
 
 class InitialValue(sp.Symbol):

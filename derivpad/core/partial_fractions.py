@@ -222,7 +222,7 @@ def _coefficient_formula(covered: sp.Expr, point: sp.Expr, order: int) -> sp.Exp
     return sp.Mul(sp.Rational(1, factorial(order)), at, evaluate=False) if order > 1 else at
 
 
-def fraction_steps(label: str, numerator: sp.Expr, poles: PoleSet,
+def fraction_steps(label: sp.Symbol, numerator: sp.Expr, poles: PoleSet,
                    terms: list[FractionTerm]) -> Step:
     """The decomposition of one rational part as a step, one sub-step per pole."""
     subs = []
@@ -266,8 +266,8 @@ def fraction_steps(label: str, numerator: sp.Expr, poles: PoleSet,
                                                         if pole.multiplicity > 1 else ""),
                          r, lines, note))
     total = sp.Add(*[t.expr for t in terms]) if terms else sp.Integer(0)
-    lines = (Line(sp.Symbol(label), numerator / poles.factored, "="),
-             Line(sp.Symbol(label), total, "="))
-    return Step("Partial fractions of " + label, next(iter(used.values()), None), lines,
+    lines = (Line(label, numerator / poles.factored, "="),
+             Line(label, total, "="))
+    return Step(f"Partial fractions of {label}", next(iter(used.values()), None), lines,
                 "Split over the real poles of the denominator; each coefficient is worked in "
                 "its own sub-step.", tuple(subs), tuple(used.values()))

@@ -405,7 +405,7 @@ def fraction_and_inversion_steps(problem: Problem, solved: _Solved):
             num, poles = solved.by_delay[c]
             if num[j] == 0:
                 continue
-            label = str(_part_label(u, idx))
+            label = _part_label(u, idx)
             terms = partial_fractions(num[j], poles)
             f_sub.append(fraction_steps(label, num[j], poles, terms))
             inverses = [invert_term(t) for t in terms]

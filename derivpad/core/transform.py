@@ -17,18 +17,13 @@ import sympy as sp
 from ..errors import ForcingError
 from .forcing import TAU, ForcingPiece
 from .parse import S, T
+from .labels import Laplace
 from .rules import rule
 from .steps import Line, Rule, Step
 
 __all__ = ["TableTerm", "TransformedTerm", "ForcingGroup", "table_terms", "transform_piece",
            "derivative_transform", "Laplace", "Ysym", "real_factor", "complex_factor",
            "transform_term", "transform_groups", "delayed"]
-
-
-class Laplace(sp.Function):
-    """Display-only node for 𝓛{f}: never evaluates."""
-
-    nargs = 1
 
 
 def Ysym(unknown: str) -> sp.Expr:

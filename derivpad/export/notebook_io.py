@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+from ..core.derivation import Derivation
 from ..errors import ExportError, PackageRefusedError, import_extra
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
@@ -24,6 +25,7 @@ class CellFailure:
 
     cell: int
     what: str
+    unverified: bool = False     # a derivation whose checks did not all pass (not an error)
 
 
 @dataclass(frozen=True, slots=True)
@@ -32,7 +34,7 @@ class ExecutedCalc:
 
     notebook: object
     record: dict | None
-    derivations: tuple[dict, ...]
+    derivations: tuple            # Derivation objects, read back from the vendor MIME JSON
     html: tuple[str, ...]
     cells: tuple[int, ...]        # the code cell each derivation came from
     failures: tuple[CellFailure, ...]
@@ -73,17 +75,16 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
             if RECORD_MIME_TYPE in data and record is None:
                 record = dict(data[RECORD_MIME_TYPE])
             if DERIVATION_MIME_TYPE in data:
-                d = data[DERIVATION_MIME_TYPE]
+                d = Derivation.from_dict(dict(data[DERIVATION_MIME_TYPE]))
                 derivations.append(d)
                 html.append(data.get("text/html", ""))
                 cells.append(n)
-                if not d["verification"]["passed"]:
-                    bad = [c for c in d["verification"]["checks"]
-                           if c["status"] in ("FAILED", "not run")]
-                    what = "; ".join(f"{c['name']}: {c['status']}"
-                                     + (f" (error {c['error']:.3g} > {c['tolerance']:.0g})"
-                                        if c["status"] == "FAILED" else "") for c in bad)
-                    failures.append(CellFailure(n, f"derivation of {d['problem']['equation']!r} "
-                                                   f"not verified: {what}"))
+                if not d.verification.passed:
+                    what = "; ".join(f"{c.name}: {c.status}"
+                                     + (f" (error {c.error:.3g} > {c.tolerance:.0g})"
+                                        if c.status == "FAILED" else "")
+                                     for c in d.verification.failed)
+                    failures.append(CellFailure(n, f"derivation of {d.problem.text!r} not "
+                                                   f"verified: {what}", unverified=True))
     return ExecutedCalc(nb, record, tuple(derivations), tuple(html), tuple(cells),
                         tuple(failures))

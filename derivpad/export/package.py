@@ -49,28 +49,35 @@ def _json(data) -> str:
 
 
 def results_records(derivations) -> list:
-    """Each derivation's entry of results.json (also what an audit re-run is compared on)."""
-    out = []
-    for i, d in enumerate(derivations, 1):
-        p = d["problem"]
-        out.append({
-            "id": f"derivation-{i}", "equation": p["equation"], "unknown": p["unknown"],
-            "initial_conditions": {k: v["text"] for k, v in p["initial_conditions"].items()},
-            "parameters": {k: v["text"] for k, v in p["parameters"].items()},
-            "parameters_given": (d.get("units") or {}).get("parameters", {}),
-            "solution": {"latex": d["solution"]["latex"], "text": d["solution"]["text"],
-                         "tree": d["solution"]["tree"]},
-            "results": d["results"], "verification": d["verification"],
-            "assumptions": d["assumptions"]})
-    return out
+    """Each derivation's entry of results.json (also what an audit re-run is compared on),
+    from the Derivation objects read back from the notebook."""
+    return [record_of(d.to_dict(), i) for i, d in enumerate(derivations, 1)]
+
+
+def record_of(d: dict, i: int) -> dict:
+    """The results.json entry of one derivation's canonical JSON form; version 1 forms (older
+    packages) have the same entries, so an audit compares either."""
+    p = d["problem"]
+    return {
+        "id": f"derivation-{i}", "format_version": d.get("version", 1),
+        "equation": p["equation"], "unknown": p["unknown"],
+        "initial_conditions": {k: v["text"] for k, v in p["initial_conditions"].items()},
+        "parameters": {k: v["text"] for k, v in p["parameters"].items()},
+        "parameters_given": (d.get("units") or {}).get("parameters", {}),
+        "solution": {"latex": d["solution"]["latex"], "text": d["solution"]["text"],
+                     "tree": d["solution"]["tree"]},
+        "results": d["results"], "verification": d["verification"],
+        "assumptions": d["assumptions"]}
 
 
 def _inputs(record, derivations) -> dict:
+    from ..render.notation import text_expr
     return {"record": record.get("inputs", []),
-            "derivations": [{"equation": d["problem"]["equation"],
-                             "parameters": {k: v["text"] for k, v in
-                                            d["problem"]["parameters"].items()},
-                             "given": (d.get("units") or {}).get("parameters", {})}
+            "derivations": [{"equation": d.problem.text,
+                             "parameters": {k: text_expr(v) for k, v in d.problem.parameters},
+                             "given": {q.name: {"given": q.given, "si_value": float(q.si_value),
+                                                "si_unit": q.si_unit}
+                                       for q in d.problem.quantities}}
                             for d in derivations]}
 
 
@@ -128,8 +135,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
     notebook = Path(notebook).resolve()
     out_dir = Path(out_dir).resolve()  # relative to the current folder, whatever runs later
     calc = execute_notebook(notebook, progress=say)
-    errors = [f for f in calc.failures if "not verified" not in f.what]
-    unverified = [f for f in calc.failures if "not verified" in f.what]
+    errors = [f for f in calc.failures if not f.unverified]
+    unverified = [f for f in calc.failures if f.unverified]
     if errors:
         raise PackageRefusedError("not packaged: " + "; ".join(
             f"code cell {f.cell}: {f.what}" for f in errors), errors)

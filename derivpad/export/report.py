@@ -62,7 +62,7 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
              f'<tr><th>Packaged</th><td colspan="3">{_e(created)}</td></tr></table></div>')
     contents = ['<h2 class="dp-section">Contents</h2><ol>',
                 '<li><a href="#record">Calc record</a></li>']
-    contents += [f'<li><a href="#derivation-{i}">Derivation {i}: {_e(d["problem"]["equation"])}'
+    contents += [f'<li><a href="#derivation-{i}">Derivation {i}: {_e(d.problem.text)}'
                  "</a></li>" for i, d in enumerate(derivations, 1)]
     contents += ['<li><a href="#assumptions">Assumptions and references</a></li>',
                  '<li><a href="#cautions">Cautions</a></li></ol>']
@@ -73,11 +73,12 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
         body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
     assumptions = list(record.get("assumptions", []))
     for d in derivations:
-        assumptions += [a for a in d["assumptions"] if a not in assumptions]
+        assumptions += [a for a in d.assumptions if a not in assumptions]
     references = list(record.get("references", []))
     for d in derivations:
-        for rule in d["rules"].values():
-            text = f"{rule['name']}: {rule['source']}"
+        rules = {r.id: r for step in d.steps for r in step.all_rules}
+        for rule in rules.values():
+            text = f"{rule.name}: {rule.source}"
             if text not in references:
                 references.append(text)
     body.append('<h2 class="dp-section" id="assumptions">Assumptions and references</h2>'

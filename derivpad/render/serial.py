@@ -29,7 +29,10 @@ def expression_dict(expr) -> dict:
 
 def _step_dict(step: Step) -> dict:
     return {"title": step.title, "rule": step.rule.to_dict() if step.rule else None,
-            "rules_used": [r.id for r in step.all_rules], "latex": step_math_latex(step),
+            "rules_used": [r.id for r in step.all_rules],
+            "own_rules": [r.id for r in step.rules_used], "latex": step_math_latex(step),
+            "lines": [{"lhs": to_tree(x.lhs), "rhs": to_tree(x.rhs), "relation": x.relation,
+                       "label": x.label} for x in step.lines],
             "note": step.note, "substeps": [_step_dict(s) for s in step.substeps]}
 
 
@@ -67,6 +70,9 @@ def derivation_to_dict(d: Derivation) -> dict:
         "piecewise": {u: [{"from": expression_dict(start), **expression_dict(expr)}
                           for start, expr in ivs] for u, ivs in d.interval_map.items()},
         "poles": _poles(d.poles),
+        "parts": {u: [[to_tree(c), to_tree(r)] for c, r in ps] for u, ps in d.parts.items()},
+        "impulses": [[i, to_tree(c), to_tree(a)] for i, c, a in d.impulses],
+        "conditions": [to_tree(c) for c in d.conditions],
         "assumptions": list(d.assumptions),
         "notes": list(d.notes),
         "verification": {**d.verification.to_dict(), "verified": d.verification.passed},
@@ -95,6 +101,8 @@ def _problem_dict(p) -> dict:
         "derived": {name: expression_dict(e) for name, e in p.derived},
         "loads": {name: {"description": text, **expression_dict(e)}
                   for name, text, e in p.loads},
+        "operators": [[[to_tree(a) for a in coeffs] for coeffs in row] for row in p.operators],
+        "initial_values": [[to_tree(v) for v in vals] for vals in p.initial_values],
     }
 
 
@@ -105,4 +113,12 @@ def _units_dict(p):
                          for name, c in p.unit_contexts},
             "time": p.units.time_display,
             "parameters": {q.name: {"given": q.given, "si_value": float(q.si_value),
-                                    "si_unit": q.si_unit} for q in p.quantities}}
+                                    "si_unit": q.si_unit, "si_exact": to_tree(q.si_value),
+                                    "dimension": dict(q.dimensionality)}
+                           for q in p.quantities},
+            "contexts": [{"name": name, "unknown_si": c.unknown_si,
+                          "unknown_display": c.unknown_display, "time_display": c.time_display,
+                          "forcing_si": c.forcing_si, "symbol_units": dict(c.symbol_units),
+                          "dimensions": {k: dict(v) if v is not None else None
+                                         for k, v in c.dimensions}}
+                         for name, c in p.unit_contexts]}
