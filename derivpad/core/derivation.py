@@ -59,6 +59,8 @@ class Derivation(DisplayFacade):
     values: tuple = ()
     derived: dict = field(default_factory=dict)
     determinant: sp.Expr = sp.Integer(0)
+    response_poles: dict = field(default_factory=dict)   # unknown → poles of its transform
+    window: float | None = None      # the checks' window end (s), where the caller chose it
     _cache: dict = field(default_factory=dict, compare=False, repr=False)
 
     # -- squeezed views -------------------------------------------------------------------

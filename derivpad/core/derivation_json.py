@@ -47,8 +47,9 @@ def derivation_from_dict(data: dict) -> Derivation:
         interval_map={u: tuple((from_tree(iv["from"]["tree"]), from_tree(iv["tree"]))
                                for iv in ivs) for u, ivs in data["piecewise"].items()},
         impulses=tuple((int(i), from_tree(c), from_tree(a)) for i, c, a in data["impulses"]),
-        poles=tuple(Pole(p["kind"], from_tree(p["value"]["tree"]), from_tree(p["beta"]["tree"]),
-                         int(p["multiplicity"]), bool(p["numeric"])) for p in data["poles"]),
+        poles=_pole_list(data["poles"]),
+        response_poles={u: _pole_list(ps) for u, ps in data["response_poles"].items()},
+        window=None if data["window"] is None else float(data["window"]),
         assumptions=tuple(data["assumptions"]),
         conditions=tuple(from_tree(c) for c in data["conditions"]),
         verification=Verification(tuple(_check(c) for c in data["verification"]["checks"])),
@@ -60,6 +61,11 @@ def derivation_from_dict(data: dict) -> Derivation:
                      for name, v in data["values_for_checks"].items()),
         derived={name: from_tree(e["tree"]) for name, e in data["derived"].items()},
         determinant=from_tree(data["determinant"]["tree"]))
+
+
+def _pole_list(poles) -> tuple:
+    return tuple(Pole(p["kind"], from_tree(p["value"]["tree"]), from_tree(p["beta"]["tree"]),
+                      int(p["multiplicity"]), bool(p["numeric"])) for p in poles)
 
 
 def _trees(data, key) -> dict:

@@ -8,6 +8,7 @@ engineering results (core/results.py).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from types import MappingProxyType
 
@@ -26,7 +27,7 @@ from .verify import Verification, self_check
 from .window import window_end
 
 __all__ = ["check_options", "compile_numbers", "complete", "derive", "derive_problem",
-           "derive_state_space", "engine_check", "form_holds", "parameter_values",
+           "derive_state_space", "engine_check", "form_holds", "parameter_values", "recheck",
            "stages_for_values"]
 
 
@@ -246,7 +247,8 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
                   assumptions=stages.assumptions, conditions=stages.conditions,
                   notes=stages.notes, parts=stages.parts, values=tuple(value_map.items()),
                   derived=derived_solutions(problem, stages.solution),
-                  determinant=stages.determinant)
+                  determinant=stages.determinant, response_poles=stages.response_poles,
+                  window=window)
     numeric_tol = {k: v for k, v in tolerances.items() if k != "back_substitution"}
     if checks == "engine":
         skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
@@ -270,6 +272,27 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
     # d(times) uses the same compiled forms
     derivation._cache["numpy"] = {name: m.closed_form for name, m in numbers.models.items()}
     return derivation
+
+
+def recheck(derivation: Derivation, tolerances=None) -> Derivation:
+    """The derivation with its independent checks run again from its own closed form and
+    transforms (e.g. one read back from JSON, whose figure samples are not stored): the same
+    numbers, checks and samples as when it was derived."""
+    stages = Stages(steps=derivation.steps, determinant=derivation.determinant,
+                    transform=derivation.transforms, solution=derivation.solutions,
+                    intervals=derivation.interval_map, parts=derivation.parts,
+                    delayed_solutions={}, impulses=derivation.impulses,
+                    system_poles=derivation.poles, response_poles=derivation.response_poles,
+                    breakpoints=derivation.breakpoints, assumptions=derivation.assumptions,
+                    conditions=derivation.conditions, notes=derivation.notes)
+    value_map = dict(derivation.values)
+    numbers = compile_numbers(derivation.problem, stages, tuple(value_map)).at(value_map)
+    end = window_end(numbers.every_pole, list(numbers.breakpoints), derivation.window)
+    extra, samples = independent_checks(numbers, check_options("all", tolerances), end)
+    own = tuple(c for c in derivation.verification.checks if c.name not in
+                {x.name for x in extra} and c.name not in INDEPENDENT_CHECKS)
+    return dataclasses.replace(derivation, verification=Verification(own + extra, samples),
+                               _cache={})
 
 
 def refuse_failed(verification: Verification, what: str, on_failure: str) -> None:

@@ -14,7 +14,6 @@ import importlib.metadata as _md
 import json
 import os
 import platform
-import re
 import shutil
 import sys
 import tempfile
@@ -94,18 +93,19 @@ def environment_info(created: str) -> dict:
             "machine": platform.machine(), "packages": versions}
 
 
-_SVG = re.compile(r"<svg\b.*?</svg>", re.S)
-
-
-def _figures(fragments) -> dict[str, bytes]:
-    """Each derivation's inline verification figure, as its own SVG file."""
+def _figures(derivations) -> dict[str, bytes]:
+    """Each derivation's verification figure, drawn from its samples: the checks are run
+    again on the derivation read back from the notebook (deterministic, so the figure is the
+    one the notebook showed). A derivation with symbolic parameters and no values has none."""
+    from ..core.engine import recheck
+    from ..render.figure import figure_svg
     out = {}
-    for i, fragment in enumerate(fragments, 1):
-        match = _SVG.search(fragment)
-        if match:
+    for i, d in enumerate(derivations, 1):
+        if all(name in dict(d.values) for name in d.problem.symbols):
+            svg = figure_svg(recheck(d))
             out[f"figures/derivation-{i}.svg"] = (
-                '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n'
-                + match.group(0) + "\n").encode("utf-8")
+                '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n' + svg + "\n"
+            ).encode("utf-8")
     return out
 
 
@@ -168,7 +168,7 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
                  "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
                  "environment.json": _json(environment_info(created)).encode(),
                  notebook.name: _notebook_bytes(calc.notebook),
-                 **_figures(calc.html)}
+                 **_figures(calc.derivations)}
         for rel, data in files.items():
             say(f"writing {rel}")
             (stage / rel).parent.mkdir(parents=True, exist_ok=True)

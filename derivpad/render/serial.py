@@ -70,6 +70,8 @@ def derivation_to_dict(d: Derivation) -> dict:
         "piecewise": {u: [{"from": expression_dict(start), **expression_dict(expr)}
                           for start, expr in ivs] for u, ivs in d.interval_map.items()},
         "poles": _poles(d.poles),
+        "response_poles": {u: _poles(ps) for u, ps in d.response_poles.items()},
+        "window": d.window,
         "parts": {u: [[to_tree(c), to_tree(r)] for c, r in ps] for u, ps in d.parts.items()},
         "impulses": [[i, to_tree(c), to_tree(a)] for i, c, a in d.impulses],
         "conditions": [to_tree(c) for c in d.conditions],

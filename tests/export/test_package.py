@@ -36,6 +36,10 @@ def test_package_has_every_part_and_an_intact_manifest(packaged):
     assert results[0]["results"]["peak"]["unit"] == "mA"
     html = (folder / "report.html").read_text()
     assert "DEMO-002" in html and "qualified engineer" in html and "<script src=" not in html
+    # the figure file is drawn from the checks' samples, run again on the derivation read
+    # back from the notebook: the very figure the notebook showed inline
+    svg = (folder / "figures" / "derivation-1.svg").read_text()
+    assert svg[svg.index("<svg"):].strip() in html
 
 
 def test_pdf_has_pages_and_the_calc_number(packaged):
