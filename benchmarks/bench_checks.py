@@ -21,14 +21,14 @@ import numpy as np  # noqa: E402
 from scipy.integrate import solve_ivp  # noqa: E402
 
 from timing import median_time  # noqa: E402
-from derivpad.core import numeric_checks as nc  # noqa: E402
+from derivpad.core.checking import numeric_checks as nc  # noqa: E402
 from derivpad.core.engine import derive  # noqa: E402
 from derivpad.core.engine import compile_numbers  # noqa: E402
-from derivpad.core.stages import solve_stages  # noqa: E402
-from derivpad.core.forcing import TAU  # noqa: E402
-from derivpad.core.parse import T  # noqa: E402
-from derivpad.core.verify import self_check  # noqa: E402
-from derivpad.core.window import time_window  # noqa: E402
+from derivpad.core.symbolic.stages import solve_stages  # noqa: E402
+from derivpad.core.reading.forcing import TAU  # noqa: E402
+from derivpad.core.reading.parse import T  # noqa: E402
+from derivpad.core.model.checks import self_check  # noqa: E402
+from derivpad.core.checking.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
 
 

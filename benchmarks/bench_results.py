@@ -28,11 +28,11 @@ import numpy as np  # noqa: E402
 from scipy.optimize import brentq  # noqa: E402
 
 from timing import median_time  # noqa: E402
-from derivpad.core import numeric_checks as nc  # noqa: E402
+from derivpad.core.checking import numeric_checks as nc  # noqa: E402
 from derivpad.core.engine import compile_numbers, derive  # noqa: E402
-from derivpad.core.stages import solve_stages  # noqa: E402
-from derivpad.core.results import engineering_results  # noqa: E402
-from derivpad.core.window import time_window  # noqa: E402
+from derivpad.core.symbolic.stages import solve_stages  # noqa: E402
+from derivpad.core.checking.results import engineering_results  # noqa: E402
+from derivpad.core.checking.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
 
 

@@ -48,8 +48,8 @@ def chain(n: int):
 
 def _sympy_route(n: int, queue) -> None:
     import sympy as sp
-    from derivpad.core.parse import S, T
-    from derivpad.core.read_problem import make_problem
+    from derivpad.core.reading.parse import S, T
+    from derivpad.core.reading.read_problem import make_problem
     eqs, ics = chain(n)
     p = make_problem(eqs, ics)
     X = sp.symbols(f"X1:{n + 1}")

@@ -4,14 +4,14 @@ The supported names are listed in ``__all__``; everything else is internal.
 """
 
 from . import forcing
-from .core.derivation import Derivation
+from .core.model.derivation import Derivation
 from .core.engine import derive, derive_state_space
-from .core.problem import Problem
-from .core.record import CalcRecord
-from .core.results import Result
-from .core.rules import RULES
-from .core.steps import Line, Rule, Step
-from .core.verify import Check, Verification
+from .core.model.problem import Problem
+from .core.reading.record import CalcRecord
+from .core.model.result import Result
+from .core.symbolic.rules import RULES
+from .core.model.steps import Line, Rule, Step
+from .core.model.checks import Check, Verification
 from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
                      ManifestMismatchError, MissingExtraError, NonlinearTermError,
                      PackageRefusedError, ParameterError, ParseError,

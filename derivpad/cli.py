@@ -143,7 +143,7 @@ def _sampled(derivation, times) -> dict:
 
 def _sample_table(derivation, times) -> list[str]:
     """Rows of t and each quantity, in display units."""
-    from .core.units import display_factor, display_offset
+    from .core.reading.units import display_factor, display_offset
     p = derivation.problem
     values = _sampled(derivation, times)
     t_unit = p.units.time_display if p.units else ""

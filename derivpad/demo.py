@@ -7,7 +7,7 @@ takes a 6 kN force from a pressure surge in its piping, from t = 0.02 s to 0.07 
 
 from __future__ import annotations
 
-from .core.derivation import Derivation
+from .core.model.derivation import Derivation
 from .core.engine import derive
 
 __all__ = ["DEMO_EQUATION", "DEMO_ICS", "DEMO_PARAMS", "DEMO_TIMES", "DEMO_TITLE", "DEMO_UNITS",

@@ -8,7 +8,7 @@ forcings add, and a Forcing given as a parameter value replaces that name on the
     derivpad.derive("m*x'' + k*x = F", ics=..., params={"m": 900, "k": 3.6e6, "F": load})
 """
 
-from .core.forcing import (Forcing, impulse, pulse, ramp, step, switched_cosine, switched_exp,
+from .core.reading.forcing import (Forcing, impulse, pulse, ramp, step, switched_cosine, switched_exp,
                            switched_sine, table, triangle, window)
 
 __all__ = sorted(["Forcing", "impulse", "pulse", "ramp", "step", "switched_cosine",

@@ -12,7 +12,7 @@ import numpy as np
 import sympy as sp
 from scipy.integrate import solve_ivp
 
-from derivpad.core.parse import T
+from derivpad.core.reading.parse import T
 
 
 def integrate(problem, times, breakpoints=(), impulses=()):

@@ -4,7 +4,7 @@ import re
 from pathlib import Path
 
 import derivpad
-from derivpad.core.rules import RULES
+from derivpad.core.symbolic.rules import RULES
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -12,15 +12,16 @@ import math
 from types import MappingProxyType
 
 from ..errors import ParseError
-from .algebra import Pole
-from .derivation import Derivation
-from .exprtree import from_tree
-from .problem import Problem
-from .results import Result, _quantity
-from .rules import rule
-from .steps import Line, Rule, Step
-from .units import Quantity, UnitContext, registry
-from .verify import Check, Verification
+from .symbolic.algebra import Pole
+from .model.derivation import Derivation
+from .model.exprtree import from_tree
+from .model.problem import Problem
+from .model.result import Result
+from .checking.results import _quantity
+from .symbolic.rules import rule
+from .model.steps import Line, Rule, Step
+from .reading.units import Quantity, UnitContext, registry
+from .model.checks import Check, Verification
 
 __all__ = ["FORMAT", "READABLE_VERSIONS", "derivation_from_dict"]
 
@@ -50,6 +51,7 @@ def derivation_from_dict(data: dict) -> Derivation:
         poles=_pole_list(data["poles"]),
         response_poles={u: _pole_list(ps) for u, ps in data["response_poles"].items()},
         window=None if data["window"] is None else float(data["window"]),
+        value_rows=tuple((str(n), float(v), str(u)) for n, v, u in data["value_table"]),
         assumptions=tuple(data["assumptions"]),
         conditions=tuple(from_tree(c) for c in data["conditions"]),
         verification=Verification(tuple(_check(c) for c in data["verification"]["checks"])),

@@ -1,7 +1,7 @@
 """derive(): read the problem, run the stages, check the answer, build the Derivation.
 
 One route for one unknown or many: ``make_problem`` (core/read_problem.py) → the symbolic
-stages (core/stages.py) → the engine's own check (core/verify.py) → the derivation compiled
+stages (core/stages.py) → the engine's own check (core/own_check.py) → the derivation compiled
 for numbers (core/numeric_model.py) → the independent checks (core/numeric_checks.py) → the
 engineering results (core/results.py).
 """
@@ -15,16 +15,18 @@ from types import MappingProxyType
 import sympy as sp
 
 from ..errors import DerivpadError, ParameterError, UnitError, VerificationFailedError
-from .derivation import Derivation
-from .numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
-from .numeric_model import ParametricNumbers
-from .problem import Problem, mapping_of, to_exact
-from .read_problem import make_problem
-from .results import definitions_of, engineering_results
-from .stages import Stages, derived_solutions, solve_stages
-from .units import dimension_text, read_quantity
-from .verify import Verification, self_check
-from .window import window_end
+from .model.derivation import Derivation
+from .checking.numeric_checks import INDEPENDENT_CHECKS, independent_checks, missing_values, not_run
+from .checking.numeric_model import ParametricNumbers
+from .model.problem import Problem
+from .reading.values import mapping_of, to_exact
+from .reading.read_problem import make_problem
+from .checking.results import definitions_of, engineering_results
+from .symbolic.stages import Stages, derived_solutions, solve_stages
+from .reading.units import dimension_text, display_unit_for, read_quantity, to_display
+from .model.checks import Verification
+from .checking.own_check import self_check
+from .checking.window import window_end
 
 __all__ = ["check_options", "compile_numbers", "complete", "derive", "derive_problem",
            "derive_state_space", "engine_check", "form_holds", "parameter_values", "recheck",
@@ -107,7 +109,7 @@ def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, name
     """Solve x' = A x + B u(t), x(0⁻) = x0 step by step; outputs y = C x + D u (``outputs``
     is C) are reported as derived quantities y1, y2, ... Inputs ``u`` are in the forcing
     library's Heaviside form (text, SymPy expressions in t, or ``derivpad.forcing`` loads)."""
-    from .state_space import state_space_problem
+    from .reading.state_space import state_space_problem
     problem = state_space_problem(A, B, u, x0, outputs, D, names)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,
@@ -248,7 +250,7 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
                   notes=stages.notes, parts=stages.parts, values=tuple(value_map.items()),
                   derived=derived_solutions(problem, stages.solution),
                   determinant=stages.determinant, response_poles=stages.response_poles,
-                  window=window)
+                  window=window, value_rows=value_rows(problem, value_map))
     numeric_tol = {k: v for k, v in tolerances.items() if k != "back_substitution"}
     if checks == "engine":
         skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
@@ -311,11 +313,26 @@ def refuse_failed(verification: Verification, what: str, on_failure: str) -> Non
 
 def withheld(verification: Verification):
     """The results of an unverified derivation: none, with the reason."""
-    from .results import Result
+    from .model.result import Result
     names = ", ".join(c.name for c in verification.failed)
     reason = f"verification failed ({names}): no engineering result is given"
     return MappingProxyType({"verification": Result("verification", "engineering results", None,
                                                     "", "", "", reason)})
+
+
+def value_rows(problem: Problem, value_map: dict) -> tuple:
+    """The numbers for symbolic parameters, each in its declared unit: ((name, number, unit),
+    ...) (SI numbers and no unit where none was declared)."""
+    ctx = problem.units
+    out = []
+    for name, v in value_map.items():
+        unit = ctx.symbol_unit(name) if ctx else None
+        if unit:
+            si = display_unit_for(dict(ctx.dimensions)[name])
+            out.append((name, to_display(float(v), si, unit), unit))
+        else:
+            out.append((name, float(v), ""))
+    return tuple(out)
 
 
 def parameter_values(problem: Problem, values) -> dict:

@@ -17,11 +17,11 @@ from dataclasses import dataclass
 
 
 from ..errors import DerivpadError, ParameterError
-from .derivation import Derivation
+from .model.derivation import Derivation
 from .engine import (check_options, compile_numbers, complete, derive, engine_check, form_holds,
                      parameter_values)
-from .read_problem import make_problem
-from .stages import solve_stages
+from .reading.read_problem import make_problem
+from .symbolic.stages import solve_stages
 
 __all__ = ["DerivationFamily", "FamilyMember", "what_changed"]
 

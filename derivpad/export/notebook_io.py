@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..core.derivation import Derivation
+from ..core.model.derivation import Derivation
 from ..errors import ExportError, PackageRefusedError, import_extra
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE

@@ -92,7 +92,7 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
 
 
 def _record_object(record: dict):
-    from ..core.record import CalcRecord
+    from ..core.reading.record import CalcRecord
     fields = dict(record)
     fields["inputs"] = [(i["name"], i["value"], i["source"]) for i in record.get("inputs", [])]
     fields["revision_history"] = [(r["revision"], r["date"], r["description"])

@@ -13,7 +13,7 @@ exact ``params={...}`` line for the calc record.
 
 from __future__ import annotations
 
-from ..core.derivation import Derivation
+from ..core.model.derivation import Derivation
 from ..core.family import DerivationFamily, what_changed
 from ..errors import DerivpadError, ParameterError, import_extra
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..core.units import display_factor, display_offset
+from ..core.reading.units import display_factor, display_offset
 from ..errors import ExportError, import_extra
 
 __all__ = ["FIGURE_FORMATS", "LiveFigure", "figure_svg", "save_figure", "verification_figure"]

@@ -14,10 +14,10 @@ import html
 
 import sympy as sp
 
-from ..core.derivation import Derivation
-from ..core.labels import initial_value_label
-from ..core.steps import Step
-from ..core.verify import Check, Verification
+from ..core.model.derivation import Derivation
+from ..core.model.labels import initial_value_label
+from ..core.model.steps import Step
+from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION, LatexRenderer
 from .notation import format_value, latex_expr, result_parts

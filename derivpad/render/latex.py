@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from ..core.derivation import Derivation
-from ..core.steps import Line, Step
-from ..core.verify import Check, Verification
+from ..core.model.derivation import Derivation
+from ..core.model.steps import Line, Step
+from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .notation import latex_expr, result_parts
 

@@ -13,7 +13,7 @@ import sympy as sp
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from ..core.parse import S
+from ..core.reading.parse import S
 
 __all__ = ["NotationLatexPrinter", "NotationTextPrinter", "format_value", "latex_expr",
            "text_expr"]

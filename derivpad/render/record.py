@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import html
 
-from ..core.record import CalcRecord
+from ..core.reading.record import CalcRecord
 from .latex import CAUTION
 
 __all__ = ["record_html", "record_text", "record_bundle", "RECORD_MIME_TYPE"]

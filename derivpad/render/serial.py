@@ -7,10 +7,10 @@ tree form of ``derivpad.core.exprtree`` that reads back into SymPy without evalu
 from __future__ import annotations
 
 
-from ..core.derivation import Derivation
-from ..core.exprtree import to_tree
-from ..core.problem import derivative_name
-from ..core.steps import Step
+from ..core.model.derivation import Derivation
+from ..core.model.exprtree import to_tree
+from ..core.model.problem import derivative_name
+from ..core.model.steps import Step
 from .latex import CAUTION, step_math_latex
 from .notation import latex_expr, text_expr
 
@@ -81,6 +81,7 @@ def derivation_to_dict(d: Derivation) -> dict:
         "results": {key: r.to_dict() for key, r in (d.results or {}).items()},
         "units": _units_dict(p),
         "values_for_checks": {name: expression_dict(v) for name, v in d.values},
+        "value_table": [list(row) for row in d.value_rows],
         "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
         "caution": CAUTION,
     }

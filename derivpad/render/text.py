@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import textwrap
 
-from ..core.derivation import Derivation
-from ..core.steps import Line, Step
-from ..core.verify import Check, Verification
+from ..core.model.derivation import Derivation
+from ..core.model.steps import Line, Step
+from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
 from .notation import result_parts, text_expr

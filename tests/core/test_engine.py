@@ -6,7 +6,7 @@ import sympy as sp
 
 import derivpad
 from derivpad import derive, forcing
-from derivpad.core.parse import T
+from derivpad.core.reading.parse import T
 from derivpad.errors import ForcingError, SolveError, UnknownNameError, VerificationFailedError
 from tests.reference import integrate
 
@@ -175,7 +175,7 @@ def test_derivation_api_shape():
 
 
 def test_engine_refuses_to_return_a_wrong_answer(monkeypatch):
-    from derivpad.core import stages
+    from derivpad.core.symbolic import stages
     real = stages.partial_fractions
 
     def corrupted(numerator, poles):

@@ -11,7 +11,7 @@ import derivpad
 from derivpad import ParameterError, UnitError
 from derivpad.core import family as family_module
 from derivpad.core.family import DerivationFamily, what_changed
-from derivpad.core.read_problem import make_problem
+from derivpad.core.reading.read_problem import make_problem
 
 from ..reference import integrate
 

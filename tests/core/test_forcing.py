@@ -5,8 +5,8 @@ import pytest
 import sympy as sp
 
 from derivpad import forcing
-from derivpad.core.forcing import heaviside_pieces
-from derivpad.core.parse import T
+from derivpad.core.reading.forcing import heaviside_pieces
+from derivpad.core.reading.parse import T
 from derivpad.errors import ForcingError
 
 

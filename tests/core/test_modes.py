@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 import sympy as sp
 
-from derivpad.core.modes import Modes, ModeTable, NotAModeSum, symbolic_modes
-from derivpad.core.parse import T
+from derivpad.core.checking.modes import Modes, ModeTable, NotAModeSum, symbolic_modes
+from derivpad.core.reading.parse import T
 
 H = sp.Heaviside
 EXPRS = [

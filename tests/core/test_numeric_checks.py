@@ -10,10 +10,10 @@ import sympy as sp
 
 from derivpad import ParameterError, VerificationFailedError, derive
 from derivpad.core.engine import compile_numbers
-from derivpad.core.stages import solve_stages
-from derivpad.core.numeric_checks import integration_check, inversion_check
-from derivpad.core.parse import S
-from derivpad.core.read_problem import make_problem
+from derivpad.core.symbolic.stages import solve_stages
+from derivpad.core.checking.numeric_checks import integration_check, inversion_check
+from derivpad.core.reading.parse import S
+from derivpad.core.reading.read_problem import make_problem
 
 ZERO2 = {"y(0)": 0, "y'(0)": 0}
 NAMES = ["ODE on every interval", "Initial conditions at 0+", "Jump conditions at breakpoints",

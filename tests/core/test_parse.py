@@ -6,7 +6,7 @@ import subprocess
 import pytest
 import sympy as sp
 
-from derivpad.core.parse import T, parse_equation, parse_value
+from derivpad.core.reading.parse import T, parse_equation, parse_value
 from derivpad.errors import ParseError, UnknownNameError, UnsafeInputError
 
 y = sp.Function("y")(T)

@@ -3,8 +3,8 @@
 import pytest
 import sympy as sp
 
-from derivpad.core.parse import T
-from derivpad.core.read_problem import make_problem
+from derivpad.core.reading.parse import T
+from derivpad.core.reading.read_problem import make_problem
 from derivpad.errors import (EquationError, InitialConditionError, NonlinearTermError,
                              ParameterError, VariableCoefficientError)
 

@@ -11,7 +11,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from derivpad import derive
-from derivpad.core.parse import S
+from derivpad.core.reading.parse import S
 from tests.reference import integrate
 
 real_root = st.integers(-4, -1)

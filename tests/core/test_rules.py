@@ -10,12 +10,12 @@ import mpmath
 import pytest
 import sympy as sp
 
-from derivpad.core.algebra import poles_of
-from derivpad.core.forcing import TAU, heaviside_pieces
-from derivpad.core.parse import S, T
-from derivpad.core.partial_fractions import partial_fractions
-from derivpad.core.rules import RULES
-from derivpad.core.transform import TableTerm, derivative_transform, transform_groups, transform_term
+from derivpad.core.symbolic.algebra import poles_of
+from derivpad.core.reading.forcing import TAU, heaviside_pieces
+from derivpad.core.reading.parse import S, T
+from derivpad.core.symbolic.partial_fractions import partial_fractions
+from derivpad.core.symbolic.rules import RULES
+from derivpad.core.symbolic.transform import TableTerm, derivative_transform, transform_groups, transform_term
 
 t = sp.Symbol("t", positive=True)
 R = sp.Rational
@@ -144,7 +144,7 @@ def test_numeric_roots_against_numpy_roots():
 
 
 def test_solve_algebraic_rule_is_cramer():
-    from derivpad.core.algebra import solve_system
+    from derivpad.core.symbolic.algebra import solve_system
     A = sp.Matrix([[S ** 2 + 2, -1], [-1, S ** 2 + 1]])
     B = sp.Matrix([1 / S, 0])
     det, nums = solve_system(A, B)

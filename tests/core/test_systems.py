@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 import derivpad
 from derivpad import (EquationError, InitialConditionError, NonlinearTermError, SolveError,
                       UnitError)
-from derivpad.core.parse import S, T
+from derivpad.core.reading.parse import S, T
 
 from ..reference import integrate_second_order
 

@@ -4,9 +4,9 @@ import pytest
 import sympy as sp
 
 from derivpad import UnitError, derive
-from derivpad.core.read_problem import make_problem
-from derivpad.core.units import read_quantity, registry
-from derivpad.core.parse import T
+from derivpad.core.reading.read_problem import make_problem
+from derivpad.core.reading.units import read_quantity, registry
+from derivpad.core.reading.parse import T
 
 REST = {"x(0)": 0, "x'(0)": 0}
 

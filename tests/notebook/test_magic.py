@@ -53,6 +53,6 @@ def test_several_equation_lines_make_a_system():
     # K x = f under the held load: x1 = x2 = F0/k1 = 1/16, the mean of the undamped motion,
     # i.e. lim s X1(s) as s → 0 (statics; common practice, no source)
     import sympy as sp
-    from derivpad.core.parse import S
+    from derivpad.core.reading.parse import S
     assert float(sp.limit(S * d.transform["x1"], S, 0)) == pytest.approx(1 / 16, rel=1e-30)
     assert d.verification.passed

@@ -2,8 +2,8 @@
 
 import sympy as sp
 
-from derivpad.core.parse import S, T
-from derivpad.core.transform import Laplace
+from derivpad.core.reading.parse import S, T
+from derivpad.core.symbolic.transform import Laplace
 from derivpad.render.latex import to_latex
 from derivpad.render.notation import latex_expr, text_expr
 from derivpad.render.text import to_text
@@ -47,7 +47,7 @@ def test_floats_show_six_significant_digits():
 def test_labels_print_through_their_own_printer_methods():
     # notation as objects (core/labels.py): no name is decoded; what a checker reads on a
     # hand calc sheet (common practice, no source)
-    from derivpad.core.labels import InitialValue, PartLabel, PolynomialLabel
+    from derivpad.core.model.labels import InitialValue, PartLabel, PolynomialLabel
     assert latex_expr(InitialValue("y", 1)) == "y'(0^{-})"
     assert text_expr(InitialValue("y", 1)) == "y'(0-)"
     assert latex_expr(InitialValue("x2", 4)) == "x_{2}^{(4)}(0^{-})"

@@ -11,7 +11,7 @@ import sympy as sp
 
 import derivpad
 from derivpad import Derivation, ParseError, forcing
-from derivpad.core.parse import T
+from derivpad.core.reading.parse import T
 from derivpad.export.audit import _compare
 from derivpad.export.package import record_of
 from derivpad.render.mimebundle import DERIVATION_MIME_TYPE

@@ -14,12 +14,12 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-from ..errors import ForcingError
-from .forcing import TAU, ForcingPiece
-from .parse import S, T
-from .labels import Laplace
+from ...errors import ForcingError
+from ..reading.forcing import TAU, ForcingPiece
+from ..reading.parse import S, T
+from ..model.labels import Laplace
 from .rules import rule
-from .steps import Line, Rule, Step
+from ..model.steps import Line, Rule, Step
 
 __all__ = ["TableTerm", "TransformedTerm", "ForcingGroup", "table_terms", "transform_piece",
            "derivative_transform", "Laplace", "Ysym", "real_factor", "complex_factor",

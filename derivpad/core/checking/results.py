@@ -17,6 +17,7 @@ from types import MappingProxyType
 import numpy as np
 
 from .numeric_model import Numbers
+from ..model.result import Result
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
 __all__ = ["Result", "ResultWriter", "engineering_results", "response_results"]
@@ -33,57 +34,6 @@ _SHOCK = ("primary (load acting) and residual (after it) response; shock-respons
           "Harris' Shock and Vibration Handbook, ch. 8 (from memory)")
 
 
-@dataclass(frozen=True, slots=True)
-class Result:
-    """One engineering result: value (a pint Quantity where a unit applies), unit, how, source."""
-
-    key: str
-    label: str
-    value: object
-    unit: str
-    formula: str
-    source: str
-    reason: str = ""   # why the value is None (does not apply) or math.inf (unbounded)
-    note: str = ""     # e.g. "approached as t → ∞, not attained"
-
-    @property
-    def present(self) -> bool:
-        """True when the result has a finite value."""
-        m = self.magnitude
-        return m is not None and not (isinstance(m, float) and math.isinf(m))
-
-    @property
-    def magnitude(self):
-        """The plain number (or tuple of numbers) without its unit."""
-        return getattr(self.value, "magnitude", self.value)
-
-    def to_dict(self) -> dict:
-        m = self.magnitude
-        infinite = isinstance(m, float) and math.isinf(m)
-        status = ("not applicable" if m is None else
-                  "unbounded" if infinite and self.reason.startswith("unbounded") else
-                  "as t → ∞" if infinite else "value")
-        return {"key": self.key, "label": self.label, "value": _json_value(m) if m is not None
-                else None, "unit": self.unit, "status": status, "reason": self.reason,
-                "note": self.note, "formula": self.formula, "source": self.source}
-
-
-def _json_value(v):
-    """Numbers, tuples of numbers and tuples of tuples (mode shapes) as JSON values."""
-    if isinstance(v, (list, tuple)):
-        return [_json_value(x) for x in v]
-    return _json_number(v)
-
-
-def _json_number(v):
-    if isinstance(v, complex):
-        return {"re": v.real, "im": v.imag}
-    if isinstance(v, (bool, str)):
-        return v
-    v = float(v)
-    return v if math.isfinite(v) else None
-
-
 def _quantity(value, unit: str, units):
     """value in SI → pint Quantity in the unit given (when the problem has units); None (does
     not apply) and math.inf (unbounded) stay plain."""
@@ -91,7 +41,7 @@ def _quantity(value, unit: str, units):
         return value
     if isinstance(value, float) and math.isinf(value):
         return value
-    from .units import registry
+    from ..reading.units import registry
     ureg = registry()
     return ureg.Quantity(value, ureg.parse_units(unit))
 
@@ -125,14 +75,14 @@ class ResultWriter:
         """A value of the response, SI → display unit."""
         if self.units is None:
             return v
-        from .units import to_display
+        from ..reading.units import to_display
         return to_display(v, self.units.unknown_si, self.y_unit)
 
     def to_t(self, v):
         """A time, s → display unit."""
         if self.units is None:
             return v
-        from .units import to_display
+        from ..reading.units import to_display
         return to_display(v, "s", self.t_unit)
 
     def add(self, k, label, value, unit, formula, source, reason="", note=""):
@@ -326,7 +276,7 @@ step_info uses the same defaults (SettlingTimeThreshold 0.02, RiseTimeLimits (0.
 
 def definitions_of(definitions) -> dict:
     """The step-response definitions, defaults filled in and each checked."""
-    from ..errors import ParameterError
+    from ...errors import ParameterError
     out = dict(DEFAULT_DEFINITIONS)
     for key, value in dict(definitions or {}).items():
         if key not in out:

@@ -9,45 +9,45 @@ __all__ = ["bundle", "figure", "html", "latex", "record_bundle", "save_figure", 
 
 
 def step_latex(step) -> str:
-    from ..render.latex import step_math_latex
+    from ...render.latex import step_math_latex
     return step_math_latex(step)
 
 
 def record_bundle(record, include=None, exclude=None) -> dict:
-    from ..render.record import record_bundle as build
+    from ...render.record import record_bundle as build
     return build(record, include, exclude)
 
 
 def figure(derivation, **settings):
-    from ..render.figure import verification_figure  # matplotlib is an extra
+    from ...render.figure import verification_figure  # matplotlib is an extra
     return verification_figure(derivation, **settings)
 
 
 def save_figure(derivation, path, **settings):
-    from ..render.figure import save_figure as save
+    from ...render.figure import save_figure as save
     return save(derivation, path, **settings)
 
 
 def to_dict(derivation) -> dict:
-    from ..render.serial import derivation_to_dict
+    from ...render.serial import derivation_to_dict
     return derivation_to_dict(derivation)
 
 
 def latex(obj, **settings) -> str:
-    from ..render.latex import to_latex
+    from ...render.latex import to_latex
     return to_latex(obj, **settings)
 
 
 def html(obj, **settings) -> str:
-    from ..render.html import to_html
+    from ...render.html import to_html
     return to_html(obj, **settings)
 
 
 def text(obj, **settings) -> str:
-    from ..render.text import to_text
+    from ...render.text import to_text
     return to_text(obj, **settings)
 
 
 def bundle(obj, include=None, exclude=None) -> dict:
-    from ..render.mimebundle import mimebundle
+    from ...render.mimebundle import mimebundle
     return mimebundle(obj, include, exclude)

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import sympy as sp
 
-from ..errors import ParseError
+from ...errors import ParseError
 from .labels import InitialValue, InverseLaplace, Laplace, PartLabel, PolynomialLabel
 
 __all__ = ["to_tree", "from_tree"]

@@ -18,11 +18,11 @@ from math import factorial
 import mpmath
 import sympy as sp
 
-from ..errors import SolveError
+from ...errors import SolveError
 from .algebra import WORKING_DIGITS, Pole, PoleSet
-from .parse import S
+from ..reading.parse import S
 from .rules import rule
-from .steps import Line, Step
+from ..model.steps import Line, Step
 
 __all__ = ["FractionTerm", "partial_fractions", "fraction_steps"]
 

@@ -7,7 +7,7 @@ against numerical integration of the Laplace integral with mpmath.
 
 from __future__ import annotations
 
-from .steps import Rule
+from ..model.steps import Rule
 
 __all__ = ["RULES", "rule"]
 

@@ -18,11 +18,11 @@ import mpmath
 import numpy as np
 import sympy as sp
 
-from .evaluate import _heaviside, _no_impulse
-from .forcing import forcing_on_interval
+from ..model.evaluate import _heaviside, _no_impulse
+from ..reading.forcing import forcing_on_interval
 from .modes import ModeTable, NotAModeSum
-from .parse import S, T
-from .stages import derived_solutions
+from ..reading.parse import S, T
+from ..symbolic.stages import derived_solutions
 
 __all__ = ["NumericModel", "Numbers", "ParametricNumbers", "s_limits", "stable"]
 

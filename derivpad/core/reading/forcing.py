@@ -15,22 +15,22 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-from ..errors import ForcingError, ParameterError
+from ...errors import ForcingError, ParameterError
 from .parse import T
+from ..model.symbols import TAU
 
 __all__ = ["Forcing", "ForcingPiece", "forcing_on_interval", "heaviside_pieces",
            "piecewise_to_heaviside", "TAU",
            "step", "ramp", "pulse", "triangle", "table", "impulse", "switched_sine",
            "switched_cosine", "switched_exp", "window"]
 
-TAU = sp.Symbol("tau", real=True)
 """Local time after a delay, τ = t - c."""
 
 u = sp.Heaviside
 
 
 def _num(value, name: str) -> sp.Expr:
-    from .problem import to_exact  # local: problem imports parse, which this module shares
+    from .values import to_exact  # local: problem imports parse, which this module shares
     try:
         return to_exact(value, name)
     except ParameterError as exc:

@@ -17,18 +17,18 @@ from dataclasses import dataclass
 import sympy as sp
 from sympy.polys.matrices import DomainMatrix
 
-from ..errors import EquationError, SolveError
+from ...errors import EquationError, SolveError
 from .algebra import initial_condition_polynomial, merge_poles, poles_of
-from .forcing import TAU, heaviside_pieces
-from .labels import InitialValue, PartLabel, PolynomialLabel
+from ..reading.forcing import TAU, heaviside_pieces
+from ..model.labels import InitialValue, PartLabel, PolynomialLabel
 from .inverse import invert_term, inversion_step, shift
-from .parse import S, T
+from ..reading.parse import S, T
 from .partial_fractions import fraction_steps, partial_fractions
-from .problem import Problem
+from ..model.problem import Problem
 from .rules import rule
-from .steps import Line, Step
+from ..model.steps import Line, Step
 from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
-from .units import sign_cautions
+from ..reading.units import sign_cautions
 
 __all__ = ["Stages", "derived_solutions", "determinant_and_adjugate", "interval_text", "order_key",
            "solve_stages"]

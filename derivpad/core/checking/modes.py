@@ -23,7 +23,7 @@ import mpmath
 import numpy as np
 import sympy as sp
 
-from .parse import T
+from ..reading.parse import T
 
 __all__ = ["ModeTable", "Modes", "NotAModeSum", "symbolic_modes"]
 

@@ -19,8 +19,8 @@ from dataclasses import dataclass
 import mpmath
 import sympy as sp
 
-from ..errors import SolveError
-from .parse import S
+from ...errors import SolveError
+from ..reading.parse import S
 
 __all__ = ["Pole", "PoleSet", "characteristic_polynomial", "initial_condition_polynomial",
            "solve_system", "poles_of", "merge_poles", "WORKING_DIGITS"]

@@ -16,7 +16,7 @@ from functools import lru_cache
 
 import sympy as sp
 
-from ..errors import ParameterError, ParseError, UnitError
+from ...errors import ParameterError, ParseError, UnitError
 from .parse import check_number_text
 
 __all__ = ["Quantity", "UnitContext", "read_quantity", "registry", "check_homogeneity",

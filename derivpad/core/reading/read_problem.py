@@ -13,10 +13,11 @@ import re
 
 import sympy as sp
 
-from ..errors import (EquationError, ForcingError, InitialConditionError, NonlinearTermError,
+from ...errors import (EquationError, ForcingError, InitialConditionError, NonlinearTermError,
                       ParameterError, ParseError, UnknownNameError, VariableCoefficientError)
 from .parse import RESERVED_NAMES, T, Term, parse_equation, parse_expression, primed_names
-from .problem import Problem, derivative_name, mapping_of, read_parameter, to_exact
+from ..model.problem import Problem, derivative_name
+from .values import mapping_of, read_parameter, to_exact
 from .problem_units import unit_contexts
 from .units import read_quantity
 

@@ -1,4 +1,4 @@
-"""Checks of a solution that do not reuse the derivation: Check and Verification values.
+"""The engine's own check: the solution substituted back into every equation.
 
 The engine's own check (``self_check``) substitutes the solution back into the ODE on every
 open interval between breakpoints, into the initial conditions as limits from the right at
@@ -10,96 +10,22 @@ given sample values that satisfy the derivation's assumptions.
 
 from __future__ import annotations
 
-import math
 import random
-from dataclasses import dataclass
 
 import mpmath
 import sympy as sp
 
-from .forcing import TAU, forcing_on_interval
-from .parse import T
+from ..model.checks import Check
+from ..reading.forcing import forcing_on_interval
+from ..reading.parse import T
+from ..model.symbols import TAU
 
-__all__ = ["Check", "Samples", "Verification", "self_check", "DEFAULT_TOLERANCES"]
+__all__ = ["DEFAULT_TOLERANCES", "self_check"]
 
 DEFAULT_TOLERANCES = {"exact": 1e-20, "numeric": 1e-9}
 """Relative residual allowed: exact coefficients (30-digit arithmetic), numerical poles."""
 
 _DIGITS = 30
-
-
-@dataclass(frozen=True, slots=True)
-class Check:
-    """One check: what was checked, how, the tolerance, the measured error, and the outcome.
-
-    ``ran`` is False when the check could not run (say so in ``detail``; it does not count as
-    passed); ``applicable`` is False when the check's theorem does not apply to this problem
-    (``detail`` says why; it counts neither way).
-    """
-
-    name: str
-    method: str
-    tolerance: float
-    error: float
-    passed: bool
-    ran: bool = True
-    detail: str = ""
-    applicable: bool = True
-
-    @property
-    def status(self) -> str:
-        if not self.applicable:
-            return "not applicable"
-        if not self.ran:
-            return "not run"
-        return "passed" if self.passed else "FAILED"
-
-    def to_dict(self) -> dict:
-        """JSON-safe: a check with no measured error (not run, not applicable) has null."""
-        return {"name": self.name, "method": self.method, "tolerance": _finite(self.tolerance),
-                "error": _finite(self.error), "passed": self.passed, "ran": self.ran,
-                "applicable": self.applicable, "status": self.status, "detail": self.detail}
-
-
-def _finite(x):
-    return x if isinstance(x, (int, float)) and math.isfinite(x) else None
-
-
-@dataclass(frozen=True, slots=True, eq=False)
-class Samples:
-    """Sampled arrays a verification figure needs: each unknown's closed form against the
-    numerical integration, and each equation's forcing, on one grid of times."""
-
-    times: "object"          # numpy array of t
-    closed_form: dict        # unknown → x(t) from the derivation
-    integrated: dict         # unknown → x(t) from the integrator
-    forcing: dict            # equation label ("f", or "f1", "f2", ...) → f_i(t)
-    breakpoints: tuple[float, ...]
-
-    def difference(self, name: str):
-        """|closed form - integration| of one unknown at each sample time."""
-        return abs(self.closed_form[name] - self.integrated[name])
-
-
-@dataclass(frozen=True, slots=True, eq=False)
-class Verification:
-    """All checks of one derivation; ``passed`` only when every applicable check ran and passed."""
-
-    checks: tuple[Check, ...]
-    samples: Samples | None = None
-
-    @property
-    def passed(self) -> bool:
-        return bool(self.checks) and all(c.status in ("passed", "not applicable")
-                                         for c in self.checks)
-
-    @property
-    def failed(self) -> tuple[Check, ...]:
-        """Checks that ran and failed, or could not run."""
-        return tuple(c for c in self.checks if c.status in ("FAILED", "not run"))
-
-    def to_dict(self) -> dict:
-        return {"passed": self.passed, "checks": [c.to_dict() for c in self.checks]}
 
 
 def _sample_values(symbols, conditions, preferred=None, seed: int = 20261201) -> dict:
@@ -126,7 +52,7 @@ def _sample_values(symbols, conditions, preferred=None, seed: int = 20261201) ->
             else vals
         if all(c.subs(vals) is sp.true for c in conditions):
             return vals
-    from ..errors import VerificationFailedError
+    from ...errors import VerificationFailedError
     msg = ("the engine's own check found no parameter values that satisfy the derivation's "
            "assumptions (" + "; ".join(sp.sstr(c) for c in conditions) + "); give values for "
            "the symbolic parameters that satisfy them (values=)")
@@ -144,7 +70,7 @@ def _points(a, b):
 
 def _step_value(x, *_):
     if x == 0:
-        from ..errors import VerificationFailedError
+        from ...errors import VerificationFailedError
         raise VerificationFailedError("a check's sample point fell on a switching time; "
                                       "please report this equation")
     return 1 if x > 0 else 0

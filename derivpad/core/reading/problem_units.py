@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import sympy as sp
 
-from ..errors import UnitError
+from ...errors import UnitError
 from .parse import T
-from .problem import derivative_name
+from ..model.problem import derivative_name
 from .units import (UnitContext, check_homogeneity, dimension_of, dimension_text,
                     display_unit_for, has_units, read_quantity, registry, time_dimension)
 

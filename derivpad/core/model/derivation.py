@@ -16,10 +16,10 @@ import sympy as sp
 
 from .display_facade import DisplayFacade
 from .evaluate import numpy_function
-from .parse import T
+from .symbols import T
 from .problem import Problem, derivative_name
 from .steps import Step
-from .verify import Verification
+from .checks import Verification
 
 __all__ = ["Derivation"]
 
@@ -61,6 +61,7 @@ class Derivation(DisplayFacade):
     determinant: sp.Expr = sp.Integer(0)
     response_poles: dict = field(default_factory=dict)   # unknown → poles of its transform
     window: float | None = None      # the checks' window end (s), where the caller chose it
+    value_rows: tuple = ()           # ((name, number, unit), ...): ``values`` in declared units
     _cache: dict = field(default_factory=dict, compare=False, repr=False)
 
     # -- squeezed views -------------------------------------------------------------------
@@ -120,7 +121,7 @@ class Derivation(DisplayFacade):
         given = dict(self.values)
         open_symbols = [n for n in self.problem.symbols if n not in given]
         if open_symbols:
-            from ..errors import ParameterError
+            from ...errors import ParameterError
             msg = ("the solution still has symbolic parameters "
                    f"({', '.join(open_symbols)}); derive again with params= (or values=) "
                    "giving their values to evaluate it")
@@ -134,9 +135,6 @@ class Derivation(DisplayFacade):
         if self.problem.size == 1:
             return fns[self.problem.unknowns[0]](times)
         return {name: fn(times) for name, fn in fns.items()}
-
-    def _values_units(self):
-        return self.problem.units
 
     @property
     def evaluated_solution(self):
@@ -162,7 +160,7 @@ class Derivation(DisplayFacade):
         """The Derivation read back from its canonical JSON form (``to_dict()``, version 2);
         every expression is rebuilt from its tree, never from text. The figure's samples are
         not part of the JSON form."""
-        from .derivation_json import derivation_from_dict
+        from ..derivation_json import derivation_from_dict
         return derivation_from_dict(data)
 
     def describe_initial_conditions(self) -> tuple[str, ...]:

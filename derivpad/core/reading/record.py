@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field, fields
 
-from ..errors import ParameterError
+from ...errors import ParameterError
 from .units import read_quantity
 
 __all__ = ["CalcRecord", "RecordInput", "Revision"]
@@ -158,7 +158,7 @@ class CalcRecord:
     def _repr_mimebundle_(self, include=None, exclude=None):
         """Rich display as a header block; never raises into the notebook."""
         try:
-            from .display_hook import record_bundle
+            from ..model.display_hook import record_bundle
             return record_bundle(self, include, exclude)
         except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
             return {"text/plain": f"CalcRecord {self.calc_number} rev {self.revision} "

@@ -33,15 +33,12 @@ from fractions import Fraction
 
 import sympy as sp
 
-from ..errors import ParseError, UnknownNameError, UnsafeInputError
+from ...errors import ParseError, UnknownNameError, UnsafeInputError
+from ..model.symbols import S, T
 
 __all__ = ["LIMITS", "check_number_text", "ParsedEquation", "Term", "parse_equation", "parse_expression", "parse_value", "primed_names", "T", "S",
            "FUNCTIONS", "RESERVED_NAMES"]
 
-T = sp.Symbol("t", real=True)
-"""The independent variable, time."""
-S = sp.Symbol("s")
-"""The Laplace variable."""
 
 FUNCTIONS = {
     "u": sp.Heaviside,

@@ -12,12 +12,12 @@ from dataclasses import dataclass
 import sympy as sp
 
 from .algebra import Pole
-from .forcing import TAU
-from .parse import T
+from ..reading.forcing import TAU
+from ..reading.parse import T
 from .partial_fractions import FractionTerm
-from .labels import InverseLaplace
+from ..model.labels import InverseLaplace
 from .rules import rule
-from .steps import Line, Rule, Step
+from ..model.steps import Line, Rule, Step
 from .transform import delayed
 
 __all__ = ["InverseTerm", "invert_term", "inversion_step", "shift"]

@@ -19,10 +19,10 @@ import mpmath
 import numpy as np
 from scipy.integrate import odeint
 
-from ..errors import SolveError
+from ...errors import SolveError
 from .numeric_model import Numbers, NumericModel
-from .transform import Ysym
-from .verify import Check, Samples
+from ..symbolic.transform import Ysym
+from ..model.checks import Check, Samples
 
 __all__ = ["INDEPENDENT_CHECKS", "NUMERIC_TOLERANCES", "independent_checks", "integrate_piecewise",
            "integration_check", "segment_cuts", "inversion_check", "limit_checks", "missing_values", "not_run"]

@@ -6,9 +6,10 @@ from __future__ import annotations
 
 import sympy as sp
 
-from ..errors import ParameterError, ParseError
+from ...errors import ParameterError, ParseError
 from .parse import RESERVED_NAMES, T, parse_expression
-from .problem import Problem, to_exact
+from ..model.problem import Problem
+from .values import to_exact
 
 __all__ = ["state_space_problem"]
 

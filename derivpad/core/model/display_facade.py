@@ -1,5 +1,5 @@
-"""The derivation's display façade and value table. Every method imports ``derivpad.render`` in
-its body, so the core never loads printing, plotting or the notebook."""
+"""The derivation's display façade: each method hands the derivation to ``derivpad.render``
+through core/display_hook.py, so the core never loads printing, plotting or the notebook."""
 
 from __future__ import annotations
 
@@ -13,24 +13,10 @@ class DisplayFacade:
 
     __slots__ = ()
 
-    def _values_units(self):
-        """The UnitContext that declares the symbolic parameters' units (None without)."""
-        raise NotImplementedError
-
     def value_table(self) -> tuple[tuple[str, float, str], ...]:
         """The numbers used for symbolic parameters, each in its declared unit:
         ((name, number, unit), ...) (SI numbers and no unit where none was declared)."""
-        ctx = self._values_units()
-        out = []
-        for name, v in self.values:
-            unit = ctx.symbol_unit(name) if ctx else None
-            if unit:
-                from .units import display_unit_for, to_display
-                si = display_unit_for(dict(ctx.dimensions)[name])
-                out.append((name, to_display(float(v), si, unit), unit))
-            else:
-                out.append((name, float(v), ""))
-        return tuple(out)
+        return self.value_rows
 
     def figure(self, **settings):
         """The verification figure (matplotlib): closed form over integration, forcing, error."""

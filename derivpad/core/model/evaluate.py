@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import sympy as sp
 
-from .parse import T
+from .symbols import T
 
 __all__ = ["numpy_function"]
 
