@@ -1,0 +1,33 @@
+"""render/latex.py: exact LaTeX of a step and of a check (as SymPy's own printer tests compare
+strings), and a whole derivation as a document. The expected strings are this notation's
+(docs/input-syntax.md): u for the unit step, delay factors in front, Y_0(s) for the parts."""
+
+import derivpad
+from derivpad.render.latex import to_latex
+
+
+def _d():
+    return derivpad.derive("y' + 2*y = 4*u(t - 1)", {"y(0)": 1})
+
+
+def test_solve_step_latex():
+    # Y(s) = (1 + 4e^{-s}/s)/(s + 2): the transform of y' + 2y = 4u(t - 1), y(0⁻) = 1
+    # (derivative and second-shift rules; checked against sympy in tests/core/symbolic)
+    assert _d().steps[3].latex == (
+        "\\begin{aligned}\n"
+        "Y(s) &= \\frac{1 + e^{- s}\\,\\frac{4}{s}}{s + 2} \\\\\n"
+        "P(s) &= s + 2 &&\\text{characteristic polynomial} \\\\\n"
+        "P(s) &= s + 2 &&\\text{factored} \\\\\n"
+        "Y_{0}(s) &= \\frac{1}{s + 2} &&\\text{undelayed part} \\\\\n"
+        "Y_{1}(s) &= \\frac{4}{s \\left(s + 2\\right)} &&\\text{part delayed by 1} \\\\\n"
+        "Y(s) &= Y_{0}(s) + e^{- s}\\,Y_{1}(s)\n"
+        "\\end{aligned}")
+
+
+def test_check_row_and_document():
+    d = _d()
+    assert to_latex(d.verification.checks[0]) == \
+        "ODE on every interval & 0.00e+00 & 1e-20 & passed \\\\"
+    doc = d.to_latex(document=True)
+    assert doc.startswith("\\documentclass{article}") and doc.rstrip().endswith("\\end{document}")
+    assert "\\section*{Caution}" in doc and "\\theta" not in doc
