@@ -140,7 +140,7 @@ class ParametricNumbers:
             ivt, fvt = s_limits(parts) if parts else (sp.nan, sp.nan)
             self._quantities[name] = (
                 _Compiled(expr, self.symbols, args),
-                [(lam(c), sp.lambdify((S,) + args, r, modules=_MPMATH)) for c, r in parts],
+                [(lam(c), _part_function(r, args)) for c, r in parts],
                 self._pole_table(stages.response_poles.get(name, stages.system_poles)),
                 lam(ivt) if parts else None,
                 lam(fvt) if parts and not fvt.has(sp.zoo, sp.nan, sp.oo) else None)
@@ -218,6 +218,15 @@ class ParametricNumbers:
             final_value_limit=final, modes=modes)
 
 
+def _part_function(r, args):
+    """R_c(s, *args) callable on mpmath numbers: Horner's rule where R has numbers only."""
+    if not args:
+        fast = rational_evaluator(r)
+        if fast is not None:
+            return lambda s: fast(s)
+    return sp.lambdify((S,) + args, r, modules=_MPMATH)
+
+
 def _poles(table, nums) -> tuple:
     """Complex poles (conjugates included, each as often as its multiplicity)."""
     out = []
@@ -278,12 +287,60 @@ def s_limits(parts) -> tuple[sp.Expr, sp.Expr]:
     """
     at_infinity, at_zero = sp.Integer(0), sp.Integer(0)
     for c, r in parts:
-        num, den = sp.fraction(sp.cancel(sp.together(S * r)))
+        # sR = s·N/D read from the leading and the lowest coefficients of N and D (a common
+        # factor of N and D changes neither ratio, so nothing needs cancelling)
+        num, den = sp.fraction(r)
         pn, pd = sp.Poly(num, S), sp.Poly(den, S)
-        if c == 0 and pn.degree() == pd.degree():
+        if c == 0 and pn.degree() + 1 == pd.degree():
             at_infinity += pn.LC() / pd.LC()
-        at_zero += num.subs(S, 0) / den.subs(S, 0)
+        a, b = _lowest(pn), _lowest(pd)
+        if a + 1 == b:
+            at_zero += pn.nth(a) / pd.nth(b)
+        elif a + 1 < b:
+            at_zero += sp.zoo
     return at_infinity, at_zero
+
+
+def _lowest(poly: sp.Poly) -> int:
+    """The lowest power of s with a non-zero coefficient (the order of the root at 0)."""
+    coeffs = poly.all_coeffs()[::-1]
+    return next((k for k, c in enumerate(coeffs) if not (c == 0 or c.is_zero)), len(coeffs))
+
+
+def rational_evaluator(r: sp.Expr):
+    """R(s) of numbers only, as a function of an mpmath number: the numerator and each factor
+    of the denominator evaluated by Horner's rule (what lambdify's printed expression costs
+    many times over); the coefficients converted once per working precision. None where R
+    is not a ratio of polynomials with numeric coefficients."""
+    num, den = sp.fraction(r)
+    try:
+        numc = sp.Poly(num, S).all_coeffs()
+        factors = []
+        for f in sp.Mul.make_args(den):
+            base, power = f.as_base_exp()
+            if not power.is_Integer:
+                return None
+            factors.append((sp.Poly(base, S).all_coeffs(), int(power)))
+    except sp.PolynomialError:
+        return None
+    if any(not c.is_number for c in numc) or any(not c.is_number for cs, _ in factors
+                                                    for c in cs):
+        return None
+    cache: dict = {}
+
+    def convert(prec):
+        if prec not in cache:
+            to = lambda c: mpmath.mpmathify(sp.N(c, int(prec * 0.30103) + 10))  # noqa: E731
+            cache[prec] = ([to(c) for c in numc], [([to(c) for c in cs], e) for cs, e in factors])
+        return cache[prec]
+
+    def evaluate(s):
+        nc, fs = convert(mpmath.mp.prec)
+        out = mpmath.polyval(nc, s)
+        for cs, e in fs:
+            out /= mpmath.polyval(cs, s) ** e
+        return out
+    return evaluate
 
 
 def _finite(value) -> float | None:

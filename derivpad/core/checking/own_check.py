@@ -132,6 +132,63 @@ def self_check(problem, stages, tolerance=None, preferred=None) -> tuple[Check, 
     return tuple(checks)
 
 
+def derivatives(g: sp.Expr, top: int) -> list:
+    """g(τ) and its derivatives up to order ``top`` (see :func:`mode_derivatives`)."""
+    return mode_derivatives(g, top)[0]
+
+
+def mode_derivatives(g: sp.Expr, top: int):
+    """(g and its derivatives up to order ``top``, the same as {(n, p): c} mode tables or None).
+
+    A sum of modes c·τ^n·e^{pτ} (cosines and sines as exponentials) is differentiated on its
+    coefficients — d/dτ τ^n e^{pτ} = (n τ^(n-1) + p τ^n) e^{pτ} — which costs what the
+    algebra costs; anything else by SymPy."""
+    modes = _exponential_modes(g)
+    if modes is None:
+        out = [g]
+        for _ in range(top):
+            out.append(sp.diff(out[-1], TAU))
+        return out, None
+    out, tables = [g], [modes]
+    for _ in range(top):
+        nxt: dict = {}
+        for (n, p), c in modes.items():
+            nxt[(n, p)] = nxt.get((n, p), 0) + c * p
+            if n:
+                nxt[(n - 1, p)] = nxt.get((n - 1, p), 0) + c * n
+        modes = {k: sp.expand(v) for k, v in nxt.items() if v != 0}
+        tables.append(modes)
+        out.append(sp.Add(*[c * TAU ** n * sp.exp(p * TAU) for (n, p), c in modes.items()]))
+    return out, tables
+
+
+def _exponential_modes(g: sp.Expr):
+    """{(n, p): c} with g = Σ c τ^n e^{pτ}, or None where g is not such a sum."""
+    out: dict = {}
+    for term in sp.Add.make_args(sp.expand(g.rewrite(sp.exp), power_exp=True)):
+        coeff, n, p = sp.Integer(1), 0, sp.Integer(0)
+        for f in sp.Mul.make_args(term):
+            if f == TAU:
+                n += 1
+            elif f.is_Pow and f.base == TAU and f.exp.is_Integer and f.exp > 0:
+                n += int(f.exp)
+            elif isinstance(f, sp.exp):
+                rate = sp.expand(f.args[0] / TAU)
+                if rate.has(TAU):
+                    if not f.args[0].has(TAU):
+                        coeff *= f
+                        continue
+                    return None
+                p += rate
+            elif f.has(TAU):
+                return None
+            else:
+                coeff *= f
+        p = sp.expand(p)
+        out[(n, p)] = out.get((n, p), 0) + coeff
+    return out
+
+
 class _Substituted:
     """The problem and each unknown's delayed parts with sample values put in, and the parts'
     derivatives up to the orders the equations use."""
@@ -143,16 +200,17 @@ class _Substituted:
         self.forcings = [f.subs(values) for f in problem.forcings]
         self.impulses = [(i, (sp.Integer(0) + c).subs(values), (sp.Integer(0) + a).subs(values))
                          for i, c, a in stages.impulses]
-        self.ders = {}
+        self.ders, self.tables = {}, {}
         for j, u in enumerate(problem.unknowns):
             top = max(max(len(row[j]) for row in self.ops) - 1, problem.orders[j])
             out = []
+            tables = []
             for c, g in stages.delayed_solutions[u]:
-                d = [g.subs(values)]
-                for _ in range(top):
-                    d.append(sp.diff(d[-1], TAU))
-                out.append(((sp.Integer(0) + c).subs(values), d))
+                ders, modes = mode_derivatives(g.subs(values), top)
+                out.append(((sp.Integer(0) + c).subs(values), ders))
+                tables.append(modes)
             self.ders[u] = out
+            self.tables[u] = tables
         self.starts = [sp.Integer(0)] + sorted({(sp.Integer(0) + b).subs(values)
                                                 for b in stages.breakpoints}, key=float)
 
@@ -180,9 +238,8 @@ class _Substituted:
         """Max over sample points of |Σ a x^(k) - f| / scale in 30-digit arithmetic; the scale
         is the size of what was added (Σ |a_k| Σ |term|), which is what the working precision
         bounds where terms cancel (y ≈ t⁹/9! near a switching time)."""
-        fns = {u: [(c, sp.lambdify(TAU, [list(sp.Add.make_args(
-            sp.expand(x, power_exp=False, trig=False))) for x in d], modules="mpmath"))
-            for c, d in self.ders[u]] for u in self.problem.unknowns}
+        fns = {u: [(c, self._part_rows(d, table)) for (c, d), table in
+                   zip(self.ders[u], self.tables[u])] for u in self.problem.unknowns}
         fs = [sp.lambdify(T, f, modules=[{"Heaviside": _step_value,
                                           "DiracDelta": lambda *_: 0}, "mpmath"])
               for f in self.forcings]
@@ -208,6 +265,25 @@ class _Substituted:
                         scale = scale + abs(fx) or mpmath.mpf(1)
                         worst = max(worst, abs(total - fx) / scale)
         return float(worst)
+
+    @staticmethod
+    def _part_rows(ders, tables):
+        """τ → each derivative's additive terms at τ, in mpmath: from the mode tables where
+        there are ones (no expression to print and compile), else lambdified."""
+        if tables is None:
+            return sp.lambdify(TAU, [list(sp.Add.make_args(
+                sp.expand(x, power_exp=False, trig=False))) for x in ders], modules="mpmath")
+        def mp(x):  # exact to the working precision (never through a Python float)
+            re, im = (sp.N(v, _DIGITS + 10) for v in sp.expand(x).as_real_imag())
+            return mpmath.mpc(mpmath.mpf(re), mpmath.mpf(im)) if im != 0 else mpmath.mpf(re)
+
+        with mpmath.workdps(_DIGITS + 10):
+            numeric = [[(n, mp(p), mp(c)) for (n, p), c in table.items()] for table in tables]
+
+        def rows(tau):
+            return [[c * tau ** n * mpmath.exp(p * tau) for n, p, c in table]
+                    for table in numeric]
+        return rows
 
     def mismatch(self, at, before) -> float:
         """Worst error of the values at ``at`` against ``before(j, m)`` plus the jump E⁻¹J

@@ -17,6 +17,7 @@ from math import factorial
 
 import mpmath
 import sympy as sp
+from sympy.polys.domains import QQ, QQ_I
 
 from ...errors import SolveError
 from .algebra import WORKING_DIGITS, Pole, PoleSet
@@ -54,15 +55,15 @@ class FractionTerm:
         return A / (S - a - sp.I * b) ** k + Abar / (S - a + sp.I * b) ** k
 
 
-def _taylor(coeffs: list, p, m: int) -> list:
+def _taylor(coeffs: list, p, m: int, zero=0) -> list:
     """First m Taylor coefficients at p of the polynomial with coefficients (highest first)."""
     out = []
     c = list(coeffs)
     for _ in range(m):
         if not c:
-            out.append(0)
+            out.append(zero)
             continue
-        acc, q = 0, []
+        acc, q = zero, []
         for a in c:
             acc = acc * p + a
             q.append(acc)
@@ -72,7 +73,8 @@ def _taylor(coeffs: list, p, m: int) -> list:
 
 
 def _mul(a: list, b: list, m: int) -> list:
-    out = [0] * m
+    zero = a[0] - a[0]
+    out = [zero] * m
     for i, x in enumerate(a[:m]):
         if x == 0:
             continue
@@ -81,8 +83,8 @@ def _mul(a: list, b: list, m: int) -> list:
     return out
 
 
-def _power(base: list, n: int, m: int) -> list:
-    out = [1] + [0] * (m - 1)
+def _power(base: list, n: int, m: int, one=1) -> list:
+    out = [one] + [one - one] * (m - 1)
     for _ in range(n):
         out = _mul(out, base, m)
     return out
@@ -91,26 +93,32 @@ def _power(base: list, n: int, m: int) -> list:
 def _divide(num: list, den: list, m: int) -> list:
     q = []
     for k in range(m):
-        acc = num[k] - sum(den[j] * q[k - j] for j in range(1, k + 1) if j < len(den))
+        acc = num[k]
+        for j in range(1, min(k + 1, len(den))):
+            acc = acc - den[j] * q[k - j]
         q.append(acc / den[0])
     return q
 
 
-def _coefficients(num_coeffs, poles: PoleSet, target: Pole, p, own_factor, lead) -> list:
-    """Laurent coefficients [A_m, ..., A_1] at root p of N/D (D given by its poles)."""
+def _coefficients(num_coeffs, poles: PoleSet, target: Pole, p, own_factor, lead,
+                  one=1) -> list:
+    """Laurent coefficients [A_m, ..., A_1] at root p of N/D (D given by its poles); ``one``
+    is the unit of the number system the arithmetic runs in (1, or a domain's one)."""
     m = target.multiplicity
-    g = [lead] + [0] * (m - 1)
+    zero = one - one
+    g = [lead] + [zero] * (m - 1)
     for q in poles.poles:
         if q is target:
             continue
         d = p - q.value
         if q.kind == "real":
-            g = _mul(g, _power([d, 1], q.multiplicity, m), m)
+            g = _mul(g, _power([d, one], q.multiplicity, m, one), m)
         else:
-            g = _mul(g, _power([d * d + q.beta ** 2, 2 * d, 1], q.multiplicity, m), m)
+            g = _mul(g, _power([d * d + q.beta * q.beta, 2 * d, one], q.multiplicity, m, one),
+                     m)
     if own_factor is not None:  # the conjugate root of the target's own pair: (s - p̄)^m
-        g = _mul(g, _power([own_factor, 1], m, m), m)
-    n = _taylor(num_coeffs, p, m)
+        g = _mul(g, _power([own_factor, one], m, m, one), m)
+    n = _taylor(num_coeffs, p, m, zero)
     return _divide(n, g, m)
 
 
@@ -144,6 +152,9 @@ def partial_fractions(numerator: sp.Expr, poles: PoleSet) -> list[FractionTerm]:
         return _numeric_fractions(N, poles)
     symbolic = bool(N.free_symbols - {S}) or any(
         (p.value.free_symbols or p.beta.free_symbols) for p in poles.poles)
+    if not symbolic and _rational(list(N.all_coeffs()) + [poles.leading] + [
+            x for q in poles.poles for x in (q.value, q.beta)]):
+        return _domain_fractions(N, poles)
     coeffs = N.all_coeffs()
     terms: list[FractionTerm] = []
     for target in poles.poles:
@@ -164,6 +175,38 @@ def partial_fractions(numerator: sp.Expr, poles: PoleSet) -> list[FractionTerm]:
                 im = _tidy(sp.cancel(im).subs(place), symbolic)
                 if re != 0 or im != 0:
                     terms.append(FractionTerm(target, m - j, re, im))
+    return terms
+
+
+def _rational(values) -> bool:
+    return all((sp.Integer(0) + v).is_Rational for v in values)
+
+
+def _domain_fractions(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
+    """The same coefficients where every number is rational, in SymPy's Gaussian-rational
+    domain QQ_I: the series arithmetic then costs what the algebra costs (no expression
+    simplification), and the results are exact."""
+    K = QQ_I
+    one = K.one
+    coeffs = [K.from_sympy(c) for c in N.all_coeffs()]
+    dom = PoleSet(K.from_sympy(poles.leading), tuple(
+        Pole(q.kind, K.from_sympy(q.value), K.from_sympy(q.beta), q.multiplicity)
+        for q in poles.poles))
+    terms = []
+    for target_sym, target in zip(poles.poles, dom.poles):
+        m = target.multiplicity
+        if target.kind == "real":
+            A = _coefficients(coeffs, dom, target, target.value, None, dom.leading, one)
+        else:
+            p = target.value + K.from_sympy(sp.I) * target.beta
+            A = _coefficients(coeffs, dom, target, p, K.from_sympy(2 * sp.I) * target.beta,
+                              dom.leading, one)
+        for j, a in enumerate(A):
+            re, im = QQ.to_sympy(a.x), QQ.to_sympy(a.y)
+            if target.kind == "real":
+                im = sp.Integer(0)
+            if re != 0 or im != 0:
+                terms.append(FractionTerm(target_sym, m - j, re, im))
     return terms
 
 
