@@ -83,3 +83,17 @@ def test_the_explorer_works_for_a_coupled_system():
     assert "k2 = 300: no form in symbols could be derived" in view.status
     assert "derived with the numbers" in view.status
     assert "Matrix form" in view._html.value
+
+
+def test_a_damped_system_explorer_takes_the_derive_once_route_for_its_load():
+    view = derivpad.explore(["m1*x1'' + (k1 + k2)*x1 - k2*x2 - c2*(x2' - x1') = F0*u(t)",
+                             "m2*x2'' + c2*(x2' - x1') + k2*(x2 - x1) = 0"],
+                            {"x1(0)": 0, "x1'(0)": 0, "x2(0)": 0, "x2'(0)": 0},
+                            {"m1": 400, "k1": 6.4e6, "m2": 40, "k2": 6.32e5, "c2": 200,
+                             "F0": 1500}, controls={"F0": (500, 3000)})
+    view._sliders["F0"].value = 2000.0
+    assert "values put into the symbolic derivation" in view.status
+    # a step load's static response K⁻¹F: x1 = F0/k1 (the absorber spring carries no static
+    # load; common practice, no source)
+    assert view.derivation.results["static_response_x1"].magnitude == \
+        pytest.approx(2000.0 / 6.4e6, rel=1e-12)

@@ -212,8 +212,7 @@ def _domain_fractions(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
 
 def _numeric_fractions(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
     if N.free_symbols - {S}:
-        raise SolveError("numerical poles need numerical parameter values; give values for "
-                         + ", ".join(sorted(str(x) for x in N.free_symbols - {S})))
+        return _linear_in_symbols(N, poles)
     with mpmath.workdps(WORKING_DIGITS):
         mp = lambda x: mpmath.mpmathify(sp.N(x, WORKING_DIGITS + 5))  # noqa: E731
         coeffs = [mp(c) for c in N.all_coeffs()]
@@ -234,6 +233,31 @@ def _numeric_fractions(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
                     terms.append(FractionTerm(target_sym, m - j, _float(mpmath.re(a)),
                                               _float(mpmath.im(a))))
     return [t for t in terms if t.re != 0 or t.im != 0]
+
+
+def _linear_in_symbols(N: sp.Poly, poles: PoleSet) -> list[FractionTerm]:
+    """Numerical poles and a numerator with symbolic coefficients n_i (a load's size, say):
+    N/D = Σ_i n_i · s^i/D, so each coefficient is Σ_i n_i times that of the numerical split
+    of s^i/D — exact in the symbols, the numbers to the working precision."""
+    if any(q.value.free_symbols or q.beta.free_symbols for q in poles.poles):
+        names = sorted(str(x) for x in N.free_symbols - {S})
+        raise SolveError("numerical poles need numerical parameter values where the "
+                         "parameters move the poles; give values for " + ", ".join(names))
+    coeffs = N.all_coeffs()[::-1]
+    total: dict = {}
+    order: list = []
+    for i, n_i in enumerate(coeffs):
+        if n_i == 0:
+            continue
+        for term in _numeric_fractions(sp.Poly(S ** i, S), poles):
+            key = (id(term.pole), term.power)
+            if key not in total:
+                total[key] = [term.pole, sp.Integer(0), sp.Integer(0)]
+                order.append(key)
+            total[key][1] += n_i * term.re
+            total[key][2] += n_i * term.im
+    return [FractionTerm(pole, power, sp.expand(re), sp.expand(im))
+            for (_, power), (pole, re, im) in ((k, total[k]) for k in order)]
 
 
 def _float(x) -> sp.Float:
