@@ -1,0 +1,1 @@
+"""Checking: the derivation compiled for numbers, its checks and its engineering results."""

@@ -1,0 +1,1 @@
+"""Value objects: the problem, steps, labels, checks, results and the derivation itself."""

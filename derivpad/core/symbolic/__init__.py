@@ -1,0 +1,1 @@
+"""The symbolic stages: transform, solve, partial fractions, invert, assemble, by rule."""
