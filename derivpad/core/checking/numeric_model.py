@@ -219,11 +219,10 @@ class ParametricNumbers:
 
 
 def _part_function(r, args):
-    """R_c(s, *args) callable on mpmath numbers: Horner's rule where R has numbers only."""
-    if not args:
-        fast = rational_evaluator(r)
-        if fast is not None:
-            return lambda s: fast(s)
+    """R_c(s, *args) callable on mpmath numbers: Horner's rule on its coefficients."""
+    fast = rational_evaluator(r, args)
+    if fast is not None:
+        return fast
     return sp.lambdify((S,) + args, r, modules=_MPMATH)
 
 
@@ -307,11 +306,12 @@ def _lowest(poly: sp.Poly) -> int:
     return next((k for k, c in enumerate(coeffs) if not (c == 0 or c.is_zero)), len(coeffs))
 
 
-def rational_evaluator(r: sp.Expr):
-    """R(s) of numbers only, as a function of an mpmath number: the numerator and each factor
-    of the denominator evaluated by Horner's rule (what lambdify's printed expression costs
-    many times over); the coefficients converted once per working precision. None where R
-    is not a ratio of polynomials with numeric coefficients."""
+def rational_evaluator(r: sp.Expr, args=()):
+    """R(s, *args) as a function of mpmath numbers: the numerator and each factor of the
+    denominator evaluated by Horner's rule (what lambdify's printed expression costs many
+    times over). The coefficients (numbers, or expressions of ``args``) are converted once per
+    working precision and values of the arguments. None where R is not a ratio of
+    polynomials in s."""
     num, den = sp.fraction(r)
     try:
         numc = sp.Poly(num, S).all_coeffs()
@@ -323,19 +323,35 @@ def rational_evaluator(r: sp.Expr):
             factors.append((sp.Poly(base, S).all_coeffs(), int(power)))
     except sp.PolynomialError:
         return None
-    if any(not c.is_number for c in numc) or any(not c.is_number for cs, _ in factors
-                                                    for c in cs):
+    allowed = set(args)
+    if any(not c.free_symbols <= allowed for c in numc) or any(
+            not c.free_symbols <= allowed for cs, _ in factors for c in cs):
         return None
+    shapes = [len(numc)] + [len(cs) for cs, _ in factors]
+    flat = numc + [c for cs, _ in factors for c in cs]
+    if args:
+        compiled = sp.lambdify(args, flat, modules=_MPMATH)
     cache: dict = {}
 
-    def convert(prec):
-        if prec not in cache:
-            to = lambda c: mpmath.mpmathify(sp.N(c, int(prec * 0.30103) + 10))  # noqa: E731
-            cache[prec] = ([to(c) for c in numc], [([to(c) for c in cs], e) for cs, e in factors])
-        return cache[prec]
+    def convert(prec, values):
+        key = (prec, values)
+        if key not in cache:
+            digits = int(prec * 0.30103) + 10
+            if args:
+                coeffs = [mpmath.mpmathify(c) for c in compiled(*values)]
+            else:
+                coeffs = [mpmath.mpmathify(sp.N(c, digits)) for c in flat]
+            out, start = [], 0
+            for size in shapes:
+                out.append(coeffs[start:start + size])
+                start += size
+            if len(cache) > 64:
+                cache.clear()
+            cache[key] = (out[0], [(cs, e) for cs, (_, e) in zip(out[1:], factors)])
+        return cache[key]
 
-    def evaluate(s):
-        nc, fs = convert(mpmath.mp.prec)
+    def evaluate(s, *values):
+        nc, fs = convert(mpmath.mp.prec, values)
         out = mpmath.polyval(nc, s)
         for cs, e in fs:
             out /= mpmath.polyval(cs, s) ** e
