@@ -307,55 +307,39 @@ def _lowest(poly: sp.Poly) -> int:
 
 
 def rational_evaluator(r: sp.Expr, args=()):
-    """R(s, *args) as a function of mpmath numbers: the numerator and each factor of the
-    denominator evaluated by Horner's rule (what lambdify's printed expression costs many
-    times over). The coefficients (numbers, or expressions of ``args``) are converted once per
+    """R(s, *args) as a function of mpmath numbers: numerator and denominator each evaluated by
+    Horner's rule on their coefficients (what lambdify's printed expression costs many times
+    over). The coefficients (numbers, or expressions of ``args``) are converted once per
     working precision and values of the arguments. None where R is not a ratio of
     polynomials in s."""
     num, den = sp.fraction(r)
     try:
-        numc = sp.Poly(num, S).all_coeffs()
-        factors = []
-        for f in sp.Mul.make_args(den):
-            base, power = f.as_base_exp()
-            if not power.is_Integer:
-                return None
-            factors.append((sp.Poly(base, S).all_coeffs(), int(power)))
+        numc, denc = sp.Poly(num, S).all_coeffs(), sp.Poly(den, S).all_coeffs()
     except sp.PolynomialError:
         return None
     allowed = set(args)
-    if any(not c.free_symbols <= allowed for c in numc) or any(
-            not c.free_symbols <= allowed for cs, _ in factors for c in cs):
+    if any(not c.free_symbols <= allowed for c in numc + denc):
         return None
-    shapes = [len(numc)] + [len(cs) for cs, _ in factors]
-    flat = numc + [c for cs, _ in factors for c in cs]
-    if args:
-        compiled = sp.lambdify(args, flat, modules=_MPMATH)
+    flat = numc + denc
+    compiled = sp.lambdify(args, flat, modules=_MPMATH) if args else None
     cache: dict = {}
 
     def convert(prec, values):
         key = (prec, values)
         if key not in cache:
-            digits = int(prec * 0.30103) + 10
-            if args:
+            if compiled is not None:
                 coeffs = [mpmath.mpmathify(c) for c in compiled(*values)]
             else:
+                digits = int(prec * 0.30103) + 10
                 coeffs = [mpmath.mpmathify(sp.N(c, digits)) for c in flat]
-            out, start = [], 0
-            for size in shapes:
-                out.append(coeffs[start:start + size])
-                start += size
             if len(cache) > 64:
                 cache.clear()
-            cache[key] = (out[0], [(cs, e) for cs, (_, e) in zip(out[1:], factors)])
+            cache[key] = (coeffs[:len(numc)], coeffs[len(numc):])
         return cache[key]
 
     def evaluate(s, *values):
-        nc, fs = convert(mpmath.mp.prec, values)
-        out = mpmath.polyval(nc, s)
-        for cs, e in fs:
-            out /= mpmath.polyval(cs, s) ** e
-        return out
+        nc, dc = convert(mpmath.mp.prec, values)
+        return mpmath.polyval(nc, s) / mpmath.polyval(dc, s)
     return evaluate
 
 
