@@ -111,7 +111,7 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     if fmt == "json":
         data = derivation.to_dict()
         if times:
-            values = _sampled(derivation, times)
+            values = derivation.values_at(list(times))
             data["samples"] = [{"t": t, **{n: float(values[n][i]) for n in names}}
                                for i, t in enumerate(times)]
             data["sample_units"] = {"t": "s", **{
@@ -134,18 +134,11 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     return "\n".join(out)
 
 
-def _sampled(derivation, times) -> dict:
-    values = derivation(list(times))
-    if derivation.problem.size == 1:
-        return {derivation.problem.unknowns[0]: values}
-    return values
-
-
 def _sample_table(derivation, times) -> list[str]:
     """Rows of t and each quantity, in display units."""
     from .core.reading.units import display_factor, display_offset
     p = derivation.problem
-    values = _sampled(derivation, times)
+    values = derivation.values_at(list(times))
     t_unit = p.units.time_display if p.units else ""
     t_scale = display_factor("s", t_unit) if p.units else 1.0
     columns, heads = [], []

@@ -206,9 +206,7 @@ class HtmlRenderer(Renderer):
                 f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
                 + (f"\\ \\text{{{unit}}}" if unit else "")
                 for name, v, unit in d.value_table())
-            evaluated = d.evaluated_solution
-            if p.size == 1:
-                evaluated = {p.unknowns[0]: evaluated}
+            evaluated = d.evaluated_solutions
             out.append('<div class="dp-label">With the values used for the checks and results'
                        f'</div><div class="dp-math">{self._math(given)}</div>'
                        f'<div class="dp-math">'

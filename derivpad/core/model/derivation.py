@@ -118,6 +118,12 @@ class Derivation(DisplayFacade):
         """Evaluate with NumPy at ``times`` (t ≥ 0; NaN before 0), compiled once: an array for
         one unknown, {name: array} of the unknowns and derived quantities for several. At a
         breakpoint the value from the right is returned."""
+        values = self.values_at(times)
+        return values[self.problem.unknowns[0]] if self.problem.size == 1 else values
+
+    def values_at(self, times) -> dict:
+        """{name: array} of every unknown and derived quantity at ``times``, for one unknown
+        or many (the unsqueezed form of calling the derivation)."""
         given = dict(self.values)
         open_symbols = [n for n in self.problem.symbols if n not in given]
         if open_symbols:
@@ -132,21 +138,26 @@ class Derivation(DisplayFacade):
             fns = {name: numpy_function(expr.subs(subs)) for name, expr in
                    list(self.solutions.items()) + list(self.derived.items())}
             self._cache["numpy"] = fns
-        if self.problem.size == 1:
-            return fns[self.problem.unknowns[0]](times)
         return {name: fn(times) for name, fn in fns.items()}
 
     @property
-    def evaluated_solution(self):
-        """The solution with the numbers of ``values`` put in for the symbolic parameters."""
+    def evaluated_solutions(self) -> dict:
+        """Each unknown's solution with the numbers of ``values`` put in for the symbolic
+        parameters (the solutions themselves when there are none)."""
         if not self.values:
-            return self.solution
+            return dict(self.solutions)
         out = self._cache.get("evaluated")
         if out is None:
             subs = {sp.Symbol(k, positive=True): v for k, v in self.values}
             out = {u: e.subs(subs) for u, e in self.solutions.items()}
             self._cache["evaluated"] = out
-        return self._squeezed(out)
+        return dict(out)
+
+    @property
+    def evaluated_solution(self):
+        """The solution with ``values`` put in: the expression for one unknown, keyed by
+        unknown for several."""
+        return self._squeezed(self.evaluated_solutions)
 
     def __repr__(self) -> str:
         status = "verification passed" if self.verification.passed else "NOT VERIFIED"
