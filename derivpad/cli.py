@@ -21,14 +21,29 @@ FORMATS = ("text", "latex", "json")
 NOT_VERIFIED = 3
 INTERNAL = 4
 
+_FORMAT_HELP = ("text: readable terminal text, wrapped to --width; latex: a LaTeX document; "
+                "json: the canonical JSON form, with the samples of --at (default: text)")
+_WIDTH_HELP = ("wrap text output at this many columns (default: the terminal's width, 80 when "
+               "the output is not a terminal)")
+
+
 def _parser() -> argparse.ArgumentParser:
+    from . import __version__
     parser = argparse.ArgumentParser(
         prog="derivpad",
-        description="Step-by-step, self-checked Laplace-transform derivations of linear ODEs.")
-    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+        description="Step-by-step, self-checked Laplace-transform derivations of linear ODEs.",
+        epilog="Exit status: 0 verified; 1 package or audit does not hold; 2 input error; "
+               "3 derived but NOT VERIFIED; 4 internal error.")
+    parser.add_argument("--version", action="version", version=f"derivpad {__version__}",
+                        help="print the version and exit")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
-    demo = sub.add_parser("demo", help="derive the built-in scenario and print it")
-    demo.add_argument("--format", choices=FORMATS, default="text")
+    demo = sub.add_parser("demo", help="derive the built-in scenario and print it",
+                          description="Derive the built-in scenario (a pump skid on spring "
+                          "isolators under a pressure-surge pulse; data of our own) and print "
+                          "every step, the checks, the results and sampled values.")
+    demo.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
+    demo.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
     solve = sub.add_parser("solve", help="derive one ODE given on the command line")
     solve.add_argument("equation", nargs="+",
@@ -52,7 +67,8 @@ def _parser() -> argparse.ArgumentParser:
                        help="case taken for a symbolic quadratic of unknown discriminant sign")
     solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
                        help="also print the solution's value at time T (repeat)")
-    solve.add_argument("--format", choices=FORMATS, default="text")
+    solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
+    solve.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
     package = sub.add_parser("package", help="execute a calc notebook and write its package")
     package.add_argument("notebook", help="the calculation notebook (.ipynb)")
@@ -103,7 +119,18 @@ def _read_pairs(items: list[str], option: str, example: str) -> dict:
     return out
 
 
-def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
+def _width(asked: int | None) -> int:
+    """The text width: as asked (at least 40), else the terminal's, else 80."""
+    if asked is not None:
+        if asked < 40:
+            raise ParameterError(f"--width {asked} is too narrow to read; give 40 columns or "
+                                 "more, e.g. --width 80", "width")
+        return asked
+    import shutil
+    return max(40, min(shutil.get_terminal_size((80, 24)).columns, 160))
+
+
+def _emit(derivation, fmt: str, times, title: str | None = None, width: int = 80) -> str:
     """The derivation in the chosen format; samples at ``times`` (s) of every unknown and
     derived quantity, in display units in the text table and in SI in JSON."""
     p = derivation.problem
@@ -121,14 +148,18 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
     if fmt == "latex":
         return derivation.to_latex(document=True)
     from .render.notation import text_expr
+    from .render.text import wrap_terms
     out = []
     if title:
-        out += [title, "=" * len(title), ""]
-    out += [derivation.to_text(), ""]
+        import textwrap
+        lines = textwrap.wrap(title, width)
+        out += lines + ["=" * max(len(x) for x in lines), ""]
+    out += [derivation.to_text(width=width), ""]
     for u, solution in derivation.solutions.items():
         si = p.unit_context(u).unknown_si if p.units else ""
         written = f" (SI: {u} in {si}, t in s)" if si else " (t in s)"
-        out.append(f"Solution{written}: {u}(t) = {text_expr(solution)}")
+        out.append(f"Solution{written}:")
+        out.append(wrap_terms(f"{u}(t) = ", text_expr(solution), width, "    "))
     if times:
         out += [""] + _sample_table(derivation, times)
     return "\n".join(out)
@@ -137,6 +168,7 @@ def _emit(derivation, fmt: str, times, title: str | None = None) -> str:
 def _sample_table(derivation, times) -> list[str]:
     """Rows of t and each quantity, in display units."""
     from .core.reading.units import display_factor, display_offset
+    from .render.notation import format_value
     p = derivation.problem
     values = derivation.values_at(list(times))
     t_unit = p.units.time_display if p.units else ""
@@ -148,9 +180,12 @@ def _sample_table(derivation, times) -> list[str]:
         offset = display_offset(ctx.unknown_si, ctx.unknown_display) if ctx else 0.0
         columns.append(values[name] * scale + offset)
         heads.append(f"{name}(t)" + (f" [{ctx.unknown_display}]" if ctx else ""))
-    out = [f"{'t' + (f' [{t_unit}]' if t_unit else ''):>12}  "
-           + "  ".join(f"{h:>18}" for h in heads)]
-    out += [f"{t * t_scale:>12.4g}  " + "  ".join(f"{c[i]:>18.6e}" for c in columns)
+    t_head = "t" + (f" [{t_unit}]" if t_unit else "")
+    size = max(12, len(t_head))
+    sizes = [max(12, len(h)) for h in heads]
+    out = [f"{t_head:>{size}}  " + "  ".join(f"{h:>{n}}" for h, n in zip(heads, sizes))]
+    out += [f"{format_value(t * t_scale, 6):>{size}}  "
+            + "  ".join(f"{format_value(float(c[i]), 6):>{n}}" for c, n in zip(columns, sizes))
             for i, t in enumerate(times)]
     return out
 
@@ -178,7 +213,11 @@ def main(argv=None) -> int:
 
 
 def _main(argv=None) -> int:
-    args = _parser().parse_args(argv)
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command is None:  # a bare ``derivpad``: what it can do
+        parser.print_help()
+        return 0
     try:
         if args.command == "package":
             from .export.package import make_package
@@ -192,7 +231,7 @@ def _main(argv=None) -> int:
         if args.command == "demo":
             from .demo import DEMO_TIMES, DEMO_TITLE, demo
             d = demo()
-            text = _emit(d, args.format, DEMO_TIMES, DEMO_TITLE)
+            text = _emit(d, args.format, DEMO_TIMES, DEMO_TITLE, _width(args.width))
         else:
             from .core.engine import derive
             system = len(args.equation) > 1
@@ -204,7 +243,7 @@ def _main(argv=None) -> int:
                        derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2"))
             if args.figure:
                 d.save_figure(args.figure)
-            text = _emit(d, args.format, args.at)
+            text = _emit(d, args.format, args.at, width=_width(args.width))
     except DerivpadError as exc:
         print(f"derivpad: error: {in_syntax(str(exc), 'cli')}", file=sys.stderr)
         return 2

@@ -11,17 +11,46 @@ def test_demo_prints_the_derivation_and_samples(capsys):
     assert main(["demo"]) == 0
     out = capsys.readouterr().out
     assert "Pump skid" in out and "Partial fractions" in out and "all checks passed" in out
-    assert "qualified engineer" in out
-    assert "x(t)" in out.splitlines()[-11]
+    assert "qualified engineer" in " ".join(out.split())   # the caution, however wrapped
+    assert "x(t) [mm]" in out.splitlines()[-11]
+    # every line fits the width (80 columns when the output is not a terminal)
+    assert max(len(line) for line in out.splitlines()) <= 80
+    assert main(["demo", "--width", "60"]) == 0
+    assert max(len(line) for line in capsys.readouterr().out.splitlines()) <= 60
+
+
+def test_bare_command_prints_help_and_version_is_given(capsys):
+    assert main([]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("usage: derivpad") and "demo" in out and "Exit status" in out
+    try:
+        main(["--version"])
+    except SystemExit as exc:
+        assert exc.code == 0
+    from derivpad import __version__
+    assert capsys.readouterr().out.strip() == f"derivpad {__version__}"
+    assert main(["demo", "--width", "20"]) == 2
+    assert "too narrow" in capsys.readouterr().err
+
+
+def test_every_option_has_help_text():
+    import argparse
+
+    from derivpad.cli import _parser
+    parser = _parser()
+    sub = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    for name, command in sub.choices.items():
+        for action in command._actions:
+            assert action.help, f"{name} {action.option_strings or action.dest}"
 
 
 def test_solve_text_and_values(capsys):
     assert main(["solve", "y'' + 9*y = delta(t)", "--ic", "y(0)=0", "--ic", "y'(0)=0",
                  "--at", "0.5"]) == 0
     out = capsys.readouterr().out
-    assert "Solution (t in s): y(t) = sin(3*t)/3" in out
-    # sin(1.5)/3 = 0.332498 (direct evaluation)
-    assert "3.324983e-01" in out
+    assert "Solution (t in s):\ny(t) = sin(3*t)/3" in out
+    # sin(1.5)/3 = 0.332498 (direct evaluation), to six significant figures
+    assert "0.332498" in out
 
 
 def test_solve_json_is_machine_readable(capsys):

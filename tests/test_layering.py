@@ -15,7 +15,7 @@ ALLOWED = {
     "forcing": {"core"},
     "demo": {"core"},
     "__init__": {"core", "errors", "forcing"},
-    "cli": {"errors", "core", "render", "notebook", "export", "demo", "cli"},
+    "cli": {"errors", "core", "render", "notebook", "export", "demo", "cli", "__init__"},
     "__main__": {"cli"},
 }
 # Inside core/, the folders in the order data flows: model objects (0) ← reading input (1) ←
@@ -43,8 +43,11 @@ def _targets(path: Path, root: Path = ROOT):
             base = list(path.relative_to(root).parent.parts)
             base = base[: len(base) - (node.level - 1)] if node.level > 1 else base
             target = base + (node.module.split(".") if node.module else [])
-            if not node.module:  # from . import name
-                target = target + [node.names[0].name]
+            if not node.module:  # from . import name: a module, or a name of the package
+                name = node.names[0].name
+                here = root.joinpath(*target) if target else root
+                is_module = (here / f"{name}.py").exists() or (here / name).is_dir()
+                target = target + [name if is_module else "__init__"]
             yield (target or [node.names[0].name]), top
         elif isinstance(node, ast.ImportFrom) and (node.module or "").startswith("derivpad."):
             yield node.module.split(".")[1:], top

@@ -193,7 +193,8 @@ class NotationTextPrinter(StrPrinter):
 
 
 def format_value(value, digits: int = 6) -> str:
-    """A result value as text: numbers to ``digits`` significant figures, tuples listed."""
+    """A result value as text: numbers to ``digits`` significant figures (trailing zeros
+    kept, so every figure shows its precision), tuples listed."""
     if isinstance(value, (list, tuple)):
         if value and all(isinstance(v, (list, tuple)) for v in value):  # mode shapes
             return "; ".join("(" + format_value(v, digits) + ")" for v in value)
@@ -204,7 +205,9 @@ def format_value(value, digits: int = 6) -> str:
         sign = "+" if value.imag >= 0 else "-"
         return f"{format_value(value.real, digits)} {sign} {format_value(abs(value.imag), digits)}i"
     if isinstance(value, float):
-        return mpmath.nstr(mpmath.mpf(value), digits, min_fixed=-4, max_fixed=7)
+        # the same number of significant figures everywhere (11.1070 beside 0.121346)
+        return mpmath.nstr(mpmath.mpf(value), digits, min_fixed=-4, max_fixed=7,
+                           strip_zeros=False)
     return str(value)
 
 

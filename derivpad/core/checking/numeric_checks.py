@@ -248,8 +248,9 @@ def inversion_check(parts, closed_form, horizon: float, breakpoints, peak: float
     can be judged the check is not applicable, with the reason.
     """
     fns = [(float(c), fn) for c, fn in parts]
-    method = ("Each delay part of Y(s) inverted by mpmath invertlaplace (Talbot's and Cohen's "
-              f"methods, precision raised from {_INVERSION_DIGITS} digits until they agree)")
+    method = ("Each delay part of the transform inverted by mpmath invertlaplace (Talbot's and "
+              f"Cohen's methods, precision raised from {_INVERSION_DIGITS} digits until they "
+              "agree)")
     if modes is not None and len(fns) > 1:
         samples = _group_samples(fns, modes, horizon)
         scale = max(peak, max((abs(y) for _, _, y in samples), default=0.0), 1e-300)
@@ -336,8 +337,8 @@ def independent_checks(numbers: Numbers, tolerances, t_end: float):
         ivt, fvt = limit_checks(m, float(m.closed_form(np.array([0.0]))[0]),
                                 lambda m=m, far=far: m.closed_form(np.array([far]))[0], peak,
                                 tol["limits"])
-        if one:
-            checks += [inversion, ivt, fvt]
+        if one:  # the transform's own name, X(s) for x(t); the theorems need no suffix
+            checks += [_renamed(inversion, f"Numerical inversion of {Ysym(u)}"), ivt, fvt]
         else:
             checks += [_renamed(inversion, f"Numerical inversion of {Ysym(u)}"),
                        _renamed(ivt, f"Initial-value theorem ({u})"),

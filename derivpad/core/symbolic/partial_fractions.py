@@ -13,6 +13,7 @@ square completed, (B(s - α) + Cβ)/((s - α)² + β²), B = 2 Re A, C = -2 Im A
 from __future__ import annotations
 
 from dataclasses import dataclass
+import re
 from math import factorial
 
 import mpmath
@@ -265,9 +266,26 @@ def _float(x) -> sp.Float:
 
 
 def _pole_text(p: Pole) -> str:
+    """'s = -2', 's = -1 ± 3i', 's = ±23.5829i': exact numbers as they are, numerical ones to
+    six significant figures (the step's working keeps every digit)."""
     if p.kind == "real":
-        return f"s = {sp.sstr(p.value)}"
-    return f"s = {sp.sstr(p.alpha)} ± i·{sp.sstr(p.beta)}"
+        return f"s = {_number_text(p.value)}"
+    beta = _number_text(p.beta)
+    imaginary = "i" if p.beta == 1 else (f"{beta}i" if re.fullmatch(r"[0-9.e+-]+", beta)
+                                         else f"i·{beta}")
+    if p.alpha == 0:
+        return f"s = ±{imaginary}"
+    return f"s = {_number_text(p.alpha)} ± {imaginary}"
+
+
+def _number_text(x) -> str:
+    x = sp.Integer(0) + x
+    if x.has(sp.Float):
+        x = x.xreplace({f: sp.Float(mpmath.nstr(mpmath.mpf(f), 6), 6) for f in x.atoms(sp.Float)})
+        if x.is_Float:
+            return mpmath.nstr(mpmath.mpf(x), 6)
+    text = sp.sstr(x)
+    return f"({text})" if " " in text else text
 
 
 def _covered(numerator: sp.Expr, poles: PoleSet, target: Pole) -> tuple[sp.Expr, sp.Expr]:

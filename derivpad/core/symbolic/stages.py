@@ -418,7 +418,8 @@ def fraction_and_inversion_steps(problem: Problem, solved: _Solved):
         inv_steps.append(Step(f"Invert {X}", None, (), "", tuple(i_sub), _rules_of(i_sub)))
     if problem.size == 1:  # one unknown: its parts are the steps' own sub-steps
         frac_steps, inv_steps = list(frac_steps[0].substeps), list(inv_steps[0].substeps)
-        frac_note = "Each part of Y(s) between delay factors is split separately."
+        frac_note = (f"Each part of {Ysym(problem.unknowns[0])} between delay factors is split "
+                     "separately.")
     else:
         frac_note = "Each unknown's transform is split part by part between delay factors."
     decompose = Step("Partial fractions", rule("pf_simple"), (), frac_note, tuple(frac_steps),
