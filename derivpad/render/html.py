@@ -116,7 +116,9 @@ class HtmlRenderer(Renderer):
 
     def _render_Step(self, step: Step, number: str = "", ids: str = "") -> str:
         tex = _step_math(step, self.settings["float_digits"])
-        rule = f'<span class="dp-rule">{_esc(step.rule.name)}</span>' if step.rule else ""
+        shown = step.rules_shown
+        rule = (f'<span class="dp-rule">{_esc("; ".join(r.name for r in shown))}</span>'
+                if shown else "")
         parts = [f'<details class="dp-step" id="{ids}"{" open" if self.settings["open"] else ""}>',
                  f'<summary><b>{_esc(number)} {_esc(step.title)}</b>{rule}</summary>']
         if step.rule is not None:

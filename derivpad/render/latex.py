@@ -52,6 +52,9 @@ class LatexRenderer(Renderer):
         parts = [f"\\{head}{{{_escape(step.title)}}}"]
         if step.rule is not None:
             parts.append(r"\textit{Rule: %s.} $%s$" % (_escape(step.rule.name), step.rule.statement))
+        elif step.rules_shown:
+            parts.append(r"\textit{Rules: %s.}" % _escape("; ".join(r.name
+                                                                   for r in step.rules_shown)))
         if step.note:
             parts.append(_escape(step.note))
         math = self.math(step)

@@ -119,6 +119,10 @@ class NotationLatexPrinter(LatexPrinter):
     def _print_PartLabel(self, expr, style="plain"):
         return "%s_{%d}(s)" % (super()._print_Symbol(sp.Symbol(expr.base), style), expr.index)
 
+    def _print_Coefficient(self, expr, style="plain"):
+        sub = str(expr.pole) + (f",{expr.power}" if expr.power is not None else "")
+        return "%s_{%s}" % (expr.letter, sub)
+
     def _print_Float(self, expr):
         text = _format_float(expr, self._settings["float_digits"])
         if "e" in text:
@@ -160,6 +164,9 @@ class NotationTextPrinter(StrPrinter):
 
     def _print_PartLabel(self, expr):
         return "%s_%d(s)" % (expr.base, expr.index)
+
+    def _print_Coefficient(self, expr):
+        return expr.name
 
     def _print_Subs(self, expr):
         inner, (var,), (point,) = expr.args

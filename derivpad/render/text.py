@@ -105,9 +105,11 @@ class TextRenderer(Renderer):
     def _render_Step(self, step: Step, number: str = "", depth: int = 0) -> str:
         indent = "    " * depth
         out = [f"{indent}{number}{' ' if number else ''}{step.title}"]
-        if step.rule is not None:
-            rule_line = f"Rule: {step.rule.name}"
-            if self.settings["statements"]:
+        shown = step.rules_shown
+        if shown:
+            rule_line = ("Rule: " if len(shown) == 1 else "Rules: ") + "; ".join(
+                r.name for r in shown)
+            if self.settings["statements"] and step.rule is not None:
                 rule_line += f" — {step.rule.statement}"
             out.append(self._wrap(rule_line, indent + "  "))
         if step.note:

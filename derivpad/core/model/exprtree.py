@@ -10,7 +10,8 @@ from __future__ import annotations
 import sympy as sp
 
 from ...errors import ParseError
-from .labels import InitialValue, InverseLaplace, Laplace, PartLabel, PolynomialLabel
+from .labels import (Coefficient, InitialValue, InverseLaplace, Laplace, PartLabel,
+                     PolynomialLabel)
 
 __all__ = ["to_tree", "from_tree"]
 
@@ -50,6 +51,9 @@ def to_tree(expr: sp.Basic):
         return {"label": "polynomial", "letter": expr.letter}
     if isinstance(expr, PartLabel):
         return {"label": "part", "base": expr.base, "index": expr.index}
+    if isinstance(expr, Coefficient):
+        return {"label": "coefficient", "letter": expr.letter, "pole": expr.pole,
+                "power": expr.power}
     if isinstance(expr, sp.MatrixBase):
         return ["Matrix", expr.rows, expr.cols] + [to_tree(a) for a in expr]
     if isinstance(expr, sp.Symbol):
@@ -122,6 +126,10 @@ def _label(tree: dict) -> sp.Symbol:
         return PolynomialLabel(_name(tree["letter"]))
     if kind == "part":
         return PartLabel(_name(tree["base"]), int(tree["index"]))
+    if kind == "coefficient":
+        power = tree.get("power")
+        return Coefficient(_name(tree["letter"]), int(tree["pole"]),
+                           None if power is None else int(power))
     raise ParseError(f"unknown label kind {kind!r} in expression tree")
 
 

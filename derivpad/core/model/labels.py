@@ -10,8 +10,8 @@ from __future__ import annotations
 
 import sympy as sp
 
-__all__ = ["InitialValue", "InverseLaplace", "Laplace", "PartLabel", "PolynomialLabel",
-           "initial_value_label"]
+__all__ = ["Coefficient", "InitialValue", "InverseLaplace", "Laplace", "PartLabel",
+           "PolynomialLabel", "initial_value_label"]
 
 
 class Laplace(sp.Function):
@@ -70,6 +70,23 @@ class PartLabel(sp.Symbol):
 
     def _hashable_content(self):
         return (self.name, "PartLabel")
+
+
+class Coefficient(sp.Symbol):
+    """A partial-fraction coefficient named by its term: ``A`` of pole k and power j
+    (A_{k,j}), or B_k and C_k of a complex pair's square-completed term."""
+
+    def __new__(cls, letter: str, pole: int, power: int | None = None):
+        name = f"{letter}_{pole}" + (f",{power}" if power is not None else "")
+        obj = super().__new__(cls, name)
+        obj.letter, obj.pole, obj.power = letter, int(pole), power
+        return obj
+
+    def __getnewargs__(self):
+        return (self.letter, self.pole, self.power)
+
+    def _hashable_content(self):
+        return (self.name, "Coefficient")
 
 
 def initial_value_label(unknown: str, order: int) -> InitialValue:

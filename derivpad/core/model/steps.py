@@ -56,6 +56,12 @@ class Step:
         return step_latex(self)
 
     @property
+    def rules_shown(self) -> tuple[Rule, ...]:
+        """The rules a reader is shown beside the step: its own rule, or, for a step that
+        only gathers sub-steps, exactly the rules they used."""
+        return (self.rule,) if self.rule is not None else self.all_rules
+
+    @property
     def all_rules(self) -> tuple[Rule, ...]:
         """Every rule this step and its sub-steps use, each once, in order of use."""
         seen: dict[str, Rule] = {}

@@ -50,8 +50,10 @@ def invert_term(term: FractionTerm) -> InverseTerm:
     if k == 1:
         B, C = 2 * term.re, -2 * term.im
         f = sp.exp(a * TAU) * (B * sp.cos(b * TAU) + C * sp.sin(b * TAU))
-        rules = ((rule("pair_cos"), rule("pair_sin")) if a == 0
-                 else (rule("pair_exp_cos"), rule("pair_exp_sin"), rule("first_shift")))
+        # the pairs of the terms that are there: a pure sine is cited as the sine pair only
+        cos_id, sin_id = ("pair_cos", "pair_sin") if a == 0 else ("pair_exp_cos", "pair_exp_sin")
+        rules = tuple(rule(i) for i, c in ((cos_id, B), (sin_id, C)) if c != 0) + \
+            ((rule("first_shift"),) if a != 0 else ())
         return InverseTerm(term, f, rules)
     f = (2 * TAU ** (k - 1) / fact * sp.exp(a * TAU)
          * (term.re * sp.cos(b * TAU) - term.im * sp.sin(b * TAU)))

@@ -12,8 +12,8 @@ square completed, (B(s - α) + Cβ)/((s - α)² + β²), B = 2 Re A, C = -2 Im A
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 import re
+from dataclasses import dataclass
 from math import factorial
 
 import mpmath
@@ -21,6 +21,7 @@ import sympy as sp
 from sympy.polys.domains import QQ, QQ_I
 
 from ...errors import SolveError
+from ..model.labels import Coefficient
 from .algebra import WORKING_DIGITS, Pole, PoleSet
 from ..reading.parse import S
 from .rules import rule
@@ -309,50 +310,59 @@ def _coefficient_formula(covered: sp.Expr, point: sp.Expr, order: int) -> sp.Exp
 
 def fraction_steps(label: sp.Symbol, numerator: sp.Expr, poles: PoleSet,
                    terms: list[FractionTerm]) -> Step:
-    """The decomposition of one rational part as a step, one sub-step per pole."""
+    """The decomposition of one rational part as a step, one sub-step per pole; each
+    coefficient named by its pole and power (A_{k,j}; B_k, C_k for a complex pair), each
+    sub-step headed by the rule it used, and the step by exactly the rules of its sub-steps."""
     subs = []
-    used = {}
-    for pole in poles.poles:
+    used: dict = {}
+    kinds = []
+    for k, pole in enumerate((q for q in poles.poles if any(t.pole is q for t in terms)), 1):
         own = [t for t in terms if t.pole is pole]
-        if not own:
-            continue
-        covered, point = _covered(numerator, poles, pole)
-        m = pole.multiplicity
-        if pole.kind == "real":
-            r = rule("pf_simple" if m == 1 else "pf_repeated")
-            lines = tuple(Line(sp.Symbol(f"A_{t.power}"), _coefficient_formula(covered, point,
-                                                                              m - t.power), "=",
-                               "cover-up" if m == t.power else f"derivative of order {m - t.power}")
-                          for t in own) + tuple(Line(sp.Symbol(f"A_{t.power}"), t.re, "=")
-                                                for t in own)
-            note = ("Simple real pole: the coefficient is the rest of the fraction evaluated at "
-                    "the pole (cover-up)." if m == 1 else
-                    f"Real pole of multiplicity {m}: coefficients from derivatives of the "
-                    "covered-up fraction.")
-        else:
-            r = rule("pf_complex_pair")
-            lines = []
-            for t in own:
-                lines.append(Line(sp.Symbol(f"A_{t.power}"),
-                                  _coefficient_formula(covered, point, m - t.power), "=",
-                                  "residue at the pole with β > 0"))
-                lines.append(Line(sp.Symbol(f"A_{t.power}"), t.re + sp.I * t.im, "="))
-                if t.power == 1:
-                    lines.append(Line(sp.Symbol("B"), 2 * t.re, "=", "2 Re A"))
-                    lines.append(Line(sp.Symbol("C"), -2 * t.im, "=", "-2 Im A"))
-            lines = tuple(lines)
-            note = ("Complex-conjugate pair: the conjugate pole has the conjugate coefficient; "
-                    "together they make one real quadratic term with the square completed.")
+        r, lines, note = _pole_working(k, pole, own, numerator, poles)
         used[r.id] = r
+        kinds.append(r.name.split(": ")[-1])
         if pole.numeric:
             note += f" The pole was found numerically ({WORKING_DIGITS} digits)."
             used["numeric_roots"] = rule("numeric_roots")
-        subs.append(Step(f"Pole {_pole_text(pole)}" + (f" (multiplicity {pole.multiplicity})"
-                                                        if pole.multiplicity > 1 else ""),
-                         r, lines, note))
+        subs.append(Step(f"Pole {k}: {_pole_text(pole)}" + (
+            f" (multiplicity {pole.multiplicity})" if pole.multiplicity > 1 else ""),
+            r, lines, note, rules_used=(rule("numeric_roots"),) if pole.numeric else ()))
     total = sp.Add(*[t.expr for t in terms]) if terms else sp.Integer(0)
     lines = (Line(label, numerator / poles.factored, "="),
              Line(label, total, "="))
-    return Step(f"Partial fractions of {label}", next(iter(used.values()), None), lines,
-                "Split over the real poles of the denominator; each coefficient is worked in "
-                "its own sub-step.", tuple(subs), tuple(used.values()))
+    own_rules = [r for r in used.values() if r.id != "numeric_roots"]
+    return Step(f"Partial fractions of {label}", own_rules[0] if len(own_rules) == 1 else None,
+                lines, "One term for each pole and power: " + "; ".join(dict.fromkeys(kinds))
+                + ". Each coefficient is worked in its own sub-step.", tuple(subs),
+                tuple(used.values()))
+
+
+def _pole_working(k: int, pole: Pole, own, numerator, poles):
+    """(rule, lines, note) of one pole's coefficients."""
+    covered, point = _covered(numerator, poles, pole)
+    m = pole.multiplicity
+    if pole.kind == "real":
+        r = rule("pf_simple" if m == 1 else "pf_repeated")
+        names = {t.power: Coefficient("A", k, t.power if m > 1 else None) for t in own}
+        lines = tuple(Line(names[t.power], _coefficient_formula(covered, point, m - t.power),
+                           "=", "cover-up" if m == t.power else
+                           f"derivative of order {m - t.power}") for t in own) + tuple(
+            Line(names[t.power], t.re, "=") for t in own)
+        note = ("Simple real pole: the coefficient is the rest of the fraction evaluated at "
+                "the pole (cover-up)." if m == 1 else
+                f"Real pole of multiplicity {m}: coefficients from derivatives of the "
+                "covered-up fraction.")
+        return r, lines, note
+    r = rule("pf_complex_pair")
+    lines = []
+    for t in own:
+        a = Coefficient("A", k, t.power if m > 1 else None)
+        lines.append(Line(a, _coefficient_formula(covered, point, m - t.power), "=",
+                          "residue at the pole with β > 0"))
+        lines.append(Line(a, t.re + sp.I * t.im, "="))
+        if t.power == 1:
+            lines.append(Line(Coefficient("B", k), 2 * t.re, "=", "2 Re A"))
+            lines.append(Line(Coefficient("C", k), -2 * t.im, "=", "-2 Im A"))
+    note = ("Complex-conjugate pair: the conjugate pole has the conjugate coefficient; together "
+            "they make one real quadratic term with the square completed.")
+    return r, tuple(lines), note

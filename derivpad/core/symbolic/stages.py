@@ -413,8 +413,9 @@ def fraction_and_inversion_steps(problem: Problem, solved: _Solved):
             dsol.append((c, sp.Add(*[inv.time for inv in inverses])))
         delayed_solutions[u] = tuple(dsol)
         X = Ysym(u)
-        frac_steps.append(Step(f"Partial fractions of {X}", rule("pf_simple"), (), "",
-                               tuple(f_sub), _rules_of(f_sub)))
+        own = [r for r in _rules_of(f_sub) if r.id != "numeric_roots"]
+        frac_steps.append(Step(f"Partial fractions of {X}", own[0] if len(own) == 1 else None,
+                               (), "", tuple(f_sub), _rules_of(f_sub)))
         inv_steps.append(Step(f"Invert {X}", None, (), "", tuple(i_sub), _rules_of(i_sub)))
     if problem.size == 1:  # one unknown: its parts are the steps' own sub-steps
         frac_steps, inv_steps = list(frac_steps[0].substeps), list(inv_steps[0].substeps)
@@ -422,8 +423,9 @@ def fraction_and_inversion_steps(problem: Problem, solved: _Solved):
                      "separately.")
     else:
         frac_note = "Each unknown's transform is split part by part between delay factors."
-    decompose = Step("Partial fractions", rule("pf_simple"), (), frac_note, tuple(frac_steps),
-                     _rules_of(frac_steps))
+    rules = [r for r in _rules_of(frac_steps) if r.id != "numeric_roots"]
+    decompose = Step("Partial fractions", rules[0] if len(rules) == 1 else None, (), frac_note,
+                     tuple(frac_steps), _rules_of(frac_steps))
     shifted = any(c != 0 for c in solved.delays)
     invert = Step("Invert term by term", rule("second_shift") if shifted else None, (),
                   "Each partial fraction maps back through its table pair; delayed parts "

@@ -34,3 +34,12 @@ def test_second_shift_against_sympy():
     ref = sp.inverse_laplace_transform(sp.exp(-2 * S) / (S + 1), S, t)
     for x in (1.0, 2.5, 6.0):
         assert abs(float(ours.subs(sp.Symbol("t", real=True), x)) - float(ref.subs(t, x))) < 1e-15
+
+
+def test_a_pure_sine_is_cited_as_the_sine_pair_only():
+    # 3/(s² + 9) = sin 3t: the sine pair (any table of transforms; from memory)
+    (term,) = partial_fractions(sp.Integer(3), poles_of(S ** 2 + 9))
+    inv = invert_term(term)
+    assert [r.id for r in inv.rules] == ["pair_sin"]
+    (term,) = partial_fractions(S, poles_of(S ** 2 + 9))
+    assert [r.id for r in invert_term(term).rules] == ["pair_cos"]

@@ -33,3 +33,22 @@ def test_a_residue_is_the_cover_up_value():
     terms = partial_fractions(sp.Integer(2), poles_of(sp.expand(S * (S ** 2 + 4 * S + 13))))
     at_zero = [t for t in terms if t.pole.kind == "real" and t.pole.value == 0]
     assert at_zero[0].re == sp.Rational(2, 13)
+
+
+def test_steps_name_each_coefficient_and_cite_exactly_the_rules_used():
+    from derivpad.core.model.labels import Coefficient
+    from derivpad.core.symbolic.partial_fractions import fraction_steps
+    from derivpad.core.model.labels import PartLabel
+    # (s + 3)/(s·((s + 1)² + 4)): a simple pole at 0 and the pair -1 ± 2i
+    den = sp.expand(S * ((S + 1) ** 2 + 4))
+    poles = poles_of(den)
+    terms = partial_fractions(S + 3, poles)
+    step = fraction_steps(PartLabel("Y", 0), S + 3, poles, terms)
+    assert step.rule is None   # two kinds of pole: the step cites both, from its sub-steps
+    assert [r.id for r in step.rules_shown] == ["pf_simple", "pf_complex_pair"]
+    assert [s.rule.id for s in step.substeps] == ["pf_simple", "pf_complex_pair"]
+    names = [line.lhs for sub in step.substeps for line in sub.lines]
+    assert Coefficient("A", 1) in names and Coefficient("B", 2) in names
+    assert Coefficient("C", 2) in names and Coefficient("A", 2) in names
+    # the cover-up value at s = 0 is 3/5 (common practice, no source)
+    assert step.substeps[0].lines[-1].rhs == sp.Rational(3, 5)
