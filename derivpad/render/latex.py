@@ -14,13 +14,33 @@ CAUTION = ("This is a linear model. Results are to be reviewed by a qualified en
            "use; local codes and licensed professional practice govern.")
 
 
+# Characters of our prose that pdflatex's text fonts do not have, as math: the document then
+# compiles with plain pdflatex (no unicode engine, no extra packages).
+_UNICODE = {
+    "⁻": r"$^{-}$", "⁺": r"$^{+}$", "⁰": r"$^{0}$", "¹": r"$^{1}$", "²": r"$^{2}$",
+    "³": r"$^{3}$", "⁴": r"$^{4}$", "⁵": r"$^{5}$", "⁶": r"$^{6}$", "⁷": r"$^{7}$",
+    "⁸": r"$^{8}$", "⁹": r"$^{9}$", "ᐟ": "/", "α": r"$\alpha$", "β": r"$\beta$",
+    "γ": r"$\gamma$", "δ": r"$\delta$", "Δ": r"$\Delta$", "ε": r"$\varepsilon$",
+    "ζ": r"$\zeta$", "θ": r"$\theta$", "λ": r"$\lambda$", "μ": r"$\mu$", "π": r"$\pi$",
+    "σ": r"$\sigma$", "τ": r"$\tau$", "φ": r"$\varphi$", "Φ": r"$\Phi$", "ω": r"$\omega$",
+    "Ω": r"$\Omega$", "±": r"$\pm$", "·": r"$\cdot$", "→": r"$\to$", "∞": r"$\infty$",
+    "≤": r"$\le$", "≥": r"$\ge$", "≠": r"$\ne$", "≈": r"$\approx$", "−": "-", "√": r"$\surd$",
+    "𝓛": r"$\mathcal{L}$", "ℒ": r"$\mathcal{L}$", "∑": r"$\sum$", "∫": r"$\int$",
+    "×": r"$\times$", "°": r"$^{\circ}$", "ᵀ": r"$^{T}$", "Σ": r"$\Sigma$",
+}
+
+
 def _escape(text: str) -> str:
+    """Text for LaTeX: its special characters escaped, characters outside pdflatex's text
+    fonts written as math (any other non-ASCII character is replaced by '?', never passed
+    through to break the compile)."""
     out = text
     for a, b in (("\\", r"\textbackslash{}"), ("&", r"\&"), ("%", r"\%"), ("$", r"\$"),
                  ("#", r"\#"), ("_", r"\_"), ("{", r"\{"), ("}", r"\}"), ("~", r"\~{}"),
                  ("^", r"\^{}")):
         out = out.replace(a, b)
-    return out
+    return "".join(_UNICODE.get(ch, ch if ord(ch) < 128 or ch in "–—‘’“”é" else "?")
+                   for ch in out)
 
 
 class LatexRenderer(Renderer):

@@ -117,7 +117,10 @@ class NotationLatexPrinter(LatexPrinter):
         return super()._print_Symbol(sp.Symbol(expr.letter), style) + "(s)"
 
     def _print_PartLabel(self, expr, style="plain"):
-        return "%s_{%d}(s)" % (super()._print_Symbol(sp.Symbol(expr.base), style), expr.index)
+        base = super()._print_Symbol(sp.Symbol(expr.base), style)
+        if "_" in base:  # X1 prints as X_{1}: brace it so the part's index is a second level
+            base = "{%s}" % base
+        return "%s_{%d}(s)" % (base, expr.index)
 
     def _print_Coefficient(self, expr, style="plain"):
         sub = str(expr.pole) + (f",{expr.power}" if expr.power is not None else "")
