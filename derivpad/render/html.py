@@ -39,6 +39,7 @@ STYLE = """
  padding:.1em 0 .1em .7em}
 .derivpad details>summary{cursor:pointer}
 .derivpad .dp-rule{color:var(--jp-content-font-color2,#555);font-style:italic;margin-left:.6em}
+.derivpad .dp-source{font-size:.85em;color:var(--jp-content-font-color2,#555)}
 .derivpad .dp-note{margin:.3em 0}
 .derivpad details.dp-latex{border:none;margin:0;padding:0;font-size:.8em}
 .derivpad details.dp-latex pre{white-space:pre-wrap;background:var(--jp-layout-color2,#f3f3f3);
@@ -123,7 +124,7 @@ class HtmlRenderer(Renderer):
                  f'<summary><b>{_esc(number)} {_esc(step.title)}</b>{rule}</summary>']
         if step.rule is not None:
             parts.append(f'<div class="dp-note">Rule: {self._math(step.rule.statement, False)} '
-                         f'<span class="dp-label">{_esc(step.rule.source)}</span></div>')
+                         f'<span class="dp-source">{_esc(step.rule.source)}</span></div>')
         if step.note:
             parts.append(f'<div class="dp-note">{_esc(step.note)}</div>')
         if tex:

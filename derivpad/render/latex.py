@@ -46,11 +46,14 @@ def _escape(text: str) -> str:
 class LatexRenderer(Renderer):
     """Renders a Derivation, a Step, a Line or a Verification as LaTeX."""
 
-    _default_settings = {"float_digits": 6, "substeps": True, "document": False}
-    _allowed = {"substeps": (True, False), "document": (True, False)}
+    _default_settings = {"float_digits": 6, "substeps": True, "document": False,
+                         "imaginary_unit": "i"}
+    _allowed = {"substeps": (True, False), "document": (True, False),
+                "imaginary_unit": ("i", "j")}
 
     def _expr(self, expr) -> str:
-        return latex_expr(expr, float_digits=self.settings["float_digits"])
+        return latex_expr(expr, float_digits=self.settings["float_digits"],
+                          imaginary_unit=self.settings["imaginary_unit"])
 
     def _render_Line(self, line: Line) -> str:
         rel = {"=": "&=", ":": "&:", "\\to": r"&\to"}.get(line.relation, "&=")

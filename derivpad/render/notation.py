@@ -145,7 +145,11 @@ class NotationLatexPrinter(LatexPrinter):
 class NotationTextPrinter(StrPrinter):
     """One-line plain text of step expressions, for the terminal."""
 
-    _default_settings = {**StrPrinter._default_settings, "float_digits": 6}
+    _default_settings = {**StrPrinter._default_settings, "float_digits": 6,
+                         "imaginary_unit": "i"}
+
+    def _print_ImaginaryUnit(self, expr):
+        return self._settings["imaginary_unit"]
 
     def _as_ordered_terms(self, expr, order=None):
         return _ordered(StrPrinter, self, expr, order)
@@ -157,7 +161,8 @@ class NotationTextPrinter(StrPrinter):
         return "delta(%s)" % self._print(expr.args[0])
 
     def _print_Laplace(self, expr):
-        return "L{%s}" % self._print(expr.args[0])
+        # the script ℒ: no parameter can take the name (an inductance L stands beside it)
+        return "ℒ{%s}" % self._print(expr.args[0])
 
     def _print_InitialValue(self, expr):
         return _prime_name(expr.unknown, expr.order, False) + "(0-)"
@@ -176,7 +181,7 @@ class NotationTextPrinter(StrPrinter):
         return "[%s] at %s = %s" % (self._print(inner), self._print(var), self._print(point))
 
     def _print_InverseLaplace(self, expr):
-        return "L^-1{%s}" % self._print(expr.args[0])
+        return "ℒ^-1{%s}" % self._print(expr.args[0])
 
     def _print_Derivative(self, expr):
         inner = expr.expr
@@ -234,12 +239,16 @@ def result_parts(result, digits: int = 6) -> tuple[str, str, str]:
     return format_value(m, digits), result.unit, result.note
 
 
+IMAGINARY_UNITS = ("i", "j")
+"""How the imaginary unit is written: i, or j as electrical engineers write it."""
+
+
 def latex_expr(expr, **settings) -> str:
-    """LaTeX of one expression in our notation."""
+    """LaTeX of one expression in our notation (``imaginary_unit``: "i" or "j")."""
     return NotationLatexPrinter(settings).doprint(expr)
 
 
 def text_expr(expr, **settings) -> str:
-    """Plain text of one expression in our notation."""
+    """Plain text of one expression in our notation (``imaginary_unit``: "i" or "j")."""
     return NotationTextPrinter(settings).doprint(expr)
 

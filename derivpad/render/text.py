@@ -76,11 +76,14 @@ def _fill(text, cuts, width, indent, start_min):
 class TextRenderer(Renderer):
     """Renders a Derivation, a Step, a Line or a Verification as plain text."""
 
-    _default_settings = {"float_digits": 6, "substeps": True, "width": 80, "statements": False}
-    _allowed = {"substeps": (True, False), "statements": (True, False)}
+    _default_settings = {"float_digits": 6, "substeps": True, "width": 80, "statements": False,
+                         "imaginary_unit": "i"}
+    _allowed = {"substeps": (True, False), "statements": (True, False),
+                "imaginary_unit": ("i", "j")}
 
     def _expr(self, expr) -> str:
-        return text_expr(expr, float_digits=self.settings["float_digits"])
+        return text_expr(expr, float_digits=self.settings["float_digits"],
+                         imaginary_unit=self.settings["imaginary_unit"])
 
     def _wrap(self, text: str, indent: str) -> str:
         return textwrap.fill(text, width=self.settings["width"], initial_indent=indent,

@@ -35,7 +35,7 @@ def test_delay_factor_stands_in_front():
 
 def test_transform_node():
     assert latex_expr(Laplace(y)) == r"\mathcal{L}\left\{y(t)\right\}"
-    assert text_expr(Laplace(y.diff(T))) == "L{y'(t)}"
+    assert text_expr(Laplace(y.diff(T))) == "ℒ{y'(t)}"   # no clash with an inductance L
 
 
 def test_floats_show_six_significant_digits():
@@ -64,3 +64,14 @@ def test_renderer_settings_are_validated():
         to_text(sp.Integer(1), colour=True)
     with pytest.raises(RenderSettingError, match="must be one of"):
         to_latex(sp.Integer(1), document="yes")
+
+
+def test_the_imaginary_unit_is_i_or_j_as_chosen():
+    # electrical engineers write j (common practice, no source)
+    z = sp.Rational(-3, 10) - sp.I / 10
+    assert text_expr(z) == "-3/10 - i/10"
+    assert text_expr(z, imaginary_unit="j") == "-3/10 - j/10"
+    assert latex_expr(z, imaginary_unit="j") == r"- \frac{3}{10} - \frac{j}{10}"
+    import derivpad
+    d = derivpad.derive("y'' + 2*y' + 5*y = u(t)", {"y(0)": 0, "y'(0)": 0})
+    assert " j" in to_text(d, imaginary_unit="j") and "*I" not in to_text(d)
