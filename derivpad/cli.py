@@ -65,6 +65,9 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--unknown", help="the unknown's name, when no name carries primes")
     solve.add_argument("--regime", choices=("underdamped", "overdamped"), default="underdamped",
                        help="case taken for a symbolic quadratic of unknown discriminant sign")
+    solve.add_argument("--criterion", action="append", default=[], metavar="LIMIT",
+                       help="an acceptance criterion on a result, e.g. --criterion \"peak <= 3 mm\" "
+                            "(repeat); judged with units, OK / NOT OK")
     solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
                        help="also print the solution's value at time T (repeat)")
     solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
@@ -240,7 +243,8 @@ def _main(argv=None) -> int:
                        units=_read_pairs(args.unit, "--unit", "x=mm"),
                        values=_read_pairs(args.value, "--value", "m=2"),
                        unknown=args.unknown, regime=args.regime, on_failure="return",
-                       derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2"))
+                       derived=_read_pairs(args.derived, "--derived", "stroke=x1-x2"),
+                       criteria=args.criterion)
             if args.figure:
                 d.save_figure(args.figure)
             text = _emit(d, args.format, args.at, width=_width(args.width))

@@ -17,6 +17,7 @@ from .model.derivation import Derivation
 from .model.exprtree import from_tree
 from .model.problem import Problem
 from .model.result import Result
+from .checking.acceptance import Criterion, Judgement
 from .checking.results import _quantity
 from .symbolic.rules import rule
 from .model.steps import Line, Rule, Step
@@ -52,6 +53,7 @@ def derivation_from_dict(data: dict) -> Derivation:
         response_poles={u: _pole_list(ps) for u, ps in data["response_poles"].items()},
         window=None if data["window"] is None else float(data["window"]),
         value_rows=tuple((str(n), float(v), str(u)) for n, v, u in data["value_table"]),
+        acceptance=tuple(_judgement(j) for j in data.get("acceptance", ())),
         assumptions=tuple(data["assumptions"]),
         conditions=tuple(from_tree(c) for c in data["conditions"]),
         verification=Verification(tuple(_check(c) for c in data["verification"]["checks"])),
@@ -63,6 +65,18 @@ def derivation_from_dict(data: dict) -> Derivation:
                      for name, v in data["values_for_checks"].items()),
         derived={name: from_tree(e["tree"]) for name, e in data["derived"].items()},
         determinant=from_tree(data["determinant"]["tree"]))
+
+
+def _judgement(j: dict) -> Judgement:
+    number = (lambda x: None if x is None else float(x))  # noqa: E731
+    c = Criterion(j["key"], j["relation"] == "<=", float(j["limit"]), j["unit"], j["text"])
+    value = number(j["value"])
+    if value is None and j["reason"].startswith("unbounded"):
+        value = math.inf
+    use = number(j["utilisation"])
+    if use is None and value == math.inf:
+        use = math.inf
+    return Judgement(c, value, use, j["outcome"] == "OK", j["reason"])
 
 
 def _pole_list(poles) -> tuple:

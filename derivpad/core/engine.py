@@ -21,6 +21,7 @@ from .checking.numeric_model import ParametricNumbers
 from .model.problem import Problem
 from .reading.values import mapping_of, to_exact
 from .reading.read_problem import make_problem
+from .checking.acceptance import judge, read_criteria, unjudged
 from .checking.results import definitions_of, engineering_results
 from .symbolic.stages import Stages, derived_solutions, solve_stages
 from .reading.units import dimension_text, display_unit_for, read_quantity, to_display
@@ -36,7 +37,7 @@ __all__ = ["check_options", "compile_numbers", "complete", "derive", "derive_pro
 def derive(equation, ics=None, params=None, *, unknown: str | None = None, units=None,
            values=None, regime: str = "underdamped", tolerances=None,
            window: float | None = None, checks: str = "all", derived=None,
-           on_failure: str = "raise", definitions=None):
+           on_failure: str = "raise", definitions=None, criteria=None):
     """Solve a linear constant-coefficient ODE (or a coupled system) by the Laplace
     transform, step by step.
 
@@ -78,6 +79,9 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     definitions : mapping, optional
         Step-response definitions: ``settling_band`` (default 0.02) and ``rise`` (default
         (0.1, 0.9)); see docs/results.md.
+    criteria : list of str, optional
+        Acceptance criteria on results, ``["peak <= 3 mm", "settling_time_2pct <= 2 s"]``,
+        each judged with units (value, utilisation, OK / NOT OK); see docs/acceptance.md.
 
     Returns
     -------
@@ -99,7 +103,7 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     problem = make_problem(equation, ics, params, unknown, units, derived)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,
-                          definitions=definitions)
+                          definitions=definitions, criteria=criteria)
 
 
 def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, names=None,
@@ -118,15 +122,17 @@ def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, name
 
 def derive_problem(problem: Problem, *, regime: str = "underdamped", tolerances=None,
                    values=None, window: float | None = None, checks: str = "all",
-                   on_failure: str = "raise", definitions=None) -> Derivation:
+                   on_failure: str = "raise", definitions=None,
+                   criteria=None) -> Derivation:
     """The stages of :func:`derive` for an already checked :class:`Problem`."""
     tolerances = check_options(checks, tolerances, on_failure, window, definitions)
+    criteria = read_criteria(criteria)
     value_map = parameter_values(problem, values)
     stages = stages_for_values(problem, regime, value_map)
     checks_own = engine_check(problem, stages, tolerances.get("back_substitution"), value_map)
     return complete(problem, stages, checks_own, value_map, tolerances=tolerances,
                     window=window, checks=checks, on_failure=on_failure,
-                    definitions=definitions)
+                    definitions=definitions, criteria=criteria)
 
 
 REGIMES = ("underdamped", "overdamped")
@@ -237,7 +243,7 @@ def compile_numbers(problem: Problem, stages: Stages, symbols=()) -> ParametricN
 
 def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, tolerances,
              window, checks: str = "all", model: ParametricNumbers | None = None,
-             on_failure: str = "raise", definitions=None) -> Derivation:
+             on_failure: str = "raise", definitions=None, criteria=()) -> Derivation:
     """The Derivation: the stages, the engine's checks, and (for checks="all" with numbers
     for every symbolic parameter) the independent checks and the engineering results.
 
@@ -256,11 +262,14 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
         skipped = tuple(not_run(name, "", float("nan"), "skipped: derive(..., checks='engine')")
                         for name in INDEPENDENT_CHECKS)
         return Derivation(**fields, verification=Verification(tuple(checks_own) + skipped),
-                          results=MappingProxyType({}))
+                          results=MappingProxyType({}),
+                          acceptance=unjudged(criteria, "checks='engine': no results"))
     if not all(name in value_map for name in problem.symbols):
         skipped = missing_values(problem.symbols, value_map, numeric_tol)
         return Derivation(**fields, verification=Verification(tuple(checks_own) + skipped),
-                          results=MappingProxyType({}))
+                          results=MappingProxyType({}),
+                          acceptance=unjudged(criteria, "symbolic parameters without values: "
+                                              "no results"))
     if model is None:
         model = compile_numbers(problem, stages, tuple(value_map))
     numbers = model.at(value_map)
@@ -270,7 +279,10 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
     refuse_failed(verification, problem.text, on_failure)
     results = (engineering_results(problem, numbers, definitions)
                if verification.passed else withheld(verification))
-    derivation = Derivation(**fields, verification=verification, results=results)
+    acceptance = (judge(criteria, results) if verification.passed
+                  else unjudged(criteria, "verification failed: no results"))
+    derivation = Derivation(**fields, verification=verification, results=results,
+                            acceptance=acceptance)
     # d(times) uses the same compiled forms
     derivation._cache["numpy"] = {name: m.closed_form for name, m in numbers.models.items()}
     return derivation

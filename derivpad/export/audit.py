@@ -105,6 +105,12 @@ def _compare(old: list, new: list, tolerance: float) -> list[tuple[str, str]]:
                     rows.append((f"{tag} {key}", f"moved {x:.6g} → {y:.6g} {ra['unit']} "
                                                 f"({(y - x) / scale:+.2e} relative)"))
                     break
+        old_ok = {c["text"]: c["outcome"] for c in a.get("acceptance", [])}
+        new_ok = {c["text"]: c["outcome"] for c in b.get("acceptance", [])}
+        for text in sorted(set(old_ok) | set(new_ok)):
+            if old_ok.get(text) != new_ok.get(text):
+                rows.append((f"{tag} criterion {text}",
+                             f"{old_ok.get(text, 'absent')} → {new_ok.get(text, 'absent')}"))
         if a["verification"]["passed"] != b["verification"]["passed"]:
             rows.append((f"{tag} verification", f"{a['verification']['passed']} → "
                                                 f"{b['verification']['passed']}"))

@@ -66,7 +66,7 @@ def record_of(d: dict, i: int) -> dict:
         "solution": {"latex": d["solution"]["latex"], "text": d["solution"]["text"],
                      "tree": d["solution"]["tree"]},
         "results": d["results"], "verification": d["verification"],
-        "assumptions": d["assumptions"]}
+        "acceptance": d.get("acceptance", []), "assumptions": d["assumptions"]}
 
 
 def _inputs(record, derivations) -> dict:

@@ -12,10 +12,12 @@ per line::
     k = 480 kN/m
     ...
     units: x = mm
+    criteria: peak <= 3 mm
 
 The first line is the equation. A line ``name(0) = value`` (with primes) is an initial
 condition; ``name = value`` a parameter; ``units: a = u, b = v`` display units;
-``values: a = 1`` numbers for symbolic parameters. Blank lines and lines starting with ``#``
+``values: a = 1`` numbers for symbolic parameters; ``criteria: peak <= 3 mm, ...`` acceptance
+criteria. Blank lines and lines starting with ``#``
 are skipped. The magic's line may name a variable to store the derivation in:
 ``%%derivation d``.
 """
@@ -57,9 +59,12 @@ def parse_cell(cell: str) -> dict:
         equations.append(rest[0][1])
         rest = rest[1:]
     kwargs = {"equation": equations if len(equations) > 1 else equation, "ics": {},
-              "params": {}, "units": {}, "values": {}}
+              "params": {}, "units": {}, "values": {}, "criteria": []}
     for i, line in rest:
         head, colon, tail = line.partition(":")
+        if colon and head.strip() == "criteria":
+            kwargs["criteria"] += [c.strip() for c in tail.split(",") if c.strip()]
+            continue
         if colon and head.strip() in ("units", "values"):
             kwargs[head.strip()].update(_pairs(tail, i, head.strip()))
             continue

@@ -147,6 +147,26 @@ class HtmlRenderer(Renderer):
         return ('<table class="dp-checks"><tr><th>Check</th><th>Method</th><th>Error</th>'
                 f"<th>Tolerance</th><th>Outcome</th><th>Detail</th></tr>\n{rows}</table>")
 
+    def acceptance(self, judgements) -> str:
+        """Each stated limit: criterion, value, limit, utilisation and OK / NOT OK (a NOT OK
+        stated plainly, in the failure colour)."""
+        digits = self.settings["float_digits"]
+        rows = []
+        for j in judgements:
+            c = j.criterion
+            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
+                     if j.value is not None else "—")
+            use = format_value(j.utilisation, 3) if j.utilisation is not None else "—"
+            cls = "dp-pass" if j.ok else "dp-fail"
+            rows.append(f"<tr><td>{_esc(c.key)}</td><td class=\"dp-num\">{_esc(value)}</td>"
+                        f"<td>{'≤' if c.upper else '≥'} {_esc(format_value(c.limit, digits))}"
+                        f"{' ' + _esc(c.unit) if c.unit else ''}</td>"
+                        f"<td class=\"dp-num\">{_esc(use)}</td>"
+                        f"<td class=\"{cls}\"><b>{j.outcome}</b>"
+                        f"{' — ' + _esc(j.reason) if j.reason else ''}</td></tr>")
+        return ('<table class="dp-acceptance"><tr><th>Result</th><th>Value</th><th>Limit</th>'
+                "<th>Utilisation</th><th>Outcome</th></tr>\n" + "\n".join(rows) + "</table>")
+
     def results(self, results) -> str:
         if not results:
             return ("<p>No engineering results: give numbers for the symbolic parameters "
@@ -234,6 +254,9 @@ class HtmlRenderer(Renderer):
             out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
         out.append('<div class="dp-label">Verification</div>')
         out.append(self.render(d.verification))
+        if d.acceptance:
+            out.append('<div class="dp-label">Acceptance criteria</div>')
+            out.append(self.acceptance(d.acceptance))
         out.append('<div class="dp-label">Engineering results</div>')
         out.append(self.results(d.results))
         out.append(self.figure(d))

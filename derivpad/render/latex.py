@@ -6,7 +6,7 @@ from ..core.model.derivation import Derivation
 from ..core.model.steps import Line, Step
 from ..core.model.checks import Check, Verification
 from .base import Renderer
-from .notation import latex_expr, result_parts
+from .notation import format_value, latex_expr, result_parts
 
 __all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
 
@@ -102,6 +102,22 @@ class LatexRenderer(Renderer):
         value = _escape(value) + (f" ({_escape(remark)})" if remark else "")
         return f"{_escape(result.label)} & {value} & {_escape(unit)} \\\\"
 
+    def acceptance(self, judgements) -> str:
+        digits = self.settings["float_digits"]
+        rows = []
+        for j in judgements:
+            c = j.criterion
+            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
+                     if j.value is not None else "--")
+            use = format_value(j.utilisation, 3) if j.utilisation is not None else "--"
+            limit = ("$\\le$ " if c.upper else "$\\ge$ ") + format_value(c.limit, digits) + \
+                (f" {c.unit}" if c.unit else "")
+            outcome = j.outcome if j.ok else r"\textbf{NOT OK}"
+            rows.append(f"{_escape(c.key)} & {_escape(value)} & {limit} & {use} & {outcome}"
+                        + (f" ({_escape(j.reason)})" if j.reason else "") + r" \\")
+        return ("\\begin{tabular}{lllll}\nResult & Value & Limit & Utilisation & Outcome "
+                "\\\\\n\\hline\n" + "\n".join(rows) + "\n\\end{tabular}")
+
     def results(self, results) -> str:
         if not results:
             return "No engineering results: give numbers for the symbolic parameters."
@@ -112,6 +128,8 @@ class LatexRenderer(Renderer):
     def _render_Derivation(self, d: Derivation) -> str:
         parts = [self._render_Step(step) for step in d.steps]
         parts.append("\\section*{Verification}\n\n" + self.render(d.verification))
+        if d.acceptance:
+            parts.append("\\section*{Acceptance criteria}\n\n" + self.acceptance(d.acceptance))
         parts.append("\\section*{Engineering results}\n\n" + self.results(d.results))
         if d.assumptions:
             parts.append("\\section*{Assumptions}\n\\begin{itemize}\n" + "\n".join(

@@ -79,6 +79,7 @@ def derivation_to_dict(d: Derivation) -> dict:
         "notes": list(d.notes),
         "verification": {**d.verification.to_dict(), "verified": d.verification.passed},
         "results": {key: r.to_dict() for key, r in (d.results or {}).items()},
+        "acceptance": [j.to_dict() for j in d.acceptance],
         "units": _units_dict(p),
         "values_for_checks": {name: expression_dict(v) for name, v in d.values},
         "value_table": [list(row) for row in d.value_rows],

@@ -9,7 +9,7 @@ from ..core.model.steps import Line, Step
 from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
-from .notation import result_parts, text_expr
+from .notation import format_value, result_parts, text_expr
 
 __all__ = ["TextRenderer", "to_text", "top_level_terms", "wrap_terms"]
 
@@ -165,6 +165,22 @@ class TextRenderer(Renderer):
             line += "\n" + self._wrap(remark, "      ")
         return line
 
+    def acceptance(self, judgements) -> str:
+        """'  peak <= 3 mm   value 2.10000 mm   utilisation 0.700   OK', a NOT OK plainly."""
+        digits = self.settings["float_digits"]
+        out = ["Acceptance criteria: " + ("all OK" if all(j.ok for j in judgements)
+                                          else "NOT OK")]
+        for j in judgements:
+            c = j.criterion
+            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
+                     if j.value is not None else "—")
+            use = format_value(j.utilisation, 3) if j.utilisation is not None else "—"
+            out.append(self._wrap(f"{c.text}: value {value}, utilisation {use}: {j.outcome}",
+                                  "  "))
+            if j.reason:
+                out.append(self._wrap(j.reason, "      "))
+        return "\n".join(out)
+
     def results(self, results) -> str:
         if not results:
             return "Engineering results: none (give numbers for the symbolic parameters)"
@@ -180,6 +196,9 @@ class TextRenderer(Renderer):
             out.append("")
         out.append(self.render(d.verification))
         out.append("")
+        if d.acceptance:
+            out.append(self.acceptance(d.acceptance))
+            out.append("")
         out.append(self.results(d.results))
         if d.assumptions:
             out.append("")

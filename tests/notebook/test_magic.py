@@ -56,3 +56,14 @@ def test_several_equation_lines_make_a_system():
     from derivpad.core.reading.parse import S
     assert float(sp.limit(S * d.transform["x1"], S, 0)) == pytest.approx(1 / 16, rel=1e-30)
     assert d.verification.passed
+
+
+def test_a_criteria_line_states_acceptance_limits():
+    kwargs = parse_cell(CELL + "criteria: peak <= 60 mm, time_of_peak <= 1 s\n")
+    assert kwargs["criteria"] == ["peak <= 60 mm", "time_of_peak <= 1 s"]
+    import derivpad
+    d = derivpad.derive(**kwargs)
+    # x_max = 2F0/k = 125 mm for a step on an undamped spring-mass (any vibration text; from
+    # memory): over the 60 mm limit
+    (peak, _) = d.acceptance
+    assert peak.value == pytest.approx(125.0, rel=1e-9) and peak.outcome == "NOT OK"

@@ -40,6 +40,7 @@ class Derivation(DisplayFacade):
     determinant : Δ(s) = det A(s) (the characteristic polynomial P(s) for one unknown)
     verification : the engine's own checks and the independent ones
     results : engineering results by key (peak, dynamic_load_factor, damping_ratio, ...)
+    acceptance : each stated limit on a result, judged: value, utilisation, OK / NOT OK
     values : numbers used for symbolic parameters in checks and results
     """
 
@@ -62,6 +63,7 @@ class Derivation(DisplayFacade):
     response_poles: dict = field(default_factory=dict)   # unknown → poles of its transform
     window: float | None = None      # the checks' window end (s), where the caller chose it
     value_rows: tuple = ()           # ((name, number, unit), ...): ``values`` in declared units
+    acceptance: tuple = ()           # each acceptance criterion judged (checking/acceptance.py)
     _cache: dict = field(default_factory=dict, compare=False, repr=False)
 
     # -- squeezed views -------------------------------------------------------------------

@@ -1,0 +1,155 @@
+"""Acceptance criteria: limits a calc states on its results, judged with units.
+
+A criterion is text such as ``"peak <= 3 mm"``, ``"settling_time_2pct <= 2 s"``,
+``"peak_stroke <= 12 mm"`` (a system's derived quantity) or ``"damping_ratio >= 0.05"``: a
+result key, ``<=`` or ``>=``, and a limit with its unit (none for a ratio). Each is judged
+against the derivation's result in the limit's unit (a peak by its size, |y| at the supremum): the
+utilisation is value/limit for an upper limit and limit/value for a lower one, and the outcome
+OK or NOT OK. A result that is
+absent or unbounded cannot meet a limit: NOT OK, with the reason.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+from ...errors import ParameterError, UnitError
+from ..reading.units import read_quantity, registry
+
+__all__ = ["Criterion", "Judgement", "judge", "read_criteria", "unjudged"]
+
+_FORM = re.compile(r"^\s*([A-Za-z][A-Za-z_0-9]*)\s*(<=|>=|≤|≥)\s*(.+?)\s*$")
+_NUMBER = re.compile(r"^\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*)$")
+
+
+@dataclass(frozen=True, slots=True)
+class Criterion:
+    """A limit on one result: ``key <= limit`` (upper) or ``key >= limit`` (lower)."""
+
+    key: str
+    upper: bool
+    limit: float
+    unit: str
+    text: str
+
+    def to_dict(self) -> dict:
+        return {"key": self.key, "relation": "<=" if self.upper else ">=",
+                "limit": self.limit, "unit": self.unit, "text": self.text}
+
+
+@dataclass(frozen=True, slots=True)
+class Judgement:
+    """A criterion judged: the result's value in the limit's unit, the utilisation ratio and
+    the outcome (``ok``); ``reason`` says why a result could not be judged."""
+
+    criterion: Criterion
+    value: float | None
+    utilisation: float | None
+    ok: bool
+    reason: str = ""
+
+    @property
+    def outcome(self) -> str:
+        return "OK" if self.ok else "NOT OK"
+
+    def to_dict(self) -> dict:
+        finite = lambda x: x if x is not None and math.isfinite(x) else None  # noqa: E731
+        return {**self.criterion.to_dict(), "value": finite(self.value),
+                "utilisation": finite(self.utilisation), "outcome": self.outcome,
+                "reason": self.reason}
+
+
+def read_criteria(criteria) -> tuple[Criterion, ...]:
+    """``criteria=`` read and checked: a list of texts such as ``"peak <= 3 mm"``."""
+    if criteria is None:
+        return ()
+    if isinstance(criteria, str) or not hasattr(criteria, "__iter__"):
+        msg = ("criteria= must be a list of limits, e.g. criteria=[\"peak <= 3 mm\", "
+               "\"settling_time_2pct <= 2 s\"]")
+        raise ParameterError(msg, "criteria")
+    return tuple(_criterion(text) for text in criteria)
+
+
+def _criterion(text) -> Criterion:
+    if not isinstance(text, str):
+        raise ParameterError(f"criterion {text!r} must be text such as \"peak <= 3 mm\"",
+                             "criteria")
+    m = _FORM.match(text)
+    if not m:
+        msg = (f"cannot read the criterion {text!r}; write a result key, <= or >=, and a limit "
+               "with its unit, e.g. \"peak <= 3 mm\" or \"damping_ratio >= 0.05\"")
+        raise ParameterError(msg, "criteria")
+    key, relation, limit = m.groups()
+    quantity = read_quantity(limit, f"limit of {key}")   # refuses a unit pint does not know
+    number = _NUMBER.match(limit)
+    if number is None:
+        raise ParameterError(f"the limit in {text!r} is not a number with a unit, e.g. 3 mm",
+                             "criteria")
+    value, unit = float(number.group(1)), (number.group(2).strip() if quantity else "")
+    if not math.isfinite(value):
+        raise ParameterError(f"the limit in {text!r} is not finite", "criteria")
+    return Criterion(key, relation in ("<=", "≤"), value, unit, text.strip())
+
+
+def judge(criteria, results) -> tuple[Judgement, ...]:
+    """Each criterion against the results mapping (key → Result)."""
+    out = []
+    for c in criteria:
+        r = results.get(c.key) if results else None
+        if r is None:
+            known = ", ".join(sorted(results or {})[:12])
+            msg = (f"the criterion {c.text!r} names the result {c.key!r}, which this "
+                   f"derivation does not have (its results: {known}, …)")
+            raise ParameterError(msg, c.key)
+        out.append(_judged(c, r))
+    return tuple(out)
+
+
+def unjudged(criteria, why: str) -> tuple[Judgement, ...]:
+    """The criteria of a derivation without results: each NOT OK, saying why."""
+    return tuple(Judgement(c, None, None, False, f"cannot be judged: {why}") for c in criteria)
+
+
+def _judged(c: Criterion, r) -> Judgement:
+    m = r.magnitude
+    if m is None:
+        return Judgement(c, None, None, False, f"cannot be judged: {r.reason}")
+    if isinstance(m, (tuple, list, str)):
+        raise ParameterError(f"{c.key!r} is not a single number (it is {m!r}); a limit "
+                             "applies to one value", c.key)
+    if isinstance(m, float) and math.isinf(m):
+        return Judgement(c, math.inf, math.inf, False,
+                         "unbounded: " + (r.reason or r.note or "no finite value"))
+    value = _in_unit(r, c)
+    if c.key.startswith("peak"):  # a peak is the value at sup |y|: its size meets the limit
+        value = abs(value)
+    if c.upper:
+        use = value / c.limit if c.limit else (math.inf if value > 0 else 0.0)
+        ok = value <= c.limit
+    else:
+        use = c.limit / value if value else math.inf
+        ok = value >= c.limit
+    return Judgement(c, value, use, ok)
+
+
+def _in_unit(r, c: Criterion) -> float:
+    """The result's value in the criterion's unit; a unit of another dimension is refused."""
+    q = r.value
+    if not c.unit:
+        if hasattr(q, "to") and not q.dimensionless:
+            raise UnitError(f"the criterion {c.text!r} has no unit, but {c.key} is in "
+                            f"{r.unit}; give the limit with a unit, e.g. \"{c.key} <= 3 "
+                            f"{r.unit}\"", name=c.key)
+        return float(getattr(q, "magnitude", q))
+    if not hasattr(q, "to"):
+        if r.unit and r.unit != c.unit:
+            q = registry().Quantity(float(q), r.unit)
+        else:
+            return float(q)
+    try:
+        return float(q.to(c.unit).magnitude)
+    except Exception as exc:  # pint's DimensionalityError: translated at the boundary
+        raise UnitError(f"the criterion {c.text!r} is in {c.unit!r}, which does not match "
+                        f"{c.key} in {r.unit!r}", name=c.key) from exc
