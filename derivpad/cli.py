@@ -81,6 +81,8 @@ def _parser() -> argparse.ArgumentParser:
     package.add_argument("--force", action="store_true",
                          help="replace an existing package of this revision (kept aside)")
     package.add_argument("--no-pdf", action="store_true", help="skip the PDF")
+    package.add_argument("--page", choices=("A4", "Letter"), default="A4",
+                         help="paper of the printed report (default: A4)")
 
     audit = sub.add_parser("audit", help="check a calc package against its SHA-256 manifest")
     audit.add_argument("package", help="the package folder or its .zip")
@@ -225,7 +227,8 @@ def _main(argv=None) -> int:
         if args.command == "package":
             from .export.package import make_package
             result = make_package(args.notebook, args.output, allow_failed=args.allow_failed,
-                                  force=args.force, pdf=not args.no_pdf)
+                                  force=args.force, pdf=not args.no_pdf,
+                                  page_size=args.page)
             return 0 if result.verified else 1
         if args.command == "audit":
             text, code = _audit(args)

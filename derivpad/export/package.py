@@ -24,7 +24,7 @@ from pathlib import Path
 from ..errors import ExportError
 from .manifest import MANIFEST_NAME, write_manifest
 from .notebook_io import PackageRefusedError, execute_notebook
-from .report import print_pdf, report_html
+from .report import PAGE_SIZES, print_pdf, report_html
 
 __all__ = ["PackageResult", "make_package"]
 
@@ -120,8 +120,9 @@ def _zip(folder: Path, archive: Path) -> None:
 
 
 def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bool = False,
-                 pdf: bool = True, progress=print) -> PackageResult:
-    """Execute ``notebook`` fresh and write its calc package under ``out_dir``.
+                 pdf: bool = True, progress=print, page_size: str = "A4") -> PackageResult:
+    """Execute ``notebook`` fresh and write its calc package under ``out_dir``; the report is
+    laid out for ``page_size`` paper ("A4" or "Letter").
 
     Raises
     ------
@@ -132,6 +133,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         The package of this revision exists already (pass ``force`` to replace it).
     """
     say = progress or (lambda *_: None)
+    if page_size not in PAGE_SIZES:
+        raise ExportError(f"page size must be one of {', '.join(PAGE_SIZES)}, not {page_size!r}")
     notebook = Path(notebook).resolve()
     out_dir = Path(out_dir).resolve()  # relative to the current folder, whatever runs later
     calc = execute_notebook(notebook, progress=say)
@@ -176,7 +179,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         say("writing report.html")
         report = stage / "report.html"
         report.write_text(report_html(calc.record, calc.derivations, calc.html,
-                                      verified=verified, created=created), encoding="utf-8")
+                                      verified=verified, created=created, page_size=page_size),
+                          encoding="utf-8")
         if pdf:
             say("printing report.pdf")
             why = print_pdf(report, stage / "report.pdf")

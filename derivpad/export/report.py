@@ -17,7 +17,10 @@ from ..render.latex import CAUTION
 from ..render.offline import standalone_page
 from ..render.record import record_html
 
-__all__ = ["report_html", "print_pdf", "CHROMIUM"]
+__all__ = ["report_html", "print_pdf", "CHROMIUM", "PAGE_SIZES"]
+
+PAGE_SIZES = ("A4", "Letter")
+"""Paper for the printed report: A4 by default, US Letter by option."""
 
 CHROMIUM = "/usr/bin/chromium"
 
@@ -34,7 +37,10 @@ body{font-family:system-ui,sans-serif;margin:1.5em auto;max-width:60em;color:#1d
  color:#fff;font-weight:700;padding:.2em;z-index:10}
 h2.dp-section{border-bottom:1px solid #888;margin-top:1.4em}
 @media print{.dp-tools,details.dp-latex{display:none} h2.dp-section{break-before:page}
- .dp-unverified{position:fixed} .derivpad .dp-math{overflow:visible}}
+ .dp-unverified{position:fixed}
+ .derivpad .dp-math{overflow:visible!important}
+ .derivpad mjx-container{overflow:visible!important;max-width:100%!important}
+ .derivpad mjx-container svg{max-width:100%!important;height:auto!important}}
 """
 
 _OPEN_ALL = ("<script>document.addEventListener('DOMContentLoaded',function(){"
@@ -45,7 +51,19 @@ def _e(text) -> str:
     return html.escape(str(text), quote=True)
 
 
-def report_html(record: dict, derivations, fragments, *, verified: bool, created: str) -> str:
+def _page_style(record: dict, page_size: str) -> str:
+    """Print pages a checker can file: the paper size, and on every page the calc number,
+    revision and title at the head and "page n of N" at the foot (CSS page-margin boxes)."""
+    ident = f"{record['calc_number']} rev {record['revision']} — {record['title']}"
+    quoted = ident.replace("\\", "\\\\").replace('"', '\\"')
+    return ("@page{size:%s;margin:18mm 16mm 18mm 16mm;"
+            "@top-left{content:\"%s\";font:8pt system-ui,sans-serif;color:#444}"
+            "@bottom-right{content:\"page \" counter(page) \" of \" counter(pages);"
+            "font:8pt system-ui,sans-serif;color:#444}}" % (page_size, quoted))
+
+
+def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
+                page_size: str = "A4") -> str:
     """The report page: cover, contents, record, derivations, assumptions, references."""
     status = ("VERIFIED: every derivation passed all its checks" if verified else
               "NOT VERIFIED: packaged with failed or unrun checks")
@@ -86,7 +104,8 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
                 + "</ul><h3>References</h3><ul>"
                 + "".join(f"<li>{_e(r)}</li>" for r in references) + "</ul>")
     body.append(f'<h2 class="dp-section" id="cautions">Cautions</h2><p>{_e(CAUTION)}</p>')
-    page = standalone_page(f"<style>{_STYLE}</style>{_OPEN_ALL}" + "\n".join(body),
+    page = standalone_page(f"<style>{_STYLE}{_page_style(record, page_size)}</style>{_OPEN_ALL}"
+                           + "\n".join(body),
                            f"{record['calc_number']} rev {record['revision']}: {record['title']}")
     return page
 

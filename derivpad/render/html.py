@@ -51,6 +51,7 @@ STYLE = """
 .derivpad .dp-caution{border-top:1px solid var(--jp-border-color1,#bbb);margin-top:.6em;
  padding-top:.3em;font-size:.9em}
 .derivpad .dp-math{overflow-x:auto;overflow-y:hidden}
+.derivpad .dp-math mjx-container svg{max-width:100%;height:auto}
 .derivpad figure{margin:.4em 0}
 .derivpad figure svg{max-width:100%;height:auto;background:#fff}
 @media print{.derivpad .dp-tools{display:none}.derivpad details{border-left:none}}

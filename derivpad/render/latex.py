@@ -2,13 +2,19 @@
 
 from __future__ import annotations
 
+import sympy as sp
+
+from ..core.model.checks import Check, Verification
 from ..core.model.derivation import Derivation
 from ..core.model.steps import Line, Step
-from ..core.model.checks import Check, Verification
 from .base import Renderer
-from .notation import format_value, latex_expr, result_parts
+from .notation import NotationLatexPrinter, format_value, latex_expr, result_parts, text_expr
 
-__all__ = ["LatexRenderer", "to_latex", "step_math_latex", "CAUTION"]
+__all__ = ["LatexRenderer", "ROW_BUDGET", "to_latex", "step_math_latex", "CAUTION"]
+
+ROW_BUDGET = 72
+"""Characters of an expression's plain-text form per row of display math: past it, a sum
+continues on the next row (about a page column of typeset math)."""
 
 CAUTION = ("This is a linear model. Results are to be reviewed by a qualified engineer before "
            "use; local codes and licensed professional practice govern.")
@@ -37,7 +43,7 @@ def _escape(text: str) -> str:
     out = text
     for a, b in (("\\", r"\textbackslash{}"), ("&", r"\&"), ("%", r"\%"), ("$", r"\$"),
                  ("#", r"\#"), ("_", r"\_"), ("{", r"\{"), ("}", r"\}"), ("~", r"\~{}"),
-                 ("^", r"\^{}")):
+                 ("^", r"\^{}"), ("<", r"$<$"), (">", r"$>$")):
         out = out.replace(a, b)
     return "".join(_UNICODE.get(ch, ch if ord(ch) < 128 or ch in "–—‘’“”é" else "?")
                    for ch in out)
@@ -56,11 +62,36 @@ class LatexRenderer(Renderer):
                           imaginary_unit=self.settings["imaginary_unit"])
 
     def _render_Line(self, line: Line) -> str:
+        """``lhs &= rhs``; a long sum continues on further rows of the aligned block, broken
+        between its terms, so that no equation runs off the page."""
         rel = {"=": "&=", ":": "&:", "\\to": r"&\to"}.get(line.relation, "&=")
-        tex = f"{self._expr(line.lhs)} {rel} {self._expr(line.rhs)}"
+        rows = self._rows(line.rhs)
+        tex = f"{self._expr(line.lhs)} {rel} {rows[0]}" + "".join(
+            r" \\" + "\n" + r"&\quad " + row for row in rows[1:])
         if line.label:
             tex += r" &&\text{%s}" % _escape(line.label)
         return tex
+
+    def _rows(self, expr) -> list[str]:
+        """The expression's LaTeX in rows of at most ROW_BUDGET characters of its plain-text
+        form, broken between top-level terms (one row where it fits or is not a sum)."""
+        if not isinstance(expr, sp.Add) or len(text_expr(expr)) <= ROW_BUDGET:
+            return [self._expr(expr)]
+        printer = NotationLatexPrinter({"float_digits": self.settings["float_digits"],
+                                        "imaginary_unit": self.settings["imaginary_unit"]})
+        rows, row, size = [], "", 0
+        for term in printer._as_ordered_terms(expr):
+            negative = term.could_extract_minus_sign()
+            body = -term if negative else term
+            length = len(text_expr(body)) + 3
+            if row and size + length > ROW_BUDGET:
+                rows.append(row)
+                row, size = "", 0
+            sign = "- " if negative else ("+ " if rows or row else "")
+            row += (" " if row else "") + sign + self._expr(body)
+            size += length
+        rows.append(row)
+        return rows
 
     def math(self, step: Step) -> str:
         """Only the display math of one step (no sub-steps)."""

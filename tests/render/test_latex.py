@@ -31,3 +31,21 @@ def test_check_row_and_document():
     doc = d.to_latex(document=True)
     assert doc.startswith("\\documentclass{article}") and doc.rstrip().endswith("\\end{document}")
     assert "\\section*{Caution}" in doc and "\\theta" not in doc
+
+
+def test_a_long_sum_continues_on_further_rows():
+    import sympy as sp
+
+    from derivpad.core.model.steps import Line
+    from derivpad.core.model.symbols import T
+    from derivpad.render.latex import ROW_BUDGET, LatexRenderer
+    from derivpad.render.notation import text_expr
+    terms = [k * sp.exp(-k * T) * sp.cos(3 * k * T) for k in range(1, 9)]
+    line = Line(sp.Function("y")(T), sp.Add(*terms), "=", "a label")
+    tex = LatexRenderer()._render_Line(line)
+    rows = tex.split(" \\\\\n")
+    assert len(rows) > 1 and rows[1].startswith("&\\quad + ")
+    assert tex.endswith("&&\\text{a label}")
+    # every row's terms, as plain text, fit the budget
+    assert len(text_expr(sp.Add(*terms))) > ROW_BUDGET
+    assert tex.count("e^{") == 8
