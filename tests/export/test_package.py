@@ -52,6 +52,13 @@ def test_pdf_has_pages_and_the_calc_number(packaged):
     assert "DEMO-002" in reader.pages[0].extract_text()
     text = "".join(page.extract_text() for page in reader.pages)
     assert "$$" not in text and "\\begin{aligned}" not in text  # math typeset before printing
+    # every page: the calc number and revision at its head, "page n of N" at its foot; A4
+    n = len(reader.pages)
+    for i, page in enumerate(reader.pages, 1):
+        words = " ".join(page.extract_text().split())
+        assert "DEMO-002 rev 0" in words and f"page {i} of {n}" in words, i
+    width, height = (float(x) for x in reader.pages[0].mediabox[2:])
+    assert round(width / 72 * 25.4) == 210 and round(height / 72 * 25.4) == 297   # ISO 216
     assert "brings down a power of s" in text  # a step's note: the steps were opened
 
 
@@ -136,3 +143,13 @@ def test_relative_paths_as_the_docs_write_them(tmp_path, monkeypatch):
     if Path("/usr/bin/chromium").exists():
         assert (tmp_path / "out" / "DEMO-002-rev0" / "report.pdf").stat().st_size > 0
     assert main(["audit", "out/DEMO-002-rev0"]) == 0
+
+
+def test_page_style_names_the_calc_and_the_paper():
+    from derivpad.export.report import _page_style
+    css = _page_style({"calc_number": "C-1", "revision": "2", "title": 'A "quoted" title'},
+                      "Letter")
+    assert "size:Letter" in css and 'C-1 rev 2 — A \\"quoted\\" title' in css
+    assert 'counter(page) " of " counter(pages)' in css
+    with pytest.raises(ExportError, match="page size"):
+        make_package(EXAMPLES / "relay_coil_current.ipynb", ".", page_size="A3", **quiet)
