@@ -16,7 +16,7 @@ import sympy as sp
 
 from ..core.model.derivation import Derivation
 from ..core.model.labels import initial_value_label
-from ..core.model.steps import Step
+from ..core.model.steps import Line, Step
 from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION, LatexRenderer
@@ -214,8 +214,7 @@ class HtmlRenderer(Renderer):
             out.append(f"<style>{STYLE}</style>")
         out.append('<div class="dp-head">')
         equations = _once(p, "equation", digits, lambda: _aligned(
-            [(latex_expr(p.lhs(i), float_digits=digits),
-              latex_expr(p.forcings[i], float_digits=digits)) for i in range(p.size)]))
+            [(p.lhs(i), p.forcings[i]) for i in range(p.size)], digits))
         out.append(f'<div class="dp-label">{"Equation" if p.size == 1 else "System"}</div>'
                    f'<div class="dp-math">{self._math(equations)}</div>')
         ics = ", \\quad ".join(f"{latex_expr(initial_value_label(u, k))} = "
@@ -269,17 +268,17 @@ class HtmlRenderer(Renderer):
         return out
 
 
-def _aligned(rows) -> str:
-    """One relation as is; several aligned at their equals signs."""
-    if len(rows) == 1:
-        return f"{rows[0][0]} = {rows[0][1]}"
-    return "\\begin{aligned}" + r" \\ ".join(f"{a} &= {b}" for a, b in rows) + \
-        "\\end{aligned}"
+def _aligned(relations, digits: int) -> str:
+    """Relations lhs = rhs aligned at their equals signs, a long right side continued on
+    further rows (the LaTeX renderer's rows), so that the header never runs off its box."""
+    printer = LatexRenderer(float_digits=digits)
+    return "\\begin{aligned}" + " \\\\\n".join(
+        printer.render(Line(lhs, rhs)) for lhs, rhs in relations) + "\\end{aligned}"
 
 
 def _solution_tex(p, solutions: dict, digits: int) -> str:
-    return _aligned([(latex_expr(p.function(j)), _expr_latex(solutions[u], digits))
-                     for j, u in enumerate(p.unknowns)])
+    return _once(solutions, "solution", digits, lambda: _aligned(
+        [(p.function(j), solutions[u]) for j, u in enumerate(p.unknowns)], digits))
 
 
 def _written_in(p) -> str:

@@ -20,7 +20,7 @@ def test_steps_are_collapsible_with_title_and_rule_in_the_summary(d):
     assert "<summary><b>1. Problem</b><span class=\"dp-rule\">Laplace transform (0⁻ form)" in page
     assert "Expand all" in page and "Collapse all" in page
     assert "verified: 7 checks passed" in page
-    assert "$$y(t) = " in page and r"\theta" not in page
+    assert "$$\\begin{aligned}y(t) &amp;= " in page and r"\theta" not in page
     assert '<details class="dp-latex"><summary>LaTeX</summary><pre>' in page
 
 
