@@ -10,7 +10,11 @@ from ..core.model.steps import Line, Step
 from .base import Renderer
 from .notation import NotationLatexPrinter, format_value, latex_expr, result_parts, text_expr
 
-__all__ = ["LatexRenderer", "ROW_BUDGET", "to_latex", "step_math_latex", "CAUTION"]
+__all__ = ["LABEL_BUDGET", "LatexRenderer", "ROW_BUDGET", "to_latex", "step_math_latex", "CAUTION"]
+
+LABEL_BUDGET = 20
+"""Characters of a line's label kept in the column beside it; a longer one goes on its own row
+(a wide label column would push the working off the page)."""
 
 ROW_BUDGET = 72
 """Characters of an expression's plain-text form per row of display math: past it, a sum
@@ -65,17 +69,20 @@ class LatexRenderer(Renderer):
         """``lhs &= rhs``; a long sum continues on further rows of the aligned block, broken
         between its terms, so that no equation runs off the page."""
         rel = {"=": "&=", ":": "&:", "\\to": r"&\to"}.get(line.relation, "&=")
-        rows = self._rows(line.rhs)
+        rows = self._rows(line.rhs, max(ROW_BUDGET - len(text_expr(line.lhs)), ROW_BUDGET // 3))
         tex = f"{self._expr(line.lhs)} {rel} {rows[0]}" + "".join(
             r" \\" + "\n" + r"&\quad " + row for row in rows[1:])
-        if line.label:
+        if line.label and len(line.label) > LABEL_BUDGET:  # its own row, under the working
+            tex += r" \\" + "\n" + r"&\quad\text{(%s)}" % _escape(line.label)
+        elif line.label:
             tex += r" &&\text{%s}" % _escape(line.label)
         return tex
 
-    def _rows(self, expr) -> list[str]:
+    def _rows(self, expr, first: int = ROW_BUDGET) -> list[str]:
         """The expression's LaTeX in rows of at most ROW_BUDGET characters of its plain-text
-        form, broken between top-level terms (one row where it fits or is not a sum)."""
-        if not isinstance(expr, sp.Add) or len(text_expr(expr)) <= ROW_BUDGET:
+        form (``first`` for the row that follows the left side), broken between top-level
+        terms (one row where it fits or is not a sum)."""
+        if not isinstance(expr, sp.Add) or len(text_expr(expr)) <= first:
             return [self._expr(expr)]
         printer = NotationLatexPrinter({"float_digits": self.settings["float_digits"],
                                         "imaginary_unit": self.settings["imaginary_unit"]})
@@ -84,7 +91,7 @@ class LatexRenderer(Renderer):
             negative = term.could_extract_minus_sign()
             body = -term if negative else term
             length = len(text_expr(body)) + 3
-            if row and size + length > ROW_BUDGET:
+            if row and size + length > (first if not rows else ROW_BUDGET):
                 rows.append(row)
                 row, size = "", 0
             sign = "- " if negative else ("+ " if rows or row else "")

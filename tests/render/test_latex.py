@@ -16,7 +16,8 @@ def test_solve_step_latex():
     assert _d().steps[3].latex == (
         "\\begin{aligned}\n"
         "Y(s) &= \\frac{1 + e^{- s}\\,\\frac{4}{s}}{s + 2} \\\\\n"
-        "P(s) &= s + 2 &&\\text{characteristic polynomial} \\\\\n"
+        "P(s) &= s + 2 \\\\\n"
+        "&\\quad\\text{(characteristic polynomial)} \\\\\n"   # a long label: its own row
         "P(s) &= s + 2 &&\\text{factored} \\\\\n"
         "Y_{0}(s) &= \\frac{1}{s + 2} &&\\text{undelayed part} \\\\\n"
         "Y_{1}(s) &= \\frac{4}{s \\left(s + 2\\right)} &&\\text{part delayed by 1} \\\\\n"
