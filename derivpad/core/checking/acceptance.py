@@ -144,10 +144,14 @@ def _in_unit(r, c: Criterion) -> float:
                             f"{r.unit}\"", name=c.key)
         return float(getattr(q, "magnitude", q))
     if not hasattr(q, "to"):
-        if r.unit and r.unit != c.unit:
-            q = registry().Quantity(float(q), r.unit)
-        else:
+        if not r.unit:
+            raise UnitError(f"the criterion {c.text!r} has a unit, but {c.key} has none (the "
+                            "problem was given without units); write the limit as a plain "
+                            f"number in the equation's own units, e.g. \"{c.key} <= 0.003\", "
+                            "or give the parameters with units", name=c.key)
+        if r.unit == c.unit:
             return float(q)
+        q = registry().Quantity(float(q), r.unit)
     try:
         return float(q.to(c.unit).magnitude)
     except Exception as exc:  # pint's DimensionalityError: translated at the boundary

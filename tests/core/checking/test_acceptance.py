@@ -61,6 +61,8 @@ def test_bad_criteria_are_refused_with_the_fix():
         read_criteria("peak <= 3 mm")
     with pytest.raises(ParameterError, match="does not have"):
         derivpad.derive("y' + y = u(t)", {"y(0)": 0}, criteria=["peek <= 3"])
+    with pytest.raises(UnitError, match="has none"):   # no units given: a number is meant
+        derivpad.derive("y'' + 4*y = u(t)", {"y(0)": 0, "y'(0)": 0}, criteria=["peak <= 3 mm"])
     with pytest.raises(UnitError, match="does not match"):
         derivpad.derive("m*x'' + k*x = F*u(t)", {"x(0)": 0, "x'(0)": 0},
                         {"m": "1 kg", "k": "100 N/m", "F": "1 N"}, criteria=["peak <= 2 s"])
