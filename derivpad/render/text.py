@@ -38,7 +38,7 @@ def wrap_terms(head: str, body: str, width: int, indent: str) -> str:
     """``head`` + ``body`` within ``width`` columns where it can be: broken between top-level
     terms first, and inside brackets only where a term alone is too long; continuation lines
     start with ``indent`` and the sign of their first term."""
-    if len(head) > width // 2 and len(head) + len(body) > width:
+    if len(head) > max(width // 2, len(indent)) and len(head) + len(body) > width:
         # a long left side: the right side starts on its own line
         return head.rstrip() + "\n" + wrap_terms(indent, body, width, indent)
     text = head + body
