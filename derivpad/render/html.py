@@ -54,6 +54,7 @@ STYLE = """
 .derivpad .dp-math mjx-container svg{max-width:100%;height:auto}
 .derivpad figure{margin:.4em 0}
 .derivpad figure svg{max-width:100%;height:auto;background:#fff}
+body[data-jp-theme-light="false"] .derivpad figure svg{filter:invert(.88) hue-rotate(180deg)}
 @media print{.derivpad .dp-tools{display:none}.derivpad details{border-left:none}}
 """
 

@@ -110,4 +110,10 @@ def test_notebook_runs_live_with_collapsible_typeset_steps_and_a_working_explore
     assert ratios["text"] >= 4.5, ratios
     assert ratios["rule"] >= 4.5, ratios
     assert ratios["badge"] >= 3.0, ratios
+    # the verification figure is drawn for white paper: in the dark theme it is shown
+    # inverted (hue kept), not as a white block
+    figure = page.locator(".derivpad figure svg").first
+    assert "invert" in figure.evaluate("e => getComputedStyle(e).filter")
+    figure.scroll_into_view_if_needed()
+    screenshot(page, "jupyterlab-dark-figure")
     assert not [u for u in page.blocked if "127.0.0.1" in u]
