@@ -23,7 +23,7 @@ from .reading.values import mapping_of, to_exact
 from .reading.read_problem import make_problem
 from .checking.acceptance import judge, read_criteria, unjudged
 from .checking.results import definitions_of, engineering_results
-from .symbolic.stages import Stages, derived_solutions, solve_stages
+from .symbolic.stages import Stages, solve_stages
 from .reading.units import dimension_text, display_unit_for, read_quantity, to_display
 from .model.checks import Verification
 from .checking.own_check import self_check
@@ -254,7 +254,7 @@ def complete(problem: Problem, stages: Stages, checks_own, value_map: dict, *, t
                   impulses=stages.impulses, poles=stages.system_poles,
                   assumptions=stages.assumptions, conditions=stages.conditions,
                   notes=stages.notes, parts=stages.parts, values=tuple(value_map.items()),
-                  derived=derived_solutions(problem, stages.solution),
+                  derived=stages.derived,
                   determinant=stages.determinant, response_poles=stages.response_poles,
                   window=window, value_rows=value_rows(problem, value_map))
     numeric_tol = {k: v for k, v in tolerances.items() if k != "back_substitution"}
@@ -298,7 +298,8 @@ def recheck(derivation: Derivation, tolerances=None) -> Derivation:
                     delayed_solutions={}, impulses=derivation.impulses,
                     system_poles=derivation.poles, response_poles=derivation.response_poles,
                     breakpoints=derivation.breakpoints, assumptions=derivation.assumptions,
-                    conditions=derivation.conditions, notes=derivation.notes)
+                    conditions=derivation.conditions, notes=derivation.notes,
+                    derived=derivation.derived)
     value_map = dict(derivation.values)
     numbers = compile_numbers(derivation.problem, stages, tuple(value_map)).at(value_map)
     end = window_end(numbers.every_pole, list(numbers.breakpoints), derivation.window)

@@ -20,7 +20,7 @@ from ..core.model.steps import Line, Step
 from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION, LatexRenderer
-from .notation import format_value, latex_expr, result_parts
+from .notation import format_value, judgement_parts, latex_expr, result_parts
 
 __all__ = ["HtmlRenderer", "to_html", "STYLE"]
 
@@ -155,14 +155,10 @@ class HtmlRenderer(Renderer):
         digits = self.settings["float_digits"]
         rows = []
         for j in judgements:
-            c = j.criterion
-            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
-                     if j.value is not None else "—")
-            use = format_value(j.utilisation, 3) if j.utilisation is not None else "—"
+            value, limit, use = judgement_parts(j, digits)
             cls = "dp-pass" if j.ok else "dp-fail"
-            rows.append(f"<tr><td>{_esc(c.key)}</td><td class=\"dp-num\">{_esc(value)}</td>"
-                        f"<td>{'≤' if c.upper else '≥'} {_esc(format_value(c.limit, digits))}"
-                        f"{' ' + _esc(c.unit) if c.unit else ''}</td>"
+            rows.append(f"<tr><td>{_esc(j.criterion.key)}</td><td class=\"dp-num\">"
+                        f"{_esc(value)}</td><td>{_esc(limit)}</td>"
                         f"<td class=\"dp-num\">{_esc(use)}</td>"
                         f"<td class=\"{cls}\"><b>{j.outcome}</b>"
                         f"{' — ' + _esc(j.reason) if j.reason else ''}</td></tr>")

@@ -8,7 +8,8 @@ from ..core.model.checks import Check, Verification
 from ..core.model.derivation import Derivation
 from ..core.model.steps import Line, Step
 from .base import Renderer
-from .notation import NotationLatexPrinter, format_value, latex_expr, result_parts, text_expr
+from .notation import (NotationLatexPrinter, judgement_parts, latex_expr, result_parts,
+                       text_expr)
 
 __all__ = ["LABEL_BUDGET", "LatexRenderer", "ROW_BUDGET", "to_latex", "step_math_latex", "CAUTION"]
 
@@ -144,14 +145,10 @@ class LatexRenderer(Renderer):
         digits = self.settings["float_digits"]
         rows = []
         for j in judgements:
-            c = j.criterion
-            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
-                     if j.value is not None else "--")
-            use = format_value(j.utilisation, 3) if j.utilisation is not None else "--"
-            limit = ("$\\le$ " if c.upper else "$\\ge$ ") + format_value(c.limit, digits) + \
-                (f" {c.unit}" if c.unit else "")
+            value, limit, use = judgement_parts(j, digits)
             outcome = j.outcome if j.ok else r"\textbf{NOT OK}"
-            rows.append(f"{_escape(c.key)} & {_escape(value)} & {limit} & {use} & {outcome}"
+            rows.append(f"{_escape(j.criterion.key)} & {_escape(value)} & {_escape(limit)} & "
+                        f"{_escape(use)} & {outcome}"
                         + (f" ({_escape(j.reason)})" if j.reason else "") + r" \\")
         return ("\\begin{tabular}{lllll}\nResult & Value & Limit & Utilisation & Outcome "
                 "\\\\\n\\hline\n" + "\n".join(rows) + "\n\\end{tabular}")

@@ -243,6 +243,17 @@ IMAGINARY_UNITS = ("i", "j")
 """How the imaginary unit is written: i, or j as electrical engineers write it."""
 
 
+def judgement_parts(judgement, digits: int = 6) -> tuple[str, str, str]:
+    """(value with unit, limit with its relation, utilisation) of a judged acceptance criterion
+    as text; "—" where the result could not be judged."""
+    c = judgement.criterion
+    unit = f" {c.unit}" if c.unit else ""
+    value = format_value(judgement.value, digits) + unit if judgement.value is not None else "—"
+    limit = ("≤ " if c.upper else "≥ ") + format_value(c.limit, digits) + unit
+    use = format_value(judgement.utilisation, 3) if judgement.utilisation is not None else "—"
+    return value, limit, use
+
+
 def latex_expr(expr, **settings) -> str:
     """LaTeX of one expression in our notation (``imaginary_unit``: "i" or "j")."""
     return NotationLatexPrinter(settings).doprint(expr)

@@ -9,7 +9,7 @@ from ..core.model.steps import Line, Step
 from ..core.model.checks import Check, Verification
 from .base import Renderer
 from .latex import CAUTION
-from .notation import format_value, result_parts, text_expr
+from .notation import judgement_parts, result_parts, text_expr
 
 __all__ = ["TextRenderer", "to_text", "top_level_terms", "wrap_terms"]
 
@@ -171,12 +171,9 @@ class TextRenderer(Renderer):
         out = ["Acceptance criteria: " + ("all OK" if all(j.ok for j in judgements)
                                           else "NOT OK")]
         for j in judgements:
-            c = j.criterion
-            value = (format_value(j.value, digits) + (f" {c.unit}" if c.unit else "")
-                     if j.value is not None else "—")
-            use = format_value(j.utilisation, 3) if j.utilisation is not None else "—"
-            out.append(self._wrap(f"{c.text}: value {value}, utilisation {use}: {j.outcome}",
-                                  "  "))
+            value, _, use = judgement_parts(j, digits)
+            out.append(self._wrap(f"{j.criterion.text}: value {value}, utilisation {use}: "
+                                  f"{j.outcome}", "  "))
             if j.reason:
                 out.append(self._wrap(j.reason, "      "))
         return "\n".join(out)

@@ -22,7 +22,6 @@ from ..model.evaluate import _heaviside, _no_impulse
 from ..reading.forcing import forcing_on_interval
 from .modes import ModeTable, NotAModeSum
 from ..reading.parse import S, T
-from ..symbolic.stages import derived_solutions
 
 __all__ = ["NumericModel", "Numbers", "ParametricNumbers", "s_limits", "stable"]
 
@@ -133,7 +132,7 @@ class ParametricNumbers:
         lam = lambda e: sp.lambdify(args, sp.Integer(0) + e, modules="math")  # noqa: E731
         self._lam = lam
         self.unknowns = problem.unknowns
-        exprs = {**stages.solution, **derived_solutions(problem, stages.solution)}
+        exprs = {**stages.solution, **stages.derived}
         self._quantities = {}
         for name, expr in exprs.items():
             parts = stages.parts.get(name, ())

@@ -12,7 +12,7 @@ inverse_laplace_transform and dsolve never run here.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import sympy as sp
 from sympy.polys.matrices import DomainMatrix
@@ -52,6 +52,7 @@ class Stages:
     assumptions: tuple
     conditions: tuple
     notes: tuple
+    derived: dict = field(default_factory=dict)   # derived quantity → expression in t
 
 
 @dataclass
@@ -96,7 +97,8 @@ def solve_stages(problem: Problem, regime: str = "underdamped", order=None) -> S
                   delayed_solutions=delayed_solutions, impulses=impulses,
                   system_poles=solved.poles.poles, response_poles=solved.response_poles,
                   breakpoints=tuple(breaks), assumptions=tuple(facts.assumptions),
-                  conditions=tuple(facts.conditions), notes=tuple(facts.notes))
+                  conditions=tuple(facts.conditions), notes=tuple(facts.notes),
+                  derived=derived_solutions(problem, solution))
 
 
 # -- 1. the problem and its forcing ---------------------------------------------------------
