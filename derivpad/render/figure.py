@@ -108,7 +108,7 @@ class _Panels:
             floor = max(float(np.nanmax(np.abs(closed_form))) * ys * 1e-17, 1e-300)
             error.set_data(t[keep], np.maximum(samples.difference(u)[keep] * ys, floor))
             closed.set_label("closed form (this derivation)" if one else f"{u} (closed form)")
-            integrated.set_label("numerical integration (odeint)" if i == 0 else "_")
+            integrated.set_label("numerical integration (time domain)" if i == 0 else "_")
         for i, (label, values) in enumerate(samples.forcing.items()):
             line = self._forcing_line(i)
             if one or np.any(values != 0):

@@ -130,3 +130,48 @@ def test_engine_only_checks_leave_the_derivation_unverified():
     assert not d.verification.passed and d.results == {}
     with pytest.raises(ParameterError, match="checks must be"):
         derive("y' + y = 1", ics={"y(0)": 0}, checks="some")
+
+
+# -- the time-domain integrator itself ------------------------------------------------------
+
+def test_exponential_weights_integrate_polynomials_exactly_for_a_stiff_rate():
+    # ∫₀^h e^{a(h−τ)} τ^k dτ for a = −10⁴, h = 0.3 (a·h = −3000: stiff) against mpmath quad
+    # at 40 digits (reference library); the nodes' weights are exact for degree < nodes.
+    import mpmath
+    from derivpad.core.checking.numeric_checks import _exponential_weights
+    a, h = -1.0e4, 0.3
+    phi, theta, weights = _exponential_weights(np.array([[a]]), h, 9)
+    assert phi[0, 0] == pytest.approx(math.exp(a * h), abs=1e-300)
+    with mpmath.workdps(40):
+        for k in (0, 1, 4, 8):
+            exact = float(mpmath.quad(lambda tau: mpmath.e ** (a * (h - tau)) * tau ** k,
+                                      [0, h - 1e-3, h]))
+            ours = float(sum(weights[q, 0, 0] * (theta[q] * h) ** k for q in range(9)))
+            assert ours == pytest.approx(exact, rel=1e-11)
+
+
+def test_integration_of_a_stiff_equation_matches_its_textbook_solution():
+    # y'' + 10000.001 y' + 10 y = u(t), y(0) = y'(0) = 0: roots −0.001 and −10000, so
+    # y = 1/10 + A e^{−0.001 t} + B e^{−10000 t} with A = −10000/(10·9999.999),
+    # B = 0.001/(10·9999.999) (partial fractions by hand; common practice, no source).
+    from derivpad.core.checking.numeric_checks import integrate
+    numbers = _numbers("y'' + 10000.001*y' + 10*y = u(t)", ZERO2)
+    times = np.linspace(0.0, 3000.0, 301)
+    lam = 9999.999
+    exact = 0.1 - (1e4 / (10 * lam)) * np.exp(-1e-3 * times) \
+        + (1e-3 / (10 * lam)) * np.exp(-1e4 * times)
+    ours = integrate(numbers, times)["y"]
+    assert np.max(np.abs(ours - exact)) < 1e-10 * 0.1
+
+
+def test_integration_refines_a_fast_forcing_against_scipy():
+    # a forcing 40× faster than the grid step: the substeps are refined until the two
+    # interpolation orders agree; reference: SciPy solve_ivp (DOP853, rtol 1e-12), tests/reference.py
+    from derivpad.core.checking.numeric_checks import integrate
+    from tests.reference import integrate as reference
+    equation = "y'' + 0.4*y' + 9*y = sin(400*t)*u(t)"
+    numbers = _numbers(equation, ZERO2)
+    times = np.linspace(0.0, 4.0, 41)      # steps of 0.1: 40 rad of forcing per step
+    ours = integrate(numbers, times)["y"]
+    ref = reference(make_problem(equation, ZERO2, None, None, None), times)
+    assert np.max(np.abs(ours - ref)) < 1e-9 * np.max(np.abs(ref))
