@@ -1,8 +1,11 @@
 """The calc package's report: one self-contained HTML page, and its PDF printed by Chromium.
 
-Layout: a cover block (calc number, revision, title, project, preparer and checker with
-sign-off fields, status), contents, the calc record, each derivation as the notebook showed it
-with every step opened, then the collected assumptions and references, and the cautions.
+Layout: the first sheet — one title block (calc number, revision, title, project, preparer and
+checker with sign-off fields, status), the purpose, the inputs, each derivation's key results
+against its acceptance criteria and its verification status — then contents, the rest of the
+calc record (method, revision history), each derivation as the notebook showed it with every
+step opened, the collected assumptions and references, and the cautions. A heading appears
+only over content.
 A package made with ``--allow-failed`` carries NOT VERIFIED on every printed page.
 """
 
@@ -15,7 +18,8 @@ from pathlib import Path
 
 from ..render.latex import CAUTION
 from ..render.offline import standalone_page
-from ..render.record import record_html
+from ..render.html import STYLE, HtmlRenderer
+from ..render.record import record_details_html
 
 __all__ = ["report_html", "print_pdf", "CHROMIUM", "PAGE_SIZES"]
 
@@ -36,7 +40,10 @@ body{font-family:system-ui,sans-serif;margin:1.5em auto;max-width:60em;color:#1d
 .dp-unverified{position:fixed;top:0;left:0;right:0;text-align:center;background:#b3261e;
  color:#fff;font-weight:700;padding:.2em;z-index:10}
 h2.dp-section{border-bottom:1px solid #888;margin-top:1.4em}
-@media print{.dp-tools,details.dp-latex{display:none} h2.dp-section{break-before:page}
+.derivpad.dp-first{border:none;max-width:none}
+.dp-first h3{font-size:1.05em;margin:.9em 0 .2em}
+@media print{details.dp-latex{display:none} h2.dp-section{break-before:page}
+ h2.dp-section.dp-follows{break-before:auto}
  .dp-unverified{position:fixed}
  .derivpad .dp-math{overflow:visible!important}
  .derivpad mjx-container{overflow:visible!important;max-width:100%!important}
@@ -62,9 +69,49 @@ def _page_style(record: dict, page_size: str) -> str:
             "font:8pt system-ui,sans-serif;color:#444}}" % (page_size, quoted))
 
 
+KEY_RESULTS = ("peak", "time_of_peak", "dynamic_load_factor", "settling_time_2pct",
+               "final_value")
+"""The results the first sheet shows (for systems, each unknown's and derived quantity's)."""
+
+
+def _key_results(d) -> dict:
+    """The derivation's key results, in KEY_RESULTS order (system keys carry a suffix)."""
+    return {k: r for base in KEY_RESULTS for k, r in d.results.items()
+            if k == base or k.startswith(base + "_")}
+
+
+def _first_sheet(record: dict, derivations) -> str:
+    """Purpose, inputs, the key results against their acceptance criteria, and the status of
+    each derivation's verification: what a checker reads first."""
+    out = []
+    if record.get("purpose"):
+        out.append(f'<p><b>Purpose.</b> {_e(record["purpose"])}</p>')
+    if record.get("inputs"):
+        out.append("<h3>Inputs</h3><table><tr><th>Input</th><th>Value</th><th>Source</th></tr>"
+                   + "".join(f"<tr><td>{_e(i['name'])}</td><td>{_e(i['value'])}</td>"
+                             f"<td>{_e(i['source'])}</td></tr>" for i in record["inputs"])
+                   + "</table>")
+    renderer = HtmlRenderer()
+    for i, d in enumerate(derivations, 1):
+        name = f"Derivation {i}" + (f": {d.problem.text}" if d.problem.size == 1 else
+                                     f" ({d.problem.size} coupled equations)")
+        out.append(f"<h3>{_e(name)}</h3><p>{renderer.status(d.verification)}</p>")
+        if d.acceptance:
+            out.append(renderer.acceptance(d.acceptance))
+        keys = {k: r for k, r in _key_results(d).items() if r.magnitude is not None}
+        if keys:
+            out.append(renderer.results(keys))
+        if len(keys) < len(_key_results(d)):
+            out.append("<p>Results that have no value here are listed with the derivation, "
+                       "each with the reason.</p>")
+    return '<div class="derivpad dp-first">' + "".join(out) + "</div>"
+
+
 def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
                 page_size: str = "A4") -> str:
-    """The report page: cover, contents, record, derivations, assumptions, references."""
+    """The report page: the first sheet (title block, purpose, inputs, key results against the
+    acceptance criteria, status), contents, the rest of the record, the derivations with every
+    step open, then assumptions, references and cautions; no heading without content."""
     status = ("VERIFIED: every derivation passed all its checks" if verified else
               "NOT VERIFIED: packaged with failed or unrun checks")
     cover = (f'<div class="dp-cover"><h1>{_e(record["title"])}</h1><table>'
@@ -78,17 +125,12 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
              f'<tr><th>Status</th><td colspan="3" class="{"dp-status-ok" if verified else "dp-status-bad"}">'
              f"{_e(status)}</td></tr>"
              f'<tr><th>Packaged</th><td colspan="3">{_e(created)}</td></tr></table></div>')
-    contents = ['<h2 class="dp-section">Contents</h2><ol>',
-                '<li><a href="#record">Calc record</a></li>']
+    rest = record_details_html(_record_object(record))
+    contents = ['<h2 class="dp-section">Contents</h2><ol>']
+    if rest:
+        contents.append('<li><a href="#record">Calc record: method and revisions</a></li>')
     contents += [f'<li><a href="#derivation-{i}">Derivation {i}: {_e(d.problem.text)}'
                  "</a></li>" for i, d in enumerate(derivations, 1)]
-    contents += ['<li><a href="#assumptions">Assumptions and references</a></li>',
-                 '<li><a href="#cautions">Cautions</a></li></ol>']
-    body = [("" if verified else '<div class="dp-unverified">NOT VERIFIED</div>'), cover,
-            "".join(contents), '<h2 class="dp-section" id="record">Calc record</h2>',
-            record_html(_record_object(record))]
-    for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):
-        body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
     assumptions = list(record.get("assumptions", []))
     for d in derivations:
         assumptions += [a for a in d.assumptions if a not in assumptions]
@@ -99,13 +141,25 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
             text = f"{rule.name}: {rule.source}"
             if text not in references:
                 references.append(text)
-    body.append('<h2 class="dp-section" id="assumptions">Assumptions and references</h2>'
-                "<h3>Assumptions</h3><ul>" + "".join(f"<li>{_e(a)}</li>" for a in assumptions)
-                + "</ul><h3>References</h3><ul>"
-                + "".join(f"<li>{_e(r)}</li>" for r in references) + "</ul>")
+    if assumptions or references:
+        contents.append('<li><a href="#assumptions">Assumptions and references</a></li>')
+    contents.append('<li><a href="#cautions">Cautions</a></li></ol>')
+    body = [("" if verified else '<div class="dp-unverified">NOT VERIFIED</div>'), cover,
+            _first_sheet(record, derivations), "".join(contents)]
+    if rest:
+        body.append(f'<h2 class="dp-section dp-follows" id="record">Calc record</h2>{rest}')
+    for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):
+        body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
+    if assumptions or references:
+        part = ['<h2 class="dp-section" id="assumptions">Assumptions and references</h2>']
+        for label, items in (("Assumptions", assumptions), ("References", references)):
+            if items:
+                part.append(f"<h3>{label}</h3><ul>" + "".join(f"<li>{_e(x)}</li>" for x in items)
+                            + "</ul>")
+        body.append("".join(part))
     body.append(f'<h2 class="dp-section" id="cautions">Cautions</h2><p>{_e(CAUTION)}</p>')
-    page = standalone_page(f"<style>{_STYLE}{_page_style(record, page_size)}</style>{_OPEN_ALL}"
-                           + "\n".join(body),
+    page = standalone_page(f"<style>{STYLE}{_STYLE}{_page_style(record, page_size)}</style>"
+                           f"{_OPEN_ALL}" + "\n".join(body),
                            f"{record['calc_number']} rev {record['revision']}: {record['title']}")
     return page
 

@@ -1,7 +1,9 @@
-"""HTML of a derivation for notebooks and reports: collapsible step cells, checks, results.
+"""HTML of a derivation for notebooks and reports, laid out as a calculation sheet.
 
-Each step is a ``<details>`` element whose ``<summary>`` shows the step's title and its rule's
-name; the math inside is display LaTeX (``$$…$$``) for the page's math typesetter, with the raw
+Three columns: the reference (Given, Result, the step number), the calculation, and a narrow
+column with the rule each step used, its statement and its published source, as on a hand calc
+sheet. Each step is a ``<details>`` element whose ``<summary>`` row keeps the number, title
+and rule names, so a notebook can fold it; reports print every step open. The math inside is display LaTeX (``$$…$$``) for the page's math typesetter, with the raw
 LaTeX one click away to copy. Ids are derived from the content (SHA-256), so the same derivation
 gives the same bytes every time. The look uses JupyterLab's theme variables where present, so
 it reads in light and dark themes and prints plainly.
@@ -25,42 +27,64 @@ from .notation import format_value, judgement_parts, latex_expr, result_parts
 __all__ = ["HtmlRenderer", "to_html", "STYLE"]
 
 STYLE = """
-.derivpad{font-family:var(--jp-content-font-family,system-ui,sans-serif);
- color:var(--jp-content-font-color1,#1d1d1d);line-height:1.45;max-width:62em}
-.derivpad .dp-head{border:1px solid var(--jp-border-color1,#bbb);padding:.5em .8em;margin:.3em 0}
-.derivpad .dp-label{font-size:.8em;text-transform:uppercase;letter-spacing:.06em;
- color:var(--jp-content-font-color2,#555)}
-.derivpad .dp-badge{display:inline-block;padding:.1em .6em;border:2px solid;font-weight:600}
-.derivpad .dp-pass{border-color:#2e7d4f;color:#2e7d4f}
-.derivpad .dp-fail{border-color:#b3261e;color:#b3261e}
-.derivpad .dp-tools button{font:inherit;font-size:.85em;margin:.2em .4em .2em 0;padding:.1em .6em;
- background:none;border:1px solid var(--jp-border-color1,#999);color:inherit;cursor:pointer}
-.derivpad details{border-left:3px solid var(--jp-border-color2,#ccc);margin:.25em 0 .25em .2em;
- padding:.1em 0 .1em .7em}
-.derivpad details>summary{cursor:pointer}
-.derivpad .dp-rule{color:var(--jp-content-font-color2,#555);font-style:italic;margin-left:.6em}
-.derivpad .dp-source{font-size:.85em;color:var(--jp-content-font-color2,#555)}
-.derivpad .dp-note{margin:.3em 0}
-.derivpad details.dp-latex{border:none;margin:0;padding:0;font-size:.8em}
-.derivpad details.dp-latex pre{white-space:pre-wrap;background:var(--jp-layout-color2,#f3f3f3);
- padding:.4em;margin:.2em 0}
-.derivpad table{border-collapse:collapse;margin:.4em 0;font-size:.92em}
-.derivpad.derivpad th,.derivpad.derivpad td{border:1px solid var(--jp-border-color2,#ccc);
- padding:.15em .5em;text-align:left;vertical-align:top}
-.derivpad.derivpad td.dp-num{text-align:right;font-variant-numeric:tabular-nums}
-.derivpad .dp-caution{border-top:1px solid var(--jp-border-color1,#bbb);margin-top:.6em;
- padding-top:.3em;font-size:.9em}
-.derivpad .dp-math{overflow-x:auto;overflow-y:hidden}
+.derivpad{--dp-ink:var(--jp-content-font-color1,#1d1d1d);--dp-soft:var(--jp-content-font-color2,#4a4a4a);
+ --dp-rule:var(--jp-border-color1,#9a9a9a);--dp-faint:var(--jp-border-color2,#d0d0d0);
+ --dp-ok:#2e6b45;--dp-bad:#b3261e;
+ font-family:var(--jp-content-font-family,system-ui,sans-serif);color:var(--dp-ink);
+ line-height:1.45;max-width:64em;border-top:2px solid var(--dp-rule);
+ border-bottom:2px solid var(--dp-rule)}
+body[data-jp-theme-light="false"] .derivpad{--dp-ok:#7fc79a;--dp-bad:#ff8a80}
+.derivpad .dp-row{display:grid;grid-template-columns:3.8em minmax(0,1fr) minmax(10em,16em);
+ column-gap:.9em;padding:.3em 0;border-top:1px solid var(--dp-faint)}
+.derivpad .dp-cols{font-size:.75em;letter-spacing:.05em;text-transform:uppercase;
+ color:var(--dp-soft);border-top:none;padding:.2em 0}
+.derivpad .dp-no{font-weight:600;font-variant-numeric:tabular-nums}
+.derivpad .dp-work{min-width:0}
+.derivpad .dp-title{font-weight:600}
+.derivpad .dp-ref{font-size:.82em;color:var(--dp-soft);border-left:1px solid var(--dp-faint);
+ padding-left:.6em;min-width:0;overflow-wrap:anywhere}
+.derivpad .dp-ref .dp-rulename{color:var(--dp-ink)}
+.derivpad .dp-ref .dp-source{display:block;margin-top:.15em}
+.derivpad .dp-statement{font-size:.92em;overflow-wrap:normal}
+.derivpad details.dp-step>summary{cursor:pointer;list-style:none}
+.derivpad details.dp-step>summary::-webkit-details-marker{display:none}
+.derivpad details.dp-step>summary .dp-no::after{content:" \\25B8";color:var(--dp-soft);
+ font-weight:400}
+.derivpad details.dp-step[open]>summary .dp-no::after{content:" \\25BE"}
+.derivpad details.dp-step>.dp-row{border-top:none;padding-top:0}
+.derivpad details.dp-step details.dp-step{margin-left:0}
+.derivpad .dp-note{margin:.2em 0}
+.derivpad .dp-ok{color:var(--dp-ok);font-weight:600}
+.derivpad .dp-bad{color:var(--dp-bad);font-weight:700}
+.derivpad details.dp-latex{margin:0;font-size:.8em}
+.derivpad details.dp-latex>summary{cursor:pointer;color:var(--dp-soft)}
+.derivpad details.dp-latex pre{white-space:pre-wrap;overflow-wrap:anywhere;
+ background:var(--jp-layout-color2,#f3f3f3);padding:.4em;margin:.2em 0}
+.derivpad h4{font-size:.8em;letter-spacing:.05em;text-transform:uppercase;color:var(--dp-soft);
+ margin:.8em 0 .2em;font-weight:600}
+.derivpad table{border-collapse:collapse;margin:.3em 0;font-size:.9em;max-width:100%}
+.derivpad.derivpad th,.derivpad.derivpad td{border:1px solid var(--dp-faint);
+ padding:.15em .5em;text-align:left;vertical-align:top;overflow-wrap:break-word}
+.derivpad table.dp-checks td:first-child{min-width:8.5em}
+.derivpad.derivpad td.dp-tag{white-space:nowrap}
+.derivpad.derivpad td.dp-num{text-align:right;font-variant-numeric:tabular-nums;
+ overflow-wrap:normal}
+.derivpad .dp-caution{border-top:1px solid var(--dp-rule);margin:.6em 0 .3em;padding-top:.3em;
+ font-size:.88em}
+.derivpad .dp-math{overflow-x:auto;overflow-y:hidden;max-width:100%}
 .derivpad .dp-math mjx-container svg{max-width:100%;height:auto}
 .derivpad figure{margin:.4em 0}
 .derivpad figure svg{max-width:100%;height:auto;background:#fff}
 body[data-jp-theme-light="false"] .derivpad figure svg{filter:invert(.88) hue-rotate(180deg)}
-@media print{.derivpad .dp-tools{display:none}.derivpad details{border-left:none}}
+@media (max-width:40em){.derivpad .dp-row{grid-template-columns:2.4em minmax(0,1fr)}
+ .derivpad .dp-ref{grid-column:2;border-left:none;padding-left:0}}
+@media print{.derivpad details.dp-latex{display:none}
+ .derivpad .dp-math{overflow:visible}
+ .derivpad details.dp-step>summary .dp-no::after,
+ .derivpad details.dp-step[open]>summary .dp-no::after{content:none}
+ .derivpad .dp-row{grid-template-columns:3.6em minmax(0,1fr) 11.5em;column-gap:.6em}
+ .derivpad .dp-row{break-inside:avoid-page}}
 """
-
-_EXPAND = ("this.closest('.derivpad').querySelectorAll('details.dp-step')"
-           ".forEach(function(d){d.open=%s})")
-
 
 def _esc(text: str) -> str:
     return html.escape(str(text), quote=True)
@@ -105,10 +129,8 @@ def _expr_latex(expr, digits: int) -> str:
 class HtmlRenderer(Renderer):
     """Renders a Derivation (or a Step, Verification, Check) as an HTML fragment."""
 
-    _default_settings = {"float_digits": 6, "open": False, "figure": True, "tools": True,
-                         "style": True}
-    _allowed = {"open": (True, False), "figure": (True, False), "tools": (True, False),
-                "style": (True, False)}
+    _default_settings = {"float_digits": 6, "open": False, "figure": True, "style": True}
+    _allowed = {"open": (True, False), "figure": (True, False), "style": (True, False)}
 
     def _math(self, tex: str, display: bool = True) -> str:
         return _esc(f"$${tex}$$" if display else f"${tex}$")
@@ -117,22 +139,34 @@ class HtmlRenderer(Renderer):
         super().__init__(**settings)
         self._figure_source = figure_source
 
+    def _reference(self, step: Step) -> str:
+        """The open step's reference column: its rule's statement and published source (the
+        rule names stand in the summary row above)."""
+        out = ['<div class="dp-ref">']
+        if step.rule is not None:
+            out.append(f'<div class="dp-statement">{self._math(step.rule.statement, False)}'
+                       f'</div><span class="dp-source">{_esc(step.rule.source)}</span>')
+        out.append("</div>")
+        return "".join(out)
+
     def _render_Step(self, step: Step, number: str = "", ids: str = "") -> str:
+        """A numbered row of the sheet: the number, the working (title, note, math) and the
+        reference column; a ``<details>`` whose summary row keeps number, title and rule."""
         tex = _step_math(step, self.settings["float_digits"])
         shown = step.rules_shown
-        rule = (f'<span class="dp-rule">{_esc("; ".join(r.name for r in shown))}</span>'
-                if shown else "")
+        rule = _esc("; ".join(r.name for r in shown)) if shown else ""
         parts = [f'<details class="dp-step" id="{ids}"{" open" if self.settings["open"] else ""}>',
-                 f'<summary><b>{_esc(number)} {_esc(step.title)}</b>{rule}</summary>']
-        if step.rule is not None:
-            parts.append(f'<div class="dp-note">Rule: {self._math(step.rule.statement, False)} '
-                         f'<span class="dp-source">{_esc(step.rule.source)}</span></div>')
+                 f'<summary class="dp-row"><span class="dp-no">{_esc(number)}</span>'
+                 f'<span class="dp-title">{_esc(step.title)}</span>'
+                 f'<span class="dp-ref"><span class="dp-rulename">{rule}</span></span></summary>',
+                 '<div class="dp-row"><span></span><div class="dp-work">']
         if step.note:
             parts.append(f'<div class="dp-note">{_esc(step.note)}</div>')
         if tex:
             parts.append(f'<div class="dp-math">{self._math(tex)}</div>')
             parts.append(f'<details class="dp-latex"><summary>LaTeX</summary><pre>{_esc(tex)}'
                          "</pre></details>")
+        parts.append("</div>" + self._reference(step) + "</div>")
         for i, sub in enumerate(step.substeps, 1):
             parts.append(self._render_Step(sub, f"{number}{i}.", f"{ids}-{i}"))
         parts.append("</details>")
@@ -142,7 +176,7 @@ class HtmlRenderer(Renderer):
         err = "" if check.error != check.error else f"{check.error:.2e}"
         return (f"<tr><td>{_esc(check.name)}</td><td>{_esc(check.method)}</td>"
                 f'<td class="dp-num">{err}</td><td class="dp-num">{check.tolerance:.0e}</td>'
-                f"<td>{_esc(check.status)}</td><td>{_esc(check.detail)}</td></tr>")
+                f'<td class="dp-tag">{_esc(check.status)}</td><td>{_esc(check.detail)}</td></tr>')
 
     def _render_Verification(self, ver: Verification) -> str:
         rows = "\n".join(self.render(c) for c in ver.checks)
@@ -156,7 +190,7 @@ class HtmlRenderer(Renderer):
         rows = []
         for j in judgements:
             value, limit, use = judgement_parts(j, digits)
-            cls = "dp-pass" if j.ok else "dp-fail"
+            cls = "dp-ok" if j.ok else "dp-bad"
             rows.append(f"<tr><td>{_esc(j.criterion.key)}</td><td class=\"dp-num\">"
                         f"{_esc(value)}</td><td>{_esc(limit)}</td>"
                         f"<td class=\"dp-num\">{_esc(use)}</td>"
@@ -180,14 +214,15 @@ class HtmlRenderer(Renderer):
         return (f"<tr><td>{_esc(r.label)}</td><td class=\"dp-num\">{_esc(value)}</td>"
                 f"<td>{_esc(unit)}</td><td>{how}</td></tr>")
 
-    def badge(self, ver: Verification) -> str:
+    def status(self, ver: Verification) -> str:
+        """One plain line: how many checks passed, or NOT VERIFIED with what failed."""
         if ver.passed:
             n = sum(1 for c in ver.checks if c.status == "passed")
-            return f'<span class="dp-badge dp-pass">verified: {n} checks passed</span>'
+            return f'<span class="dp-ok">Verified: {n} checks passed</span>'
         bad = "; ".join(f"{c.name}: {c.status}" + (f" (error {c.error:.2e} > {c.tolerance:.0e})"
                                                     if c.status == "FAILED" else "")
                         for c in ver.failed)
-        return f'<span class="dp-badge dp-fail">NOT VERIFIED — {_esc(bad)}</span>'
+        return f'<span class="dp-bad">NOT VERIFIED — {_esc(bad)}</span>'
 
     def figure(self, d: Derivation) -> str:
         if not self.settings["figure"] or d.verification.samples is None:
@@ -202,63 +237,69 @@ class HtmlRenderer(Renderer):
             return f"<p>{_esc(exc)}</p>"
         return f"<figure>{svg}<figcaption>Verification figure.</figcaption></figure>"
 
+    def _row(self, label: str, work: str, ref: str = "") -> str:
+        return (f'<div class="dp-row"><span class="dp-no">{_esc(label)}</span>'
+                f'<div class="dp-work">{work}</div><div class="dp-ref">{ref}</div></div>')
+
     def _render_Derivation(self, d: Derivation) -> str:
+        """The sheet: Given (equations, initial conditions, values), Result (the solution and
+        the verification status), the numbered working, then checks, results, figure."""
         did = content_id(d)
         p = d.problem
         digits = self.settings["float_digits"]
         out = [f'<div class="derivpad" id="{did}">']
         if self.settings["style"]:
             out.append(f"<style>{STYLE}</style>")
-        out.append('<div class="dp-head">')
+        out.append('<div class="dp-row dp-cols"><span>Ref</span><span>Calculation</span>'
+                   "<span>Rule and source</span></div>")
         equations = _once(p, "equation", digits, lambda: _aligned(
             [(p.lhs(i), p.forcings[i]) for i in range(p.size)], digits))
-        out.append(f'<div class="dp-label">{"Equation" if p.size == 1 else "System"}</div>'
-                   f'<div class="dp-math">{self._math(equations)}</div>')
         ics = ", \\quad ".join(f"{latex_expr(initial_value_label(u, k))} = "
                                 f"{_expr_latex(v, digits)}"
                                 for u, vals in zip(p.unknowns, p.initial_values)
                                 for k, v in enumerate(vals))
-        out.append(f'<div class="dp-math">{self._math(ics)}</div>')
-        out.append(f'<div class="dp-label">Solution{_written_in(p)}</div><div class="dp-math">'
-                   f'{self._math(_solution_tex(p, d.solutions, digits))}</div>')
+        given = [f'<div class="dp-math">{self._math(equations)}</div>',
+                 f'<div class="dp-math">{self._math(ics)}</div>']
         if d.values:
-            given = ", \\quad ".join(
+            values = ", \\quad ".join(
                 f"{latex_expr(sp.Symbol(name))} = {format_value(v, digits)}"
                 + (f"\\ \\text{{{unit}}}" if unit else "")
                 for name, v, unit in d.value_table())
-            evaluated = d.evaluated_solutions
-            out.append('<div class="dp-label">With the values used for the checks and results'
-                       f'</div><div class="dp-math">{self._math(given)}</div>'
-                       f'<div class="dp-math">'
-                       f'{self._math(_solution_tex(p, evaluated, digits))}</div>')
-        out.append(f"<div>{self.badge(d.verification)}</div></div>")
+            given.append('<div class="dp-note">With the values used for the checks and '
+                         f'results:</div><div class="dp-math">{self._math(values)}</div>')
+        out.append('<div class="dp-head">')
+        out.append(self._row("Given", "".join(given),
+                             "linear ODE" + ("" if p.size == 1 else " system")
+                             + ", constant coefficients; initial values at 0⁻"))
+        result = [f'<div class="dp-note">Solution{_written_in(p)}:</div>'
+                  f'<div class="dp-math">{self._math(_solution_tex(p, d.solutions, digits))}</div>']
+        if d.values:
+            result.append('<div class="dp-note">With the values:</div><div class="dp-math">'
+                          f'{self._math(_solution_tex(p, d.evaluated_solutions, digits))}</div>')
+        result.append(f'<div class="dp-note">{self.status(d.verification)}</div>')
+        out.append(self._row("Result", "".join(result), "derived below, step by step; "
+                             "checked independently (see Verification)"))
+        out.append("</div>")
         out += self.body(d, did)
         return "\n".join(part for part in out if part)
 
-    def tools(self) -> str:
-        if not self.settings["tools"]:
-            return ""
-        return ('<div class="dp-tools">'
-                f'<button type="button" onclick="{_EXPAND % "true"}">Expand all</button>'
-                f'<button type="button" onclick="{_EXPAND % "false"}">Collapse all'
-                "</button></div>")
-
     def body(self, d, did: str) -> list[str]:
-        """Everything below the header: tools, steps, checks, results, figure, assumptions,
-        caution (the same for one equation and for a system)."""
-        out = [self.tools()]
+        """Everything below the header: steps, checks, results, figure, assumptions, caution
+        (the same for one equation and for a system); a heading only where it has content."""
+        out = []
         for i, step in enumerate(d.steps, 1):
             out.append(self._render_Step(step, f"{i}.", f"{did}-s{i}"))
-        out.append('<div class="dp-label">Verification</div>')
+        out.append("<h4>Verification</h4>")
+        out.append(f'<p class="dp-note">{self.status(d.verification)}</p>')
         out.append(self.render(d.verification))
         if d.acceptance:
-            out.append('<div class="dp-label">Acceptance criteria</div>')
+            out.append("<h4>Acceptance criteria</h4>")
             out.append(self.acceptance(d.acceptance))
-        out.append('<div class="dp-label">Engineering results</div>')
+        out.append("<h4>Engineering results</h4>")
         out.append(self.results(d.results))
         out.append(self.figure(d))
         if d.assumptions:
-            out.append('<div class="dp-label">Assumptions</div><ul>'
+            out.append("<h4>Assumptions</h4><ul>"
                        + "".join(f"<li>{_esc(a)}</li>" for a in d.assumptions) + "</ul>")
         out.append(f'<p class="dp-caution"><b>Caution.</b> {_esc(CAUTION)}</p>')
         out.append("</div>")

@@ -7,7 +7,8 @@ import html
 from ..core.reading.record import CalcRecord
 from .latex import CAUTION
 
-__all__ = ["record_html", "record_text", "record_bundle", "RECORD_MIME_TYPE"]
+__all__ = ["record_html", "record_details_html", "record_text", "record_bundle",
+           "RECORD_MIME_TYPE"]
 
 RECORD_MIME_TYPE = "application/vnd.derivpad.record+json"
 
@@ -53,6 +54,19 @@ def record_html(r: CalcRecord) -> str:
             f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
             for v in r.revision_history) + "</table>")
     parts.append(f'<p class="dp-caution"><b>Caution.</b> {_e(CAUTION)}</p></div>')
+    return "\n".join(parts)
+
+
+def record_details_html(r: CalcRecord) -> str:
+    """What the report's first sheet does not show: the method and the revision history
+    (empty when the record has neither; assumptions and references are collected apart)."""
+    parts = []
+    if r.method:
+        parts.append(f"<p><b>Method.</b> {_e(r.method)}</p>")
+    if r.revision_history:
+        parts.append("<table><tr><th>Rev</th><th>Date</th><th>Description</th></tr>" + "".join(
+            f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
+            for v in r.revision_history) + "</table>")
     return "\n".join(parts)
 
 

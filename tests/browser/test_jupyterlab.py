@@ -28,8 +28,8 @@ CONTRAST_JS = """() => {
       if (c && !c.startsWith('rgba(0, 0, 0, 0)') && c !== 'transparent') return c; }
     return 'rgb(255, 255, 255)'; };
   const pick = sel => document.querySelector(sel);
-  const text = pick('.derivpad .dp-head'), rule = pick('.derivpad .dp-rule'),
-        badge = pick('.derivpad .dp-badge');
+  const text = pick('.derivpad .dp-head'), rule = pick('.derivpad .dp-ref'),
+        badge = pick('.derivpad .dp-ok');
   return {text: ratio(getComputedStyle(text).color, back(text)),
           rule: ratio(getComputedStyle(rule).color, back(rule)),
           badge: ratio(getComputedStyle(badge).color, back(badge))};
@@ -96,7 +96,8 @@ def test_notebook_runs_live_with_collapsible_typeset_steps_and_a_working_explore
     page.locator(".widget-htmlmath .dp-head").last.scroll_into_view_if_needed()
     screenshot(page, "jupyterlab-explorer")
 
-    # Dark theme, switched through the Settings menu: the derivation's text and badge keep
+    # Dark theme, switched through the Settings menu: the derivation's text, reference column
+    # and status keep
     # enough contrast on the dark background (WCAG 2.1 §1.4.3: 4.5:1 for text, 3:1 for large
     # or bold text and graphics).
     page.click("li.lm-MenuBar-item:has-text('Settings')")

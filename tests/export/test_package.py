@@ -60,6 +60,12 @@ def test_pdf_has_pages_and_the_calc_number(packaged):
     width, height = (float(x) for x in reader.pages[0].mediabox[2:])
     assert round(width / 72 * 25.4) == 210 and round(height / 72 * 25.4) == 297   # ISO 216
     assert "brings down a power of s" in text  # a step's note: the steps were opened
+    # the first sheet: one title block, the purpose, the key results and the status; the
+    # derivation only after it
+    first = " ".join(reader.pages[0].extract_text().split()).replace("ﬁ", "fi")  # ligature
+    assert "Purpose." in first and "peak" in first and "Verified:" in first
+    assert text.count("Calc number") == 1                     # one title block
+    assert "Problem" not in first
 
 
 def test_results_are_deterministic(packaged, tmp_path):

@@ -14,12 +14,18 @@ def d():
     return derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics={"y(0)": 0, "y'(0)": 0})
 
 
-def test_steps_are_collapsible_with_title_and_rule_in_the_summary(d):
+def test_steps_are_sheet_rows_collapsible_with_number_title_and_rule_in_the_summary(d):
     page = to_html(d, figure=False)
     assert page.count('<details class="dp-step"') == sum(1 + _count(s) for s in d.steps)
-    assert "<summary><b>1. Problem</b><span class=\"dp-rule\">Laplace transform (0⁻ form)" in page
-    assert "Expand all" in page and "Collapse all" in page
-    assert "verified: 7 checks passed" in page
+    assert ('<summary class="dp-row"><span class="dp-no">1.</span><span class="dp-title">Problem'
+            '</span><span class="dp-ref"><span class="dp-rulename">Laplace transform (0⁻ form)'
+            in page)
+    # the open step's reference column: the rule's statement and its published source
+    assert '<div class="dp-ref"><div class="dp-statement">' in page
+    assert "Abramowitz &amp; Stegun" in page
+    assert "Expand all" not in page and "dp-badge" not in page
+    assert '<span class="dp-ok">Verified: 7 checks passed</span>' in page
+    assert '<span class="dp-no">Given</span>' in page and '<span class="dp-no">Result</span>' in page
     assert "$$\\begin{aligned}y(t) &amp;= " in page and r"\theta" not in page
     assert '<details class="dp-latex"><summary>LaTeX</summary><pre>' in page
 
@@ -37,7 +43,7 @@ def test_failed_verification_shows_in_the_badge():
     bad = derive("y'' + 4*y' + 13*y = 2*u(t - 1)", ics={"y(0)": 0, "y'(0)": 0},
                  tolerances={"integration": 1e-30}, on_failure="return")
     page = to_html(bad, figure=False)
-    assert "NOT VERIFIED" in page and "Numerical integration: FAILED" in page
+    assert '<span class="dp-bad">NOT VERIFIED' in page and "Numerical integration: FAILED" in page
 
 
 def test_mimebundle_has_all_types_and_honours_include_exclude(d):

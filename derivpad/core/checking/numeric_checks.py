@@ -4,7 +4,7 @@
   over the grid in the time domain: each step exact for the free motion (the matrix
   exponential e^{Ah}, SciPy ``expm``, Padé with scaling and squaring) plus the forcing's
   convolution ∫ e^{A(h−τ)} G f dτ with f interpolated on each substep (9 and 12 Chebyshev
-  nodes agreeing to 1e-12, substeps halved until they do) and the exponential integrated
+  nodes agreeing to 1e-11, substeps halved until they do) and the exponential integrated
   exactly, so that stiff systems need no small steps; restarted at every breakpoint, impulses
   applied as jumps E⁻¹J in the highest state derivatives (A/a_n in y^(n-1) for one ODE); the
   forcing is the problem's own expression. No transform, pole or partial fraction is used.
@@ -237,7 +237,7 @@ def integration_check(numbers: Numbers, t_end: float, tolerance: float):
     forcing = {_equation_label(numbers, i): f(times) for i, f in enumerate(numbers.forcing)}
     one = len(numbers.unknowns) == 1
     how = ("each step exact for the free motion (matrix exponential, SciPy expm) plus the "
-           "forcing's convolution, the forcing interpolated (9 and 12 nodes agreeing to 1e-12) "
+           "forcing's convolution, the forcing interpolated (9 and 12 nodes agreeing to 1e-11) "
            "and the exponential integrated exactly, restarted at breakpoints")
     method = (f"The ODE in first-order form integrated in the time domain: {how}, impulses as "
               "jumps in y^(n-1)" if one else

@@ -223,8 +223,8 @@ def transform_groups(pieces: list[ForcingPiece]) -> tuple[list[ForcingGroup], li
             used = used + (rule("first_shift"),)
         title = ("Forcing from t = 0" if not shifted
                  else f"Forcing switched on at t = {sp.sstr(piece.delay)}")
-        note = ("Each term is a table pair" + (", shifted to its switch-on time by e^{-cs}."
-                                               if shifted else "."))
+        note = ("Each term is a table pair" + (", shifted to its switch-on time by the delay factor exp(-cs)."
+                                                if shifted else "."))
         substeps.append(Step(title, used[0] if used else None, tuple(lines), note, (), used))
     groups = [ForcingGroup(c, tuple(v["terms"]), v["area"]) for c, v in by_delay.items()]
     return groups, substeps
