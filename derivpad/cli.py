@@ -164,7 +164,9 @@ def _emit(derivation, fmt: str, times, title: str | None = None, width: int = 80
         si = p.unit_context(u).unknown_si if p.units else ""
         written = f" (SI: {u} in {si}, t in s)" if si else " (t in s)"
         out.append(f"Solution{written}:")
-        out.append(wrap_terms(f"{u}(t) = ", text_expr(solution), width, "    "))
+        out.append(wrap_terms(f"{u}(t) = ", text_expr(solution,
+                                                        decimals=dict(p.written_decimals)),
+                              width, "    "))
     if times:
         out += [""] + _sample_table(derivation, times)
     return "\n".join(out)

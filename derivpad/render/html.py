@@ -118,18 +118,21 @@ def content_id(d) -> str:
     return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
 
 
-def _step_math(step: Step, digits: int) -> str:
-    return _once(step, "step", digits, lambda: LatexRenderer(float_digits=digits).math(step))
+def _step_math(step: Step, digits: int, decimals=None) -> str:
+    return _once(step, "step", digits, lambda: LatexRenderer(float_digits=digits,
+                                                             decimals=decimals).math(step))
 
 
-def _expr_latex(expr, digits: int) -> str:
-    return _once(expr, "expr", digits, lambda: latex_expr(expr, float_digits=digits))
+def _expr_latex(expr, digits: int, decimals=None) -> str:
+    return _once(expr, "expr", digits, lambda: latex_expr(expr, float_digits=digits,
+                                                          decimals=decimals))
 
 
 class HtmlRenderer(Renderer):
     """Renders a Derivation (or a Step, Verification, Check) as an HTML fragment."""
 
-    _default_settings = {"float_digits": 6, "open": False, "figure": True, "style": True}
+    _default_settings = {"float_digits": 6, "open": False, "figure": True, "style": True,
+                         "decimals": None}
     _allowed = {"open": (True, False), "figure": (True, False), "style": (True, False)}
 
     def _math(self, tex: str, display: bool = True) -> str:
@@ -152,7 +155,7 @@ class HtmlRenderer(Renderer):
     def _render_Step(self, step: Step, number: str = "", ids: str = "") -> str:
         """A numbered row of the sheet: the number, the working (title, note, math) and the
         reference column; a ``<details>`` whose summary row keeps number, title and rule."""
-        tex = _step_math(step, self.settings["float_digits"])
+        tex = _step_math(step, self.settings["float_digits"], self.settings["decimals"])
         shown = step.rules_shown
         rule = _esc("; ".join(r.name for r in shown)) if shown else ""
         parts = [f'<details class="dp-step" id="{ids}"{" open" if self.settings["open"] else ""}>',
@@ -247,15 +250,18 @@ class HtmlRenderer(Renderer):
         did = content_id(d)
         p = d.problem
         digits = self.settings["float_digits"]
+        if self.settings["decimals"] is None:  # the numbers the user wrote as decimals
+            self.settings["decimals"] = dict(p.written_decimals)
+        decimals = self.settings["decimals"]
         out = [f'<div class="derivpad" id="{did}">']
         if self.settings["style"]:
             out.append(f"<style>{STYLE}</style>")
         out.append('<div class="dp-row dp-cols"><span>Ref</span><span>Calculation</span>'
                    "<span>Rule and source</span></div>")
         equations = _once(p, "equation", digits, lambda: _aligned(
-            [(p.lhs(i), p.forcings[i]) for i in range(p.size)], digits))
+            [(p.lhs(i), p.forcings[i]) for i in range(p.size)], digits, decimals))
         ics = ", \\quad ".join(f"{latex_expr(initial_value_label(u, k))} = "
-                                f"{_expr_latex(v, digits)}"
+                                f"{_expr_latex(v, digits, decimals)}"
                                 for u, vals in zip(p.unknowns, p.initial_values)
                                 for k, v in enumerate(vals))
         given = [f'<div class="dp-math">{self._math(equations)}</div>',
@@ -272,10 +278,10 @@ class HtmlRenderer(Renderer):
                              "linear ODE" + ("" if p.size == 1 else " system")
                              + ", constant coefficients; initial values at 0⁻"))
         result = [f'<div class="dp-note">Solution{_written_in(p)}:</div>'
-                  f'<div class="dp-math">{self._math(_solution_tex(p, d.solutions, digits))}</div>']
+                  f'<div class="dp-math">{self._math(_solution_tex(p, d.solutions, digits, decimals))}</div>']
         if d.values:
             result.append('<div class="dp-note">With the values:</div><div class="dp-math">'
-                          f'{self._math(_solution_tex(p, d.evaluated_solutions, digits))}</div>')
+                          f'{self._math(_solution_tex(p, d.evaluated_solutions, digits, decimals))}</div>')
         result.append(f'<div class="dp-note">{self.status(d.verification)}</div>')
         out.append(self._row("Result", "".join(result), "derived below, step by step; "
                              "checked independently (see Verification)"))
@@ -306,17 +312,17 @@ class HtmlRenderer(Renderer):
         return out
 
 
-def _aligned(relations, digits: int) -> str:
+def _aligned(relations, digits: int, decimals=None) -> str:
     """Relations lhs = rhs aligned at their equals signs, a long right side continued on
     further rows (the LaTeX renderer's rows), so that the header never runs off its box."""
-    printer = LatexRenderer(float_digits=digits)
+    printer = LatexRenderer(float_digits=digits, decimals=decimals)
     return "\\begin{aligned}" + " \\\\\n".join(
         printer.render(Line(lhs, rhs)) for lhs, rhs in relations) + "\\end{aligned}"
 
 
-def _solution_tex(p, solutions: dict, digits: int) -> str:
+def _solution_tex(p, solutions: dict, digits: int, decimals=None) -> str:
     return _once(solutions, "solution", digits, lambda: _aligned(
-        [(p.function(j), solutions[u]) for j, u in enumerate(p.unknowns)], digits))
+        [(p.function(j), solutions[u]) for j, u in enumerate(p.unknowns)], digits, decimals))
 
 
 def _written_in(p) -> str:

@@ -58,13 +58,14 @@ class LatexRenderer(Renderer):
     """Renders a Derivation, a Step, a Line or a Verification as LaTeX."""
 
     _default_settings = {"float_digits": 6, "substeps": True, "document": False,
-                         "imaginary_unit": "i"}
+                         "imaginary_unit": "i", "decimals": None}
     _allowed = {"substeps": (True, False), "document": (True, False),
                 "imaginary_unit": ("i", "j")}
 
     def _expr(self, expr) -> str:
         return latex_expr(expr, float_digits=self.settings["float_digits"],
-                          imaginary_unit=self.settings["imaginary_unit"])
+                          imaginary_unit=self.settings["imaginary_unit"],
+                          decimals=self.settings["decimals"])
 
     def _render_Line(self, line: Line) -> str:
         """``lhs &= rhs``; a long sum continues on further rows of the aligned block, broken
@@ -86,7 +87,8 @@ class LatexRenderer(Renderer):
         if not isinstance(expr, sp.Add) or len(text_expr(expr)) <= first:
             return [self._expr(expr)]
         printer = NotationLatexPrinter({"float_digits": self.settings["float_digits"],
-                                        "imaginary_unit": self.settings["imaginary_unit"]})
+                                        "imaginary_unit": self.settings["imaginary_unit"],
+                                        "decimals": self.settings["decimals"]})
         rows, row, size = [], "", 0
         for term in printer._as_ordered_terms(expr):
             negative = term.could_extract_minus_sign()
@@ -161,6 +163,8 @@ class LatexRenderer(Renderer):
                 + "\n\\end{tabular}")
 
     def _render_Derivation(self, d: Derivation) -> str:
+        if self.settings["decimals"] is None:  # the numbers the user wrote as decimals
+            self.settings["decimals"] = dict(d.problem.written_decimals)
         parts = [self._render_Step(step) for step in d.steps]
         parts.append("\\section*{Verification}\n\n" + self.render(d.verification))
         if d.acceptance:

@@ -73,10 +73,31 @@ def _format_float(x: sp.Float, digits: int) -> str:
     return mpmath.nstr(mpmath.mpf(x), digits, min_fixed=-4, max_fixed=7)
 
 
+def _written(printer, value) -> str | None:
+    """The decimal the user wrote for this rational (``decimals`` setting), else None."""
+    decimals = printer._settings.get("decimals")
+    if not decimals or not isinstance(value, sp.Rational):
+        return None
+    text = decimals.get(abs(value))
+    return None if text is None else ("-" + text if value < 0 else text)
+
+
+def _written_coefficient(printer, expr: sp.Mul):
+    """(sign, decimal, rest) where a product's rational coefficient was written as a decimal
+    (125.66·t, not 6283t/50); None otherwise."""
+    coeff, rest = expr.as_coeff_Mul()
+    if rest == 1 or not isinstance(coeff, sp.Rational) or coeff.is_Integer:
+        return None
+    text = _written(printer, abs(coeff))
+    if text is None:
+        return None
+    return ("-" if coeff < 0 else ""), text, rest
+
+
 class NotationLatexPrinter(LatexPrinter):
     """LaTeX of step expressions in engineering notation."""
 
-    _default_settings = {**LatexPrinter._default_settings, "float_digits": 6}
+    _default_settings = {**LatexPrinter._default_settings, "float_digits": 6, "decimals": None}
 
     def _as_ordered_terms(self, expr, order=None):
         return _ordered(LatexPrinter, self, expr, order)
@@ -133,9 +154,19 @@ class NotationLatexPrinter(LatexPrinter):
             return r"%s \cdot 10^{%d}" % (mant, int(ex))
         return text
 
+    def _print_Rational(self, expr):
+        text = _written(self, expr)
+        return text if text is not None else super()._print_Rational(expr)
+
     def _print_Mul(self, expr):
         delay, tail = _split_delay(expr)
         if delay is None:
+            written = _written_coefficient(self, expr)
+            if written is not None:
+                sign, text, rest = written
+                body = self._print(rest)
+                return sign + text + " " + (r"\left(%s\right)" % body
+                                            if isinstance(rest, sp.Add) else body)
             return super()._print_Mul(expr)
         body = self._print(tail)
         return r"e^{%s}\,%s" % (self._print(delay), r"\left(%s\right)" % body
@@ -145,7 +176,7 @@ class NotationLatexPrinter(LatexPrinter):
 class NotationTextPrinter(StrPrinter):
     """One-line plain text of step expressions, for the terminal."""
 
-    _default_settings = {**StrPrinter._default_settings, "float_digits": 6,
+    _default_settings = {**StrPrinter._default_settings, "float_digits": 6, "decimals": None,
                          "imaginary_unit": "i"}
 
     def _print_ImaginaryUnit(self, expr):
@@ -195,9 +226,18 @@ class NotationTextPrinter(StrPrinter):
     def _print_Float(self, expr):
         return _format_float(expr, self._settings["float_digits"])
 
+    def _print_Rational(self, expr):
+        text = _written(self, expr)
+        return text if text is not None else super()._print_Rational(expr)
+
     def _print_Mul(self, expr):
         delay, tail = _split_delay(expr)
         if delay is None:
+            written = _written_coefficient(self, expr)
+            if written is not None:
+                sign, text, rest = written
+                body = self._print(rest)
+                return sign + text + "*" + ("(%s)" % body if isinstance(rest, sp.Add) else body)
             return super()._print_Mul(expr)
         sign = ""
         if tail.could_extract_minus_sign():  # StrPrinter's sums read a leading '-' as the sign

@@ -77,13 +77,14 @@ class TextRenderer(Renderer):
     """Renders a Derivation, a Step, a Line or a Verification as plain text."""
 
     _default_settings = {"float_digits": 6, "substeps": True, "width": 80, "statements": False,
-                         "imaginary_unit": "i"}
+                         "imaginary_unit": "i", "decimals": None}
     _allowed = {"substeps": (True, False), "statements": (True, False),
                 "imaginary_unit": ("i", "j")}
 
     def _expr(self, expr) -> str:
         return text_expr(expr, float_digits=self.settings["float_digits"],
-                         imaginary_unit=self.settings["imaginary_unit"])
+                         imaginary_unit=self.settings["imaginary_unit"],
+                         decimals=self.settings["decimals"])
 
     def _wrap(self, text: str, indent: str) -> str:
         return textwrap.fill(text, width=self.settings["width"], initial_indent=indent,
@@ -187,6 +188,8 @@ class TextRenderer(Renderer):
                                                       for r in results.values()])
 
     def _render_Derivation(self, d: Derivation) -> str:
+        if self.settings["decimals"] is None:  # the numbers the user wrote as decimals
+            self.settings["decimals"] = dict(d.problem.written_decimals)
         out = [self._wrap(f"Derivation of {d.problem.text}", ""), ""]
         for i, step in enumerate(d.steps, 1):
             out.append(self._render_Step(step, f"{i}."))

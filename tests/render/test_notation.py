@@ -75,3 +75,15 @@ def test_the_imaginary_unit_is_i_or_j_as_chosen():
     import derivpad
     d = derivpad.derive("y'' + 2*y' + 5*y = u(t)", {"y(0)": 0, "y'(0)": 0})
     assert " j" in to_text(d, imaginary_unit="j") and "*I" not in to_text(d)
+
+
+def test_decimals_written_by_the_user_print_as_written():
+    import sympy as sp
+    from derivpad.render.notation import latex_expr, text_expr
+    t = sp.Symbol("t")
+    dec = {sp.Rational(6283, 50): "125.66", sp.Rational(4, 5): "0.8"}
+    assert latex_expr(sp.sin(sp.Rational(6283, 50) * t), decimals=dec) == \
+        r"\sin{\left(125.66 t \right)}"
+    assert text_expr(3 - sp.Rational(4, 5) * t, decimals=dec) == "3 - 0.8*t"
+    assert text_expr(sp.Rational(1, 80) * t, decimals=dec) == "t/80"   # algebra stays exact
+    assert latex_expr(sp.Rational(6283, 50)) == r"\frac{6283}{50}"      # without the setting

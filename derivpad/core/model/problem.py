@@ -9,13 +9,39 @@ squeeze happens here, at the edge).
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+from fractions import Fraction
 
 import sympy as sp
 
 from .symbols import T
 
-__all__ = ["Problem", "derivative_name"]
+__all__ = ["Problem", "derivative_name", "decimal_text"]
+
+_DECIMAL = re.compile(r"(?<![\w.])(\d+\.\d*|\.\d+)(?:[eE][-+]?\d+)?(?![\w.])")
+
+
+def decimal_text(value) -> str | None:
+    """A rational with a terminating decimal expansion of at most 12 significant figures, as
+    that decimal ("125.66" for 6283/50); None for integers and other numbers."""
+    if not isinstance(value, sp.Rational) or value.is_Integer:
+        return None
+    q = int(value.q)
+    twos = fives = 0
+    while q % 2 == 0:
+        q, twos = q // 2, twos + 1
+    while q % 5 == 0:
+        q, fives = q // 5, fives + 1
+    if q != 1:
+        return None
+    places = max(twos, fives)
+    digits = abs(int(value.p)) * 10 ** places // int(value.q)
+    if len(str(digits).strip("0")) > 12:
+        return None
+    sign = "-" if value < 0 else ""
+    text = str(digits).rjust(places + 1, "0")
+    return f"{sign}{text[:-places]}.{text[-places:]}"
 
 
 def derivative_name(unknown: str, order: int) -> str:
@@ -143,6 +169,30 @@ class Problem:
         """The single ODE's right side."""
         self._single("forcing")
         return self.forcings[0]
+
+    @property
+    def written_decimals(self) -> tuple[tuple[sp.Rational, str], ...]:
+        """Numbers the user gave as decimals, with the text to show them by: the decimal
+        literals in the equations as written, and every given value (parameters, quantities in
+        SI, initial values) that is a terminating decimal. The algebra keeps them exact (125.66
+        is 6283/50); the printers show them as decimals."""
+        found: dict = {}
+        for text in self.texts:
+            for match in _DECIMAL.finditer(text):
+                literal = match.group(0)
+                try:
+                    value = sp.Rational(Fraction(literal))
+                except (ValueError, ZeroDivisionError):
+                    continue
+                if not value.is_Integer:
+                    found.setdefault(value, decimal_text(value) or literal)
+        given = [v for _, v in self.parameters] + [q.si_value for q in self.quantities] + [
+            v for vals in self.initial_values for v in vals]
+        for value in given:
+            text = decimal_text(value)
+            if text is not None:
+                found.setdefault(abs(value), text.lstrip("-"))
+        return tuple(found.items())
 
     def copy_with(self, **changes) -> "Problem":
         """A new Problem with some fields replaced (problems are immutable)."""

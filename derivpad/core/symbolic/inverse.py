@@ -18,7 +18,7 @@ from .partial_fractions import FractionTerm
 from ..model.labels import InverseLaplace
 from .rules import rule
 from ..model.steps import Line, Rule, Step
-from .transform import delayed
+from .transform import delayed, time_text
 
 __all__ = ["InverseTerm", "invert_term", "inversion_step", "shift"]
 
@@ -83,11 +83,11 @@ def inversion_step(label: sp.Symbol, delay: sp.Expr, inverses: list[InverseTerm]
         lines.append(Line(InverseLaplace(delayed(delay, label)), shifted, "=",
                           rule("second_shift").name))
         used = {"second_shift": rule("second_shift"), **used}
-        note += (f" The delay factor e^(-{sp.sstr(delay)} s) shifts the result to start at "
-                 f"t = {sp.sstr(delay)}.")
+        note += (f" The delay factor e^(-{time_text(delay)} s) shifts the result to start at "
+                 f"t = {time_text(delay)}.")
     else:
         lines.append(Line(InverseLaplace(label), g, "="))
-    title = f"Invert {label}" + (f" (delayed by {sp.sstr(delay)})" if delay != 0 else "")
+    title = f"Invert {label}" + (f" (delayed by {time_text(delay)})" if delay != 0 else "")
     first = next(iter(used.values()), None)
     return Step(title, first, tuple(lines), note, (), tuple(used.values()))
 

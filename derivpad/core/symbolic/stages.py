@@ -27,7 +27,8 @@ from .partial_fractions import fraction_steps, partial_fractions
 from ..model.problem import Problem
 from .rules import rule
 from ..model.steps import Line, Step
-from .transform import Laplace, Ysym, delayed, derivative_transform, transform_groups
+from .transform import (Laplace, Ysym, delayed, derivative_transform, time_text,
+                        transform_groups)
 from ..reading.units import sign_cautions
 
 __all__ = ["Stages", "derived_solutions", "determinant_and_adjugate", "interval_text", "order_key",
@@ -288,7 +289,7 @@ def _transforms(problem, delays, by_delay, char_poles):
             if num[j] == 0:
                 continue
             part = num[j] / poles.factored
-            where = "part delayed by " + sp.sstr(c) if c != 0 else "undelayed part"
+            where = "part delayed by " + time_text(c) if c != 0 else "undelayed part"
             lines.append(Line(_part_label(u, idx), part, "=",
                               where if problem.size == 1 else "Δ_j(s)/Δ(s), " + where))
             total.append(delayed(c, part))

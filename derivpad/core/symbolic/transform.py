@@ -19,11 +19,17 @@ from ..reading.forcing import TAU, ForcingPiece
 from ..reading.parse import S, T
 from ..model.labels import Laplace
 from .rules import rule
+from ..model.problem import decimal_text
 from ..model.steps import Line, Rule, Step
 
-__all__ = ["TableTerm", "TransformedTerm", "ForcingGroup", "table_terms", "transform_piece",
+__all__ = ["TableTerm", "TransformedTerm", "ForcingGroup", "table_terms", "time_text", "transform_piece",
            "derivative_transform", "Laplace", "Ysym", "real_factor", "complex_factor",
            "transform_term", "transform_groups", "delayed"]
+
+
+def time_text(c) -> str:
+    """A switching time for a heading: a decimal where it terminates (0.02, not 1/50)."""
+    return decimal_text(c) or sp.sstr(c)
 
 
 def Ysym(unknown: str) -> sp.Expr:
@@ -222,7 +228,7 @@ def transform_groups(pieces: list[ForcingPiece]) -> tuple[list[ForcingGroup], li
         if any(tr.term.a != 0 for tr in terms):
             used = used + (rule("first_shift"),)
         title = ("Forcing from t = 0" if not shifted
-                 else f"Forcing switched on at t = {sp.sstr(piece.delay)}")
+                 else f"Forcing switched on at t = {time_text(piece.delay)}")
         note = ("Each term is a table pair" + (", shifted to its switch-on time by the delay factor exp(-cs)."
                                                 if shifted else "."))
         substeps.append(Step(title, used[0] if used else None, tuple(lines), note, (), used))
