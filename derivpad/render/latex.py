@@ -13,7 +13,7 @@ from .notation import (NotationLatexPrinter, judgement_parts, latex_expr, result
 
 __all__ = ["LABEL_BUDGET", "LatexRenderer", "ROW_BUDGET", "to_latex", "step_math_latex", "CAUTION"]
 
-LABEL_BUDGET = 20
+LABEL_BUDGET = 14
 """Characters of a line's label kept in the column beside it; a longer one goes on its own row
 (a wide label column would push the working off the page)."""
 

@@ -20,7 +20,8 @@ def test_solve_step_latex():
         "&\\quad\\text{(characteristic polynomial)} \\\\\n"   # a long label: its own row
         "P(s) &= s + 2 &&\\text{factored} \\\\\n"
         "Y_{0}(s) &= \\frac{1}{s + 2} &&\\text{undelayed part} \\\\\n"
-        "Y_{1}(s) &= \\frac{4}{s \\left(s + 2\\right)} &&\\text{part delayed by 1} \\\\\n"
+        "Y_{1}(s) &= \\frac{4}{s \\left(s + 2\\right)} \\\\\n"
+        "&\\quad\\text{(part delayed by 1)} \\\\\n"
         "Y(s) &= Y_{0}(s) + e^{- s}\\,Y_{1}(s)\n"
         "\\end{aligned}")
 
