@@ -27,11 +27,9 @@ from derivpad.core.engine import compile_numbers  # noqa: E402
 from derivpad.core.symbolic.stages import solve_stages  # noqa: E402
 from derivpad.core.reading.forcing import TAU  # noqa: E402
 from derivpad.core.reading.parse import T  # noqa: E402
-from derivpad.core.model.checks import self_check  # noqa: E402
+from derivpad.core.checking.own_check import self_check  # noqa: E402
 from derivpad.core.checking.window import time_window  # noqa: E402
 from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS  # noqa: E402
-
-
 
 
 def main(argv=None):
