@@ -93,7 +93,7 @@ def _esc(text: str) -> str:
 _MATH_CACHE: dict = {}
 
 
-def _once(obj, kind: str, digits: int, make) -> str:
+def _once(obj, kind, digits: int, make) -> str:
     """LaTeX printed once per object: an explorer shows the same steps and the same symbolic
     solution with new numbers on every change. An entry keeps its object, so the id is not
     reused while it is cached."""
@@ -118,14 +118,19 @@ def content_id(d) -> str:
     return "dp-" + hashlib.sha256(key.encode()).hexdigest()[:12]
 
 
+def _written_key(decimals) -> tuple:
+    """The cache's part of the key for the decimals shown as written."""
+    return tuple(sorted(decimals.items())) if decimals else ()
+
+
 def _step_math(step: Step, digits: int, decimals=None) -> str:
-    return _once(step, "step", digits, lambda: LatexRenderer(float_digits=digits,
-                                                             decimals=decimals).math(step))
+    return _once(step, ("step", _written_key(decimals)), digits,
+                 lambda: LatexRenderer(float_digits=digits, decimals=decimals).math(step))
 
 
 def _expr_latex(expr, digits: int, decimals=None) -> str:
-    return _once(expr, "expr", digits, lambda: latex_expr(expr, float_digits=digits,
-                                                          decimals=decimals))
+    return _once(expr, ("expr", _written_key(decimals)), digits,
+                 lambda: latex_expr(expr, float_digits=digits, decimals=decimals))
 
 
 class HtmlRenderer(Renderer):
@@ -258,7 +263,7 @@ class HtmlRenderer(Renderer):
             out.append(f"<style>{STYLE}</style>")
         out.append('<div class="dp-row dp-cols"><span>Ref</span><span>Calculation</span>'
                    "<span>Rule and source</span></div>")
-        equations = _once(p, "equation", digits, lambda: _aligned(
+        equations = _once(p, ("equation", _written_key(decimals)), digits, lambda: _aligned(
             [(p.lhs(i), p.forcings[i]) for i in range(p.size)], digits, decimals))
         ics = ", \\quad ".join(f"{latex_expr(initial_value_label(u, k))} = "
                                 f"{_expr_latex(v, digits, decimals)}"
@@ -321,7 +326,7 @@ def _aligned(relations, digits: int, decimals=None) -> str:
 
 
 def _solution_tex(p, solutions: dict, digits: int, decimals=None) -> str:
-    return _once(solutions, "solution", digits, lambda: _aligned(
+    return _once(solutions, ("solution", _written_key(decimals)), digits, lambda: _aligned(
         [(p.function(j), solutions[u]) for j, u in enumerate(p.unknowns)], digits, decimals))
 
 
