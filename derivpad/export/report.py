@@ -19,7 +19,7 @@ from pathlib import Path
 from ..render.latex import CAUTION
 from ..render.offline import standalone_page
 from ..render.html import STYLE, HtmlRenderer
-from ..render.record import record_details_html
+from ..render.record import inputs_html, record_details_html
 
 __all__ = ["report_html", "print_pdf", "CHROMIUM", "PAGE_SIZES"]
 
@@ -80,17 +80,14 @@ def _key_results(d) -> dict:
             if k == base or k.startswith(base + "_")}
 
 
-def _first_sheet(record: dict, derivations) -> str:
+def _first_sheet(record, derivations) -> str:
     """Purpose, inputs, the key results against their acceptance criteria, and the status of
     each derivation's verification: what a checker reads first."""
     out = []
-    if record.get("purpose"):
-        out.append(f'<p><b>Purpose.</b> {_e(record["purpose"])}</p>')
-    if record.get("inputs"):
-        out.append("<h3>Inputs</h3><table><tr><th>Input</th><th>Value</th><th>Source</th></tr>"
-                   + "".join(f"<tr><td>{_e(i['name'])}</td><td>{_e(i['value'])}</td>"
-                             f"<td>{_e(i['source'])}</td></tr>" for i in record["inputs"])
-                   + "</table>")
+    if record.purpose:
+        out.append(f"<p><b>Purpose.</b> {_e(record.purpose)}</p>")
+    if record.inputs:
+        out.append("<h3>Inputs</h3>" + inputs_html(record))
     renderer = HtmlRenderer()
     for i, d in enumerate(derivations, 1):
         name = f"Derivation {i}" + (f": {d.problem.text}" if d.problem.size == 1 else
@@ -98,10 +95,11 @@ def _first_sheet(record: dict, derivations) -> str:
         out.append(f"<h3>{_e(name)}</h3><p>{renderer.status(d.verification)}</p>")
         if d.acceptance:
             out.append(renderer.acceptance(d.acceptance))
-        keys = {k: r for k, r in _key_results(d).items() if r.magnitude is not None}
-        if keys:
-            out.append(renderer.results(keys))
-        if len(keys) < len(_key_results(d)):
+        key = _key_results(d)
+        shown = {k: r for k, r in key.items() if r.magnitude is not None}
+        if shown:
+            out.append(renderer.results(shown))
+        if len(shown) < len(key):
             out.append("<p>Results that have no value here are listed with the derivation, "
                        "each with the reason.</p>")
     return '<div class="derivpad dp-first">' + "".join(out) + "</div>"
@@ -125,7 +123,8 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
              f'<tr><th>Status</th><td colspan="3" class="{"dp-status-ok" if verified else "dp-status-bad"}">'
              f"{_e(status)}</td></tr>"
              f'<tr><th>Packaged</th><td colspan="3">{_e(created)}</td></tr></table></div>')
-    rest = record_details_html(_record_object(record))
+    calc = _record_object(record)
+    rest = record_details_html(calc)
     contents = ['<h2 class="dp-section">Contents</h2><ol>']
     if rest:
         contents.append('<li><a href="#record">Calc record: method and revisions</a></li>')
@@ -145,7 +144,7 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
         contents.append('<li><a href="#assumptions">Assumptions and references</a></li>')
     contents.append('<li><a href="#cautions">Cautions</a></li></ol>')
     body = [("" if verified else '<div class="dp-unverified">NOT VERIFIED</div>'), cover,
-            _first_sheet(record, derivations), "".join(contents)]
+            _first_sheet(calc, derivations), "".join(contents)]
     if rest:
         body.append(f'<h2 class="dp-section dp-follows" id="record">Calc record</h2>{rest}')
     for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):

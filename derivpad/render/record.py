@@ -7,8 +7,8 @@ import html
 from ..core.reading.record import CalcRecord
 from .latex import CAUTION
 
-__all__ = ["record_html", "record_details_html", "record_text", "record_bundle",
-           "RECORD_MIME_TYPE"]
+__all__ = ["inputs_html", "record_html", "record_details_html", "record_text", "record_bundle",
+           "revisions_html", "RECORD_MIME_TYPE"]
 
 RECORD_MIME_TYPE = "application/vnd.derivpad.record+json"
 
@@ -31,6 +31,20 @@ def _rows(pairs) -> str:
     return "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in pairs if v)
 
 
+def inputs_html(r: CalcRecord) -> str:
+    """The record's inputs, each with its value and source, as a table."""
+    return ("<table><tr><th>Input</th><th>Value</th><th>Source</th></tr>" + "".join(
+        f"<tr><td>{_e(i.name)}</td><td>{_e(i.value)}</td><td>{_e(i.source)}</td></tr>"
+        for i in r.inputs) + "</table>")
+
+
+def revisions_html(r: CalcRecord) -> str:
+    """The record's revision history as a table."""
+    return ("<table><tr><th>Rev</th><th>Date</th><th>Description</th></tr>" + "".join(
+        f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
+        for v in r.revision_history) + "</table>")
+
+
 def record_html(r: CalcRecord) -> str:
     """The record's header block."""
     ident = _rows([("Calc number", r.calc_number), ("Revision", r.revision),
@@ -42,17 +56,13 @@ def record_html(r: CalcRecord) -> str:
         if text:
             parts.append(f"<p><b>{label}.</b> {_e(text)}</p>")
     if r.inputs:
-        parts.append("<table><tr><th>Input</th><th>Value</th><th>Source</th></tr>" + "".join(
-            f"<tr><td>{_e(i.name)}</td><td>{_e(i.value)}</td><td>{_e(i.source)}</td></tr>"
-            for i in r.inputs) + "</table>")
+        parts.append(inputs_html(r))
     for label, items in (("Assumptions", r.assumptions), ("References", r.references)):
         if items:
             parts.append(f"<p><b>{label}.</b></p><ul>"
                          + "".join(f"<li>{_e(x)}</li>" for x in items) + "</ul>")
     if r.revision_history:
-        parts.append("<table><tr><th>Rev</th><th>Date</th><th>Description</th></tr>" + "".join(
-            f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
-            for v in r.revision_history) + "</table>")
+        parts.append(revisions_html(r))
     parts.append(f'<p class="dp-caution"><b>Caution.</b> {_e(CAUTION)}</p></div>')
     return "\n".join(parts)
 
@@ -64,9 +74,7 @@ def record_details_html(r: CalcRecord) -> str:
     if r.method:
         parts.append(f"<p><b>Method.</b> {_e(r.method)}</p>")
     if r.revision_history:
-        parts.append("<table><tr><th>Rev</th><th>Date</th><th>Description</th></tr>" + "".join(
-            f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
-            for v in r.revision_history) + "</table>")
+        parts.append(revisions_html(r))
     return "\n".join(parts)
 
 
