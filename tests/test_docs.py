@@ -14,6 +14,7 @@ def test_every_rule_is_in_the_rule_doc():
     for rule in RULES.values():
         assert f"## `{rule.id}` — {rule.name}" in text
         assert rule.statement in text
+        assert f"- Source: {rule.source}" in text
 
 
 def test_every_error_is_in_the_catalogue():

@@ -20,14 +20,15 @@ CAUTION = ("**Caution.** A linear model with constant coefficients. Results are 
 md, code = nbf.v4.new_markdown_cell, nbf.v4.new_code_cell
 
 
-def record(title, number, purpose, method, inputs):
+def record(title, number, purpose, method, inputs, criteria=None):
     """The notebook's first code cell: its calc record."""
+    limits = f",\n    criteria={criteria!r}" if criteria else ""
     return code("import derivpad\nrecord = derivpad.CalcRecord(\n"
                 f"    title={title!r}, calc_number={number!r}, revision='0',\n"
                 "    project='Demonstration calcs (scenario data of our own)',\n"
                 f"    purpose={purpose!r},\n    method={method!r},\n"
                 "    preparer='(preparer)', checker='(checker)',\n"
-                f"    inputs={inputs!r})\nrecord")
+                f"    inputs={inputs!r}{limits})\nrecord")
 
 
 METHOD = ("Laplace-transform solution by derivpad, each step with its rule; verified by "
@@ -43,9 +44,11 @@ REC_RELAY = record("Relay coil: drive-pulse current", "DEMO-002",
                    [("L", "0.8 H", "coil datasheet"), ("R", "40 ohm", "coil datasheet"),
                     ("V0", "24 V", "driver specification"), ("toff", "60 ms", "drive timing")])
 REC_ENCLOSURE = record("Instrument enclosure: warm-up time", "DEMO-003",
-                       "Time for the enclosure to reach 40 K above ambient.", METHOD,
+                       "Time for the enclosure to reach 40 K above ambient, and its final rise "
+                       "against the instruments' 85 K limit.", METHOD,
                        [("Cth", "12 kJ/K", "thermal test"), ("Rth", "0.5 K/W", "thermal test"),
-                        ("P", "150 W", "heater rating"), ("td", "10 min", "controller setting")])
+                        ("P", "150 W", "heater rating"), ("td", "10 min", "controller setting")],
+                       criteria=["final_value <= 85 K"])
 
 REC_ABSORBER = record("Pump frame with a tuned absorber: start-up vibration", "DEMO-004",
                       "Frame amplitude and absorber stroke at running speed, against 5 mm "

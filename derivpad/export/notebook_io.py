@@ -3,16 +3,19 @@
 The notebook runs in a new kernel (nbclient); stored outputs are never trusted. From the
 executed cells the packager reads the calc record and every derivation through derivpad's
 own MIME types, and the HTML the notebook displayed for each, so the package holds exactly
-what a reader of the notebook saw.
+what a reader of the notebook saw. The record's own acceptance criteria are judged here on
+every derivation that has the result, so that the package, its results and a re-run audit
+all read the same judgements.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
+from ..core.checking.acceptance import judge_calc
 from ..core.model.derivation import Derivation
-from ..errors import ExportError, PackageRefusedError, import_extra
+from ..errors import DerivpadError, ExportError, PackageRefusedError, import_extra
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
 
@@ -67,13 +70,13 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
             for out in cell.outputs:
                 if out.output_type == "error":
                     failures.append(CellFailure(n, f"{out.ename}: {out.evalue}"))
-    record, derivations, html, cells = None, [], [], []
+    record, record_cell, derivations, html, cells = None, 0, [], [], []
     for n, cell in enumerate(code_cells, 1):
         for out in cell.outputs:
             data = out.get("data", {}) if out.output_type in ("display_data", "execute_result") \
                 else {}
             if RECORD_MIME_TYPE in data and record is None:
-                record = dict(data[RECORD_MIME_TYPE])
+                record, record_cell = dict(data[RECORD_MIME_TYPE]), n
             if DERIVATION_MIME_TYPE in data:
                 d = Derivation.from_dict(dict(data[DERIVATION_MIME_TYPE]))
                 derivations.append(d)
@@ -86,5 +89,31 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
                                      for c in d.verification.failed)
                     failures.append(CellFailure(n, f"derivation of {d.problem.text!r} not "
                                                    f"verified: {what}", unverified=True))
+    derivations, problems = _judged_on_record(record, record_cell, derivations)
     return ExecutedCalc(nb, record, tuple(derivations), tuple(html), tuple(cells),
-                        tuple(failures))
+                        tuple(failures + problems))
+
+
+def _judged_on_record(record, cell: int, derivations):
+    """Each derivation with the record's criteria that its results answer added to its own
+    (a criterion it states itself is not repeated); a criterion no derivation answers, or
+    one that cannot be judged (a limit in the wrong unit), is a failure of the record's cell."""
+    texts = (record or {}).get("criteria") or []
+    if not texts:
+        return derivations, []
+    where = "the calc record's criteria (CalcRecord(criteria=[...]))"
+    try:
+        per, missing = judge_calc(texts, [d.results for d in derivations])
+    except DerivpadError as exc:
+        return derivations, [CellFailure(cell, f"{where}: {exc}")]
+    out = []
+    for d, extra in zip(derivations, per):
+        own = {j.criterion.text for j in d.acceptance}
+        extra = tuple(j for j in extra if j.criterion.text not in own)
+        out.append(replace(d, acceptance=d.acceptance + extra) if extra else d)
+    keys = sorted({k for d in derivations for k in (d.results or {})})
+    problems = [CellFailure(cell, f"{where}: {c.text!r} names the result {c.key!r}, which no "
+                                  f"derivation of this calc has; use one of "
+                                  f"{', '.join(keys[:10])}, …")
+                for c in missing]
+    return out, problems

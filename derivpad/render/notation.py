@@ -285,11 +285,12 @@ IMAGINARY_UNITS = ("i", "j")
 
 def judgement_parts(judgement, digits: int = 6) -> tuple[str, str, str]:
     """(value with unit, limit with its relation, utilisation) of a judged acceptance criterion
-    as text; "—" where the result could not be judged."""
+    as text; "—" where the result could not be judged. The limit reads as the user wrote it
+    (12 mm, not 12.0000 mm)."""
     c = judgement.criterion
     unit = f" {c.unit}" if c.unit else ""
     value = format_value(judgement.value, digits) + unit if judgement.value is not None else "—"
-    limit = ("≤ " if c.upper else "≥ ") + format_value(c.limit, digits) + unit
+    limit = ("≤ " if c.upper else "≥ ") + f"{c.limit:g}" + unit  # the limit as written
     use = format_value(judgement.utilisation, 3) if judgement.utilisation is not None else "—"
     return value, limit, use
 

@@ -57,7 +57,8 @@ def record_html(r: CalcRecord) -> str:
             parts.append(f"<p><b>{label}.</b> {_e(text)}</p>")
     if r.inputs:
         parts.append(inputs_html(r))
-    for label, items in (("Assumptions", r.assumptions), ("References", r.references)):
+    for label, items in (("Acceptance criteria", r.criteria), ("Assumptions", r.assumptions),
+                         ("References", r.references)):
         if items:
             parts.append(f"<p><b>{label}.</b></p><ul>"
                          + "".join(f"<li>{_e(x)}</li>" for x in items) + "</ul>")
@@ -87,6 +88,7 @@ def record_text(r: CalcRecord) -> str:
             lines.append(f"{label}: {value}")
     for i in r.inputs:
         lines.append(f"  input {i.name} = {i.value}  ({i.source})")
+    lines += [f"  acceptance criterion: {c}" for c in r.criteria]
     lines += [f"  assumption: {a}" for a in r.assumptions]
     lines += [f"  reference: {x}" for x in r.references]
     lines.append("Caution: " + CAUTION)

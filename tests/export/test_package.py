@@ -94,10 +94,11 @@ def test_a_failure_midway_leaves_nothing_behind(tmp_path, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
-def _notebook(tmp_path, body: str) -> Path:
+def _notebook(tmp_path, body: str, record: str = "") -> Path:
     nb = nbformat.v4.new_notebook()
     nb.cells = [nbformat.v4.new_code_cell(
-        "import derivpad\nderivpad.CalcRecord(title='t', calc_number='T-1', revision='0')"),
+        "import derivpad\nderivpad.CalcRecord(title='t', calc_number='T-1', revision='0'"
+        + record + ")"),
         nbformat.v4.new_code_cell(body)]
     nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
                                  "language": "python"}
@@ -120,6 +121,36 @@ def test_failing_verification_is_refused_naming_cell_and_check(tmp_path):
 def test_a_cell_error_is_refused(tmp_path):
     path = _notebook(tmp_path, "1/0")
     with pytest.raises(PackageRefusedError, match="code cell 2: ZeroDivisionError"):
+        make_package(path, tmp_path / "out", pdf=False, **quiet)
+
+
+DEMO_CELL = ("from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS\n"
+             "derivpad.derive(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, units=DEMO_UNITS, "
+             "criteria=['peak <= 12 mm'])")
+
+
+def test_the_records_criteria_are_judged_on_every_derivation_with_the_result(tmp_path):
+    # the demo's peak is 11.107 mm at 121.3 ms (tests/core/checking/test_results.py); the
+    # record's limits: 10 mm (NOT OK, utilisation 1.11) and 200 ms (OK, 0.607)
+    from derivpad.export.audit import audit_package
+    path = _notebook(tmp_path, DEMO_CELL, record=", criteria=['peak <= 10 mm', "
+                     "'time_of_peak <= 200 ms', 'peak <= 12 mm']")
+    result = make_package(path, tmp_path / "out", pdf=False, **quiet)
+    judged = json.loads((result.folder / "results.json").read_text())[0]["acceptance"]
+    assert [(j["text"], j["outcome"]) for j in judged] == [
+        ("peak <= 12 mm", "OK"), ("peak <= 10 mm", "NOT OK"), ("time_of_peak <= 200 ms", "OK")]
+    assert judged[1]["utilisation"] == pytest.approx(1.1107, abs=1e-4)
+    assert judged[2]["utilisation"] == pytest.approx(0.6067, abs=1e-3)
+    sheet = (result.folder / "report.html").read_text().split('<h2 class="dp-section">Contents</h2>')[0]
+    assert "<td>≤ 10 mm</td>" in sheet and "<td>≤ 200 ms</td>" in sheet
+    assert "<b>NOT OK</b>" in sheet
+    assert audit_package(result.folder, rerun=True).holds
+
+
+def test_a_record_criterion_no_derivation_answers_is_refused(tmp_path):
+    path = _notebook(tmp_path, DEMO_CELL, record=", criteria=['peek <= 3 mm']")
+    with pytest.raises(PackageRefusedError, match=r"code cell 1: the calc record's criteria"
+                                                  r".*'peek'.*no derivation"):
         make_package(path, tmp_path / "out", pdf=False, **quiet)
 
 

@@ -12,31 +12,13 @@ absent or unbounded cannot meet a limit: NOT OK, with the reason.
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass
 
 from ...errors import ParameterError, UnitError
-from ..reading.units import read_quantity, registry
+from ..reading.criteria import Criterion, read_criteria
+from ..reading.units import registry
 
-__all__ = ["Criterion", "Judgement", "judge", "read_criteria", "unjudged"]
-
-_FORM = re.compile(r"^\s*([A-Za-z][A-Za-z_0-9]*)\s*(<=|>=|≤|≥)\s*(.+?)\s*$")
-_NUMBER = re.compile(r"^\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*)$")
-
-
-@dataclass(frozen=True, slots=True)
-class Criterion:
-    """A limit on one result: ``key <= limit`` (upper) or ``key >= limit`` (lower)."""
-
-    key: str
-    upper: bool
-    limit: float
-    unit: str
-    text: str
-
-    def to_dict(self) -> dict:
-        return {"key": self.key, "relation": "<=" if self.upper else ">=",
-                "limit": self.limit, "unit": self.unit, "text": self.text}
+__all__ = ["Criterion", "Judgement", "judge", "judge_calc", "read_criteria", "unjudged"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -61,38 +43,6 @@ class Judgement:
                 "reason": self.reason}
 
 
-def read_criteria(criteria) -> tuple[Criterion, ...]:
-    """``criteria=`` read and checked: a list of texts such as ``"peak <= 3 mm"``."""
-    if criteria is None:
-        return ()
-    if isinstance(criteria, str) or not hasattr(criteria, "__iter__"):
-        msg = ("criteria= must be a list of limits, e.g. criteria=[\"peak <= 3 mm\", "
-               "\"settling_time_2pct <= 2 s\"]")
-        raise ParameterError(msg, "criteria")
-    return tuple(_criterion(text) for text in criteria)
-
-
-def _criterion(text) -> Criterion:
-    if not isinstance(text, str):
-        raise ParameterError(f"criterion {text!r} must be text such as \"peak <= 3 mm\"",
-                             "criteria")
-    m = _FORM.match(text)
-    if not m:
-        msg = (f"cannot read the criterion {text!r}; write a result key, <= or >=, and a limit "
-               "with its unit, e.g. \"peak <= 3 mm\" or \"damping_ratio >= 0.05\"")
-        raise ParameterError(msg, "criteria")
-    key, relation, limit = m.groups()
-    quantity = read_quantity(limit, f"limit of {key}")   # refuses a unit pint does not know
-    number = _NUMBER.match(limit)
-    if number is None:
-        raise ParameterError(f"the limit in {text!r} is not a number with a unit, e.g. 3 mm",
-                             "criteria")
-    value, unit = float(number.group(1)), (number.group(2).strip() if quantity else "")
-    if not math.isfinite(value):
-        raise ParameterError(f"the limit in {text!r} is not finite", "criteria")
-    return Criterion(key, relation in ("<=", "≤"), value, unit, text.strip())
-
-
 def judge(criteria, results) -> tuple[Judgement, ...]:
     """Each criterion against the results mapping (key → Result)."""
     out = []
@@ -105,6 +55,29 @@ def judge(criteria, results) -> tuple[Judgement, ...]:
             raise ParameterError(msg, c.key)
         out.append(_judged(c, r))
     return tuple(out)
+
+
+def judge_calc(criteria, results_of) -> tuple[tuple[tuple[Judgement, ...], ...], tuple]:
+    """A calc's own criteria (its record's) judged on each of its derivations.
+
+    ``results_of`` holds each derivation's results mapping. A criterion applies to every
+    derivation whose results have its key; a derivation without results (withheld: a check
+    failed, or parameters without values) meets none of them. Returns the judgements per
+    derivation and the criteria that no derivation with results answers (a misspelt key).
+    """
+    criteria = read_criteria(criteria)
+    per, answered = [], set()
+    for results in results_of:
+        if not results:
+            per.append(unjudged(criteria, "this derivation has no results (a check did not "
+                                          "pass, or a parameter has no value)"))
+            continue
+        mine = [c for c in criteria if c.key in results]
+        answered.update(c.text for c in mine)
+        per.append(judge(mine, results))
+    with_results = any(results_of)
+    missing = tuple(c for c in criteria if with_results and c.text not in answered)
+    return tuple(per), missing
 
 
 def unjudged(criteria, why: str) -> tuple[Judgement, ...]:

@@ -212,17 +212,24 @@ class ParametricNumbers:
         return NumericModel(
             name=name, breakpoints=bps, system_poles=system,
             response_poles=_poles(poles, nums), closed_form=closed, derivative=derivative,
-            parts=tuple((float(c(*nums)), lambda s, fn=fn: fn(s, *exact)) for c, fn in parts),
+            parts=tuple((float(c(*nums)), _bind(fn, exact)) for c, fn in parts),
             initial_value_limit=float(ivt(*nums)) if ivt is not None else math.nan,
             final_value_limit=final, modes=modes)
 
 
 def _part_function(r, args):
     """R_c(s, *args) callable on mpmath numbers: Horner's rule on its coefficients."""
-    fast = rational_evaluator(r, args)
+    fast = RationalPart.make(r, args)
     if fast is not None:
         return fast
     return sp.lambdify((S,) + args, r, modules=_MPMATH)
+
+
+def _bind(fn, values: tuple):
+    """R_c(s) with the arguments' values bound."""
+    if isinstance(fn, RationalPart):
+        return BoundRational(fn, values)
+    return lambda s: fn(s, *values)
 
 
 def _poles(table, nums) -> tuple:
@@ -305,41 +312,64 @@ def _lowest(poly: sp.Poly) -> int:
     return next((k for k, c in enumerate(coeffs) if not (c == 0 or c.is_zero)), len(coeffs))
 
 
-def rational_evaluator(r: sp.Expr, args=()):
-    """R(s, *args) as a function of mpmath numbers: numerator and denominator each evaluated by
-    Horner's rule on their coefficients (what lambdify's printed expression costs many times
-    over). The coefficients (numbers, or expressions of ``args``) are converted once per
-    working precision and values of the arguments. None where R is not a ratio of
-    polynomials in s."""
-    num, den = sp.fraction(r)
-    try:
-        numc, denc = sp.Poly(num, S).all_coeffs(), sp.Poly(den, S).all_coeffs()
-    except sp.PolynomialError:
-        return None
-    allowed = set(args)
-    if any(not c.free_symbols <= allowed for c in numc + denc):
-        return None
-    flat = numc + denc
-    compiled = sp.lambdify(args, flat, modules=_MPMATH) if args else None
-    cache: dict = {}
+class RationalPart:
+    """R(s, *args) = N(s)/D(s) as a function of mpmath numbers: numerator and denominator each
+    evaluated by Horner's rule on their coefficients (what lambdify's printed expression costs
+    many times over). The coefficients (numbers, or expressions of ``args``) are converted
+    once per working precision and values of the arguments. :meth:`make` gives None where R
+    is not a ratio of polynomials in s."""
 
-    def convert(prec, values):
+    def __init__(self, numc, denc, args):
+        self._split = len(numc)
+        self._flat = numc + denc
+        self._compiled = sp.lambdify(args, self._flat, modules=_MPMATH) if args else None
+        self._cache: dict = {}
+
+    @classmethod
+    def make(cls, r: sp.Expr, args=()):
+        num, den = sp.fraction(r)
+        try:
+            numc, denc = sp.Poly(num, S).all_coeffs(), sp.Poly(den, S).all_coeffs()
+        except sp.PolynomialError:
+            return None
+        allowed = set(args)
+        if any(not c.free_symbols <= allowed for c in numc + denc):
+            return None
+        return cls(numc, denc, args)
+
+    def coefficients(self, prec: int, values) -> tuple[list, list]:
+        """(numerator, denominator) coefficients as mpf at ``prec`` bits, highest power first."""
         key = (prec, values)
-        if key not in cache:
-            if compiled is not None:
-                coeffs = [mpmath.mpmathify(c) for c in compiled(*values)]
+        if key not in self._cache:
+            if self._compiled is not None:
+                coeffs = [mpmath.mpmathify(c) for c in self._compiled(*values)]
             else:
                 digits = int(prec * 0.30103) + 10
-                coeffs = [mpmath.mpmathify(sp.N(c, digits)) for c in flat]
-            if len(cache) > 64:
-                cache.clear()
-            cache[key] = (coeffs[:len(numc)], coeffs[len(numc):])
-        return cache[key]
+                coeffs = [mpmath.mpmathify(sp.N(c, digits)) for c in self._flat]
+            if len(self._cache) > 64:
+                self._cache.clear()
+            self._cache[key] = (coeffs[:self._split], coeffs[self._split:])
+        return self._cache[key]
 
-    def evaluate(s, *values):
-        nc, dc = convert(mpmath.mp.prec, values)
+    def __call__(self, s, *values):
+        nc, dc = self.coefficients(mpmath.mp.prec, values)
         return mpmath.polyval(nc, s) / mpmath.polyval(dc, s)
-    return evaluate
+
+
+@dataclass(frozen=True)
+class BoundRational:
+    """A :class:`RationalPart` with its arguments' values: callable on an mpmath number, and
+    its coefficients at the working precision (what lets the inversion evaluate it in ball
+    arithmetic, ``contour_inversion``)."""
+
+    part: RationalPart
+    values: tuple
+
+    def __call__(self, s):
+        return self.part(s, *self.values)
+
+    def coefficients(self) -> tuple[list, list]:
+        return self.part.coefficients(mpmath.mp.prec, self.values)
 
 
 def _finite(value) -> float | None:

@@ -2,7 +2,8 @@
 
 A :class:`CalcRecord` holds the title, calc number, revision, project, purpose, method,
 preparer and checker with dates, revision history, the user's assumptions, the inputs (each
-with its value, unit and the source of the value) and references. It is immutable; a change
+with its value, unit and the source of the value), references, and the calc's acceptance
+criteria (judged on every derivation that has the result when the calc is packaged). It is immutable; a change
 is a copy (``copy_with``). Derivations add their own assumptions, rules and verification to
 the record when a package is assembled.
 """
@@ -12,6 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, fields
 
 from ...errors import ParameterError
+from .criteria import read_criteria
 from .units import read_quantity
 
 __all__ = ["CalcRecord", "RecordInput", "Revision"]
@@ -109,6 +111,7 @@ class CalcRecord:
     assumptions: tuple = field(default=())
     inputs: tuple = field(default=())
     references: tuple = field(default=())
+    criteria: tuple = field(default=())
 
     def __post_init__(self):
         # Normalise once, at construction: text fields stripped, lists made tuples of values.
@@ -122,6 +125,8 @@ class CalcRecord:
                 value = _revisions(value)
             elif f.name in ("assumptions", "references"):
                 value = tuple(_text(v, f.name[:-1]) for v in (value or ()))
+            elif f.name == "criteria":
+                value = tuple(c.text for c in read_criteria(value or ()))
             else:
                 value = _text(value, f.name.replace("_", " "))
             object.__setattr__(self, f.name, value)

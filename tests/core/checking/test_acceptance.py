@@ -91,3 +91,18 @@ def test_a_negative_peak_is_judged_by_its_size():
     over, under = d.acceptance
     assert over.value == pytest.approx(0.125) and over.outcome == "NOT OK"
     assert under.utilisation == pytest.approx(0.625) and under.ok
+
+
+def test_a_calcs_own_criteria_apply_where_the_result_exists(demo):
+    # judge_calc: the record's limits on each derivation that has the key; the demo's peak is
+    # 11.107 mm (tests/core/checking/test_results.py), so 10 mm is exceeded (utilisation 1.11)
+    from derivpad.core.checking.acceptance import judge_calc
+    per, missing = judge_calc(["peak <= 10 mm", "peak_x1 <= 5 mm"], [demo.results, {}])
+    (on_demo, on_bare) = per
+    assert [j.criterion.text for j in on_demo] == ["peak <= 10 mm"]
+    assert not on_demo[0].ok and on_demo[0].utilisation == pytest.approx(1.1107, abs=1e-4)
+    # a derivation without results meets none of the limits, and says why
+    assert [j.outcome for j in on_bare] == ["NOT OK", "NOT OK"]
+    assert "no results" in on_bare[0].reason
+    # peak_x1 is a system's key: no derivation here answers it
+    assert [c.key for c in missing] == ["peak_x1"]

@@ -55,3 +55,15 @@ def test_display_shows_a_header_block_with_cautions():
     assert "<h2>Skid isolator shock check</h2>" in bundle["text/html"]
     assert "qualified engineer" in bundle["text/html"]
     assert "Calc C-101, revision 2" in bundle["text/plain"]
+
+
+def test_the_records_criteria_are_read_and_kept_as_written():
+    r = CalcRecord(title="t", calc_number="C-1", revision="0",
+                   criteria=["peak <= 3 mm", " final_value >= 10 K "])
+    assert r.criteria == ("peak <= 3 mm", "final_value >= 10 K")
+    assert r.to_dict()["criteria"] == ["peak <= 3 mm", "final_value >= 10 K"]
+    assert "acceptance criterion: peak <= 3 mm" in r._repr_mimebundle_()["text/plain"]
+    with pytest.raises(ParameterError, match="cannot read the criterion 'peak < 3 mm'"):
+        CalcRecord(title="t", calc_number="C-1", revision="0", criteria=["peak < 3 mm"])
+    with pytest.raises(UnitError):
+        CalcRecord(title="t", calc_number="C-1", revision="0", criteria=["peak <= 3 furlongz"])
