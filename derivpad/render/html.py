@@ -83,7 +83,8 @@ body[data-jp-theme-light="false"] .derivpad figure svg{filter:invert(.88) hue-ro
  .derivpad details.dp-step>summary .dp-no::after,
  .derivpad details.dp-step[open]>summary .dp-no::after{content:none}
  .derivpad .dp-row{grid-template-columns:3.6em minmax(0,1fr) 11.5em;column-gap:.6em}
- .derivpad .dp-row{break-inside:avoid-page}}
+ .derivpad .dp-row{break-inside:avoid-page}
+ .derivpad details.dp-step>summary{break-after:avoid-page}}
 """
 
 def _esc(text: str) -> str:

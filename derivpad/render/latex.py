@@ -83,24 +83,54 @@ class LatexRenderer(Renderer):
     def _rows(self, expr, first: int = ROW_BUDGET) -> list[str]:
         """The expression's LaTeX in rows of at most ROW_BUDGET characters of its plain-text
         form (``first`` for the row that follows the left side), broken between top-level
-        terms (one row where it fits or is not a sum)."""
-        if not isinstance(expr, sp.Add) or len(text_expr(expr)) <= first:
+        terms, and inside a long product's sum (one row where it fits)."""
+        if isinstance(expr, sp.Mul) and len(text_expr(expr)) > first:
+            return self._product_rows(expr, first) or [self._expr(expr)]
+        if not isinstance(expr, sp.Add):
             return [self._expr(expr)]
         printer = NotationLatexPrinter({"float_digits": self.settings["float_digits"],
                                         "imaginary_unit": self.settings["imaginary_unit"],
                                         "decimals": self.settings["decimals"]})
-        rows, row, size = [], "", 0
+        terms = []  # (negative, body, plain-text length with its sign): each printed once
         for term in printer._as_ordered_terms(expr):
             negative = term.could_extract_minus_sign()
             body = -term if negative else term
-            length = len(text_expr(body)) + 3
+            terms.append((negative, body, len(text_expr(body)) + 3))
+        if sum(n for _, _, n in terms) - 3 <= first:
+            return [self._expr(expr)]
+        rows, row, size = [], "", 0
+        for negative, body, length in terms:
+            sign = "- " if negative else ("+ " if rows or row else "")
+            inner = (self._product_rows(body, ROW_BUDGET - 3)
+                     if length > ROW_BUDGET and isinstance(body, sp.Mul) else None)
+            if inner:  # a product longer than a row: rows of its own
+                if row:
+                    rows.append(row)
+                rows += [sign + inner[0]] + inner[1:]
+                row, size = "", 0
+                continue
             if row and size + length > (first if not rows else ROW_BUDGET):
                 rows.append(row)
                 row, size = "", 0
-            sign = "- " if negative else ("+ " if rows or row else "")
             row += (" " if row else "") + sign + self._expr(body)
             size += length
-        rows.append(row)
+        if row:
+            rows.append(row)
+        return rows
+
+    def _product_rows(self, expr: sp.Mul, budget: int) -> list[str] | None:
+        """A product with one sum among its factors, c·(a + b + …)·g, as rows
+        c(a + … / … + z)g: the sum broken between its terms, its parentheses opened on the first
+        row and closed on the last. None where no factor is a sum."""
+        sums = [f for f in expr.args if isinstance(f, sp.Add)]
+        if len(sums) != 1:
+            return None
+        (inner,) = sums
+        coeff, others = sp.Mul(*[f for f in expr.args if f is not inner]).as_coeff_Mul()
+        head = "" if coeff == 1 else "-" if coeff == -1 else self._expr(coeff)
+        rows = self._rows(inner, max(budget - len(text_expr(coeff)) - 2, ROW_BUDGET // 3))
+        rows[0] = head + r"\bigl(" + rows[0]
+        rows[-1] += r"\bigr)" + (r"\, " + self._expr(others) if others != 1 else "")
         return rows
 
     def math(self, step: Step) -> str:

@@ -51,3 +51,26 @@ def test_a_long_sum_continues_on_further_rows():
     # every row's terms, as plain text, fit the budget
     assert len(text_expr(sp.Add(*terms))) > ROW_BUDGET
     assert tex.count("e^{") == 8
+
+
+def test_a_long_product_breaks_inside_its_sum():
+    # (a + b + … ) u(t - 1/50): the sum's terms on rows of their own, its parentheses opened
+    # on the first row and closed on the last, the step factor after them
+    import sympy as sp
+
+    from derivpad.core.model.steps import Line
+    from derivpad.core.model.symbols import T
+    from derivpad.render.latex import LatexRenderer
+    c = sp.Rational(1, 50)
+    inner = sp.Add(*[sp.Rational(k, 1000 + k) * sp.cos(k * (T - c)) for k in range(1, 8)])
+    product = inner * sp.Heaviside(T - c)  # (a numeric factor SymPy spreads over the sum)
+    tex = LatexRenderer()._render_Line(Line(sp.Function("y")(T), product, "="))
+    rows = tex.split(" \\\\\n")
+    assert len(rows) > 1
+    assert rows[0].startswith("y(t) &= \\bigl(")
+    assert rows[-1].endswith("\\bigr)\\, u(t - \\frac{1}{50})")
+    assert tex.count("\\bigl(") == tex.count("\\bigr)") == 1
+    assert tex.count("\\cos") == 7
+    # the same product inside a sum gets rows of its own, signed
+    tex = LatexRenderer()._render_Line(Line(sp.Function("y")(T), T - product, "="))
+    assert "\\\\\n&\\quad - \\bigl(" in tex
