@@ -63,6 +63,7 @@ class _Panels:
         self._lines: list = []    # per unknown: (integrated, closed, error)
         self._forcing: list = []  # per equation
         self._marks: list = []
+        self._legends: dict = {}  # axes → (labels, Legend): kept while the labels stay
 
     def _unknown_lines(self, i: int):
         while len(self._lines) <= i:
@@ -122,15 +123,29 @@ class _Panels:
             ax.relim()
             ax.autoscale_view()
         self._labels(p, y_units, t_unit)
-        self._marks.append(self.ax_y.legend(loc="best", fontsize=8, frameon=False))
+        self._legend(self.ax_y, 8)
         if not one:
-            self._marks.append(self.ax_f.legend(loc="best", fontsize=7, frameon=False))
+            self._legend(self.ax_f, 7)
+        elif self.ax_f in self._legends:
+            self._legends.pop(self.ax_f)[1].remove()
         self._mark_switches(d, samples, ts)
         status = "all checks passed" if d.verification.passed else "NOT VERIFIED"
         title = p.text if one else f"{p.size} coupled equations"
         # y given: no search for top-side decorations to clear (there are none)
         self.ax_y.set_title(f"{title}  —  {status}", fontsize=9, loc="left", y=1.0)
         return self.fig
+
+    def _legend(self, ax, size: int) -> None:
+        """The panel's legend at the best place; one already there with the same labels stays
+        (it is drawn again, at the best place for the new data)."""
+        handles, labels = ax.get_legend_handles_labels()
+        kept = self._legends.get(ax)
+        if kept is not None and kept[0] == tuple(labels):
+            return
+        if kept is not None:
+            kept[1].remove()
+        self._legends[ax] = (tuple(labels), ax.legend(handles, labels, loc="best",
+                                                      fontsize=size, frameon=False))
 
     def _labels(self, p, y_units, t_unit) -> None:
         shown = sorted({u for u in y_units if u})

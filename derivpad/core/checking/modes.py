@@ -407,7 +407,11 @@ class Modes:
         """The same response after its last switching time L, as modes in t - L, with the
         modes of equal (k, a, b) added (in 40-digit arithmetic where the exact coefficients
         are known). Terms that cancel there vanish: t·u(t) - (t - 1)·u(t - 1) is the constant 1
-        for t ≥ 1, not two growing ramps."""
+        for t ≥ 1, not two growing ramps. Found once per Modes (they are immutable)."""
+        return self._tail
+
+    @cached_property
+    def _tail(self) -> "Modes":
         if not len(self):
             return self
         last = float(np.max(self.delay))

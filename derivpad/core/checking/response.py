@@ -250,9 +250,16 @@ def _period(freqs) -> float | None:
     return period if period <= 1000 * 2 * math.pi / base else None
 
 
-def _steady_sup(modes: Modes, steady, sign: float, t0: float):
-    """sup of sign·(steady part) over t ≥ t0: (value, attained?, a time it is reached)."""
-    part = modes.subset(steady)
+def _steady_sup(modes: Modes, steady, sign: float, t0: float, cache=None):
+    """sup of sign·(steady part) over t ≥ t0: (value, attained?, a time it is reached).
+    ``cache`` holds the steady part and its samples for the other sign."""
+    if cache is not None and "part" in cache:
+        part, slope = cache["part"]
+    else:
+        part = modes.subset(steady)
+        slope = part.derivative()
+        if cache is not None:
+            cache["part"] = (part, slope)
     const = float(np.sum(part.cos[part.freq == 0]))
     osc = part.freq > 0
     if not osc.any():
@@ -260,7 +267,7 @@ def _steady_sup(modes: Modes, steady, sign: float, t0: float):
     period = _period({float(x) for x in part.freq[osc]})
     if period is None:
         return sign * const + float(np.sum(part.amplitude[osc])), False, math.inf
-    val, when = _on_interval(part, part.derivative(), t0, t0 + period, sign)
+    val, when = _on_interval(part, slope, t0, t0 + period, sign, cache)
     return val, True, when
 
 
@@ -300,7 +307,9 @@ def supremum(modes: Modes, start: float = 0.0, stop: float = math.inf, sense: in
             span = max(span, 2 * 2 * math.pi / low)
     upper = last + span
     best = _on_interval(modes, slope, start, upper, sign, cache)
-    steady_val, attained, steady_time = _steady_sup(after, steady, sign, upper)
+    # the steady part's samples apart from the response's: their intervals may coincide
+    steady_cache = None if cache is None else cache.setdefault(("steady", upper), {})
+    steady_val, attained, steady_time = _steady_sup(after, steady, sign, upper, steady_cache)
     if not decaying.any() and attained:
         # after the last switch the response is periodic (or constant): its largest value
         # recurs every period, and one period from `upper` holds it

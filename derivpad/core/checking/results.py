@@ -112,6 +112,7 @@ def engineering_results(problem, numbers: Numbers, definitions=None):
     out = dict(w.out)
     at_rest = not any(v for vals in numbers.initial for v in vals)
     statics = _static_gains(numbers)
+    loads: dict = {}  # each load's figures, found once for all the unknowns it loads
     for name, model in numbers.models.items():
         plain = single and name == problem.unknowns[0]
         r = ResultWriter(problem.unit_context(name), "" if plain else name,
@@ -121,13 +122,15 @@ def engineering_results(problem, numbers: Numbers, definitions=None):
                 r.absent(key, label, r.y_unit, "the closed form is not a sum of modes, so its "
                          "behaviour over all t cannot be bounded")
         else:
-            _response_of(r, model, numbers, statics.get(name), at_rest, definitions)
+            _response_of(r, model, numbers, statics.get(name), at_rest, definitions, loads)
         out.update(r.out)
     return MappingProxyType(out)
 
 
-def _response_of(w: ResultWriter, model, numbers: Numbers, static, at_rest, definitions):
-    """One response's figures, with its static response to the load where there is one."""
+def _response_of(w: ResultWriter, model, numbers: Numbers, static, at_rest, definitions,
+                 loads: dict):
+    """One response's figures, with its static response to the load where there is one
+    (``loads``: the load figures found so far, by equation)."""
     row, loaded, note = static if static is not None else (
         None, None, "the dynamic load factor is given for the unknowns, not derived quantities")
     load, static_peak = None, None
@@ -137,7 +140,9 @@ def _response_of(w: ResultWriter, model, numbers: Numbers, static, at_rest, defi
               w.to_y(float(sum(g * f for g, f in zip(row, finals)))), w.y_unit,
               _STATIC_FINAL[len(row) > 1], _VIB)
     if loaded is not None:
-        load = _load_figures(numbers.forcing_modes[loaded])
+        if loaded not in loads:
+            loads[loaded] = _load_figures(numbers.forcing_modes[loaded])
+        load = loads[loaded]
         note = _load_note(numbers, loaded, load)
         if not note and abs(row[loaded]) > 0:
             static_peak = load.peak * abs(row[loaded])
