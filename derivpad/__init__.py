@@ -4,6 +4,7 @@ The supported names are listed in ``__all__``; everything else is internal.
 """
 
 from . import forcing
+from .cases import CaseResults, load_cases
 from .core.model.derivation import Derivation
 from .core.engine import derive, derive_state_space
 from .core.model.problem import Problem
@@ -21,12 +22,12 @@ from .errors import (DerivpadError, EquationError, ExportError, ForcingError, In
 __version__ = "0.1.0"
 
 __all__ = sorted([
-    "CalcRecord", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
+    "CalcRecord", "CaseResults", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "derive_state_space", "explore",
-    "forcing", "load_ipython_extension",
+    "forcing", "load_cases", "load_ipython_extension",
 ])
 
 

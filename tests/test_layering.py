@@ -1,4 +1,5 @@
-"""Imports flow errors ← core ← render ← notebook, export ← cli, read from the import graph."""
+"""Imports flow errors ← core ← render ← notebook, export, cases ← cli, read from the import
+graph."""
 
 import ast
 from pathlib import Path
@@ -12,10 +13,12 @@ ALLOWED = {
     "render": {"errors", "core", "render"},
     "notebook": {"errors", "core", "render", "notebook"},
     "export": {"errors", "core", "render", "export"},
+    "cases": {"errors", "core", "render", "cases"},
     "forcing": {"core"},
     "demo": {"core"},
-    "__init__": {"core", "errors", "forcing"},
-    "cli": {"errors", "core", "render", "notebook", "export", "demo", "cli", "__init__"},
+    "__init__": {"core", "errors", "forcing", "cases"},
+    "cli": {"errors", "core", "render", "notebook", "export", "cases", "demo", "cli",
+            "__init__"},
     "__main__": {"cli"},
 }
 # Inside core/, the folders in the order data flows: model objects (0) ← reading input (1) ←

@@ -9,7 +9,7 @@ import derivpad
 def test_all_is_sorted_and_matches_the_namespace():
     assert derivpad.__all__ == sorted(derivpad.__all__)
     public = {name for name in vars(derivpad) if not name.startswith("_")}
-    modules = {"core", "errors", "render", "cli", "demo", "notebook", "export"}
+    modules = {"core", "errors", "render", "cli", "demo", "notebook", "export", "cases"}
     assert public - modules == set(derivpad.__all__)
 
 
@@ -22,7 +22,7 @@ def test_every_error_is_in_the_family():
 
 def test_import_does_not_load_notebook_or_plotting_libraries():
     code = ("import sys, derivpad; d = derivpad.derive(\"y' + y = 1\", ics={'y(0)': 0}); "
-            "bad = [m for m in ('IPython', 'ipywidgets', 'matplotlib') if m in sys.modules]; "
+            "bad = [m for m in ('IPython', 'ipywidgets', 'matplotlib', 'pandas') if m in sys.modules]; "
             "print(bad)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"

@@ -90,6 +90,7 @@ class DerivationFamily:
         self._forms: dict = {}
         self._why_not = ""
         self._compiled: dict = {}
+        self.verified: dict = {}  # form → its derivation, checked in full at its first values
         self.start = start
         # symbolic switching times are ordered as at the starting values
         self._order = parameter_values(self.problem, start)
@@ -136,6 +137,26 @@ class DerivationFamily:
         d = complete(self.problem, stages, own, value_map, tolerances=self._tolerances,
                      window=self._args["window"], model=model, on_failure="return")
         return d if d.verification.passed else None
+
+    def numbers_at(self, values: dict):
+        """The numbers of the derivation at ``values`` without building its record: (form,
+        Numbers, value map) through a form derived in symbols whose conditions hold there and
+        which verified in full at the first values it served (kept in :attr:`verified`), or
+        (None, FamilyMember, value map) where no such form holds (derived with the numbers).
+        What load cases evaluate case by case."""
+        value_map = self._exact(values)
+        order = (self._regime,) + tuple(r for r in _REGIMES if r != self._regime)
+        for regime in order:
+            stages = self._stages(regime)
+            if stages is None or not form_holds(stages, value_map):
+                continue
+            if regime not in self.verified:
+                d = self._derived_in_symbols(regime, value_map)
+                if d is None:
+                    continue
+                self.verified[regime] = d
+            return regime, self._compiled[regime][1].at(value_map), value_map
+        return None, self.at(values), value_map
 
     def at(self, values: dict) -> FamilyMember:
         """The derivation for ``values`` ({name: number in the parameter's unit})."""

@@ -1,0 +1,7 @@
+"""Load cases: a calc evaluated for every case of a table, with the envelope and the governing
+cases (the ``cases`` extra: pandas, pyarrow)."""
+
+from .results import CaseResults
+from .run import load_cases
+
+__all__ = ["CaseResults", "load_cases"]

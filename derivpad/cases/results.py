@@ -1,0 +1,115 @@
+"""The results of a set of load cases: the table, the envelope with its governing cases, the
+forms derived, and what was verified."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from types import MappingProxyType
+
+import numpy as np
+
+from ..errors import ExportError, ParameterError
+from .table import pandas
+
+__all__ = ["CaseResults", "envelope_of"]
+
+_NOT_RESULTS = ("case", "form", "notes")
+
+
+def envelope_of(frame, units: dict, ids, inputs):
+    """For each result column (not an input): its largest and smallest value over the cases
+    and the case each comes from (cases whose value is NaN, a result that does not apply, are
+    left out; an unbounded case governs with inf)."""
+    pd = pandas()
+    rows = []
+    for key in frame.columns:
+        if key in _NOT_RESULTS or key in inputs or str(key).endswith(": outcome") or \
+                frame[key].dtype.kind != "f":
+            continue
+        col = frame[key].to_numpy(dtype=float)
+        ok = ~np.isnan(col)
+        if not ok.any():
+            continue
+        hi, lo = int(np.nanargmax(col)), int(np.nanargmin(col))
+        rows.append({"result": key, "unit": units.get(key, ""), "max": col[hi],
+                     "case of max": ids[hi], "min": col[lo], "case of min": ids[lo],
+                     "cases with a value": int(ok.sum())})
+    return pd.DataFrame(rows, columns=["result", "unit", "max", "case of max", "min",
+                                       "case of min", "cases with a value"])
+
+
+@dataclass(frozen=True)
+class CaseResults:
+    """A calc evaluated for every case of a table.
+
+    ``table``: one row per case (its name, its inputs in their columns' units, each result in
+    its display unit, each criterion's utilisation and outcome, the form it used, and why a
+    result has no value); ``envelope``: the largest and smallest value of each result with
+    the case it comes from; ``forms``: (form, Derivation) for each form derived in symbols,
+    checked in full; ``units``: the unit of every column; ``verified``: what was checked.
+    """
+
+    table: object
+    envelope: object
+    forms: tuple
+    units: MappingProxyType
+    verified: tuple
+
+    def __post_init__(self):
+        object.__setattr__(self, "units", MappingProxyType(dict(self.units)))
+
+    def governing(self, key: str, which: str = "max"):
+        """The row (inputs and results) of the case that governs ``key`` (``"max"`` or
+        ``"min"``)."""
+        if which not in ("max", "min"):
+            raise ParameterError(f"which must be 'max' or 'min', not {which!r}", "which")
+        rows = self.envelope[self.envelope["result"] == key]
+        if rows.empty:
+            known = ", ".join(self.envelope["result"].tolist()[:12])
+            raise ParameterError(f"no result {key!r} in the envelope (results: {known}, …)",
+                                 key)
+        case = rows.iloc[0][f"case of {which}"]
+        return self.table[self.table["case"] == case].iloc[0]
+
+    @property
+    def all_ok(self) -> bool:
+        """True when every criterion is OK in every case (True without criteria)."""
+        cols = [c for c in self.table.columns if str(c).endswith(": outcome")]
+        return all((self.table[c] == "OK").all() for c in cols)
+
+    def to_csv(self, path) -> Path:
+        """Write the table as CSV (written whole or not at all)."""
+        return _atomic(Path(path), lambda p: self.table.to_csv(p, index=False))
+
+    def to_parquet(self, path) -> Path:
+        """Write the table as Parquet (pyarrow, the cases extra)."""
+        from ..errors import import_extra
+        import_extra(("pyarrow",), "Parquet output", "cases")
+        return _atomic(Path(path), lambda p: self.table.to_parquet(p, index=False))
+
+    def _repr_mimebundle_(self, include=None, exclude=None):
+        """Summary, envelope, verification and the table's head; never raises into the
+        notebook."""
+        try:
+            from ..render.cases import cases_bundle
+            return cases_bundle(self, include, exclude)
+        except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
+            return {"text/plain": f"CaseResults: {len(self.table)} cases (display failed: "
+                                  f"{exc})"}
+
+
+def _atomic(path: Path, write) -> Path:
+    if not path.parent.is_dir():
+        raise ExportError(f"no folder {path.parent} to write {path.name} in")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
+    os.close(fd)
+    try:
+        write(tmp)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path

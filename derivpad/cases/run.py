@@ -1,0 +1,194 @@
+"""Load cases: one derivation per form, evaluated for every case of a table.
+
+The problem is derived once in symbols for the parameters the table varies (the explorer's
+``DerivationFamily``), once per form the cases fall into (underdamped, overdamped, …); each
+form is checked in full at the first case it serves. Every case is then evaluated through that
+form's compiled closed form with its own numbers: its membership in the form's conditions is
+checked, and its engineering results are found as for a single derivation (suprema over the
+whole response, not grid maxima). A case that no symbolic form covers (exactly critical
+damping) is derived with its numbers, with every check. An independent time-domain integration
+of a seeded random sample of the cases (at least 1 % and at least 20) and of every governing
+case is compared with the closed form; any disagreement stops the run, naming the case.
+"""
+
+from __future__ import annotations
+
+import math
+import random
+
+from ..core.checking.acceptance import judge, read_criteria
+from ..core.checking.numeric_checks import NUMERIC_TOLERANCES, independent_checks
+from ..core.checking.results import engineering_results
+from ..core.checking.window import window_end
+from ..core.family import DerivationFamily
+from ..core.reading.read_problem import make_problem
+from ..errors import DerivpadError, ParameterError, VerificationFailedError
+from .results import CaseResults, envelope_of
+from .table import pandas, read_cases
+
+__all__ = ["load_cases"]
+
+SAMPLE_FRACTION = 0.01
+SAMPLE_MINIMUM = 20
+
+
+def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=None,
+               unknown=None, derived=None, regime: str = "underdamped", tolerances=None,
+               window=None, seed: int = 0, progress=None) -> CaseResults:
+    """Evaluate a calc for every case of a table; the envelope and its governing cases.
+
+    Parameters
+    ----------
+    equation, ics, params, units, unknown, derived, regime, tolerances, window
+        As for :func:`derivpad.derive`; ``params`` holds the values the table does not vary.
+    cases : pandas.DataFrame or path
+        One row per case; a column per varied parameter, its header with the unit its values
+        are in (``k [kN/m]``); an optional ``case`` column names the cases.
+    criteria : list of str, optional
+        Acceptance criteria judged for every case (``["peak <= 3 mm"]``).
+    seed : int
+        Seed of the random sample of cases checked by numerical integration.
+    progress : callable, optional
+        Called with (cases done, cases) now and then.
+
+    Returns
+    -------
+    CaseResults
+
+    Raises
+    ------
+    ParameterError, UnitError
+        A bad table, a column that is no parameter of the problem, a bad criterion.
+    VerificationFailedError
+        A form's checks, or a sampled case's numerical integration, disagree with the closed
+        form (the case is named).
+    """
+    table = read_cases(cases)
+    judged = read_criteria(criteria)
+    names = make_problem(equation, ics, None, unknown, None, derived).symbols
+    stray = [n for n in table.names if n not in names]
+    if stray:
+        msg = (f"column {stray[0]!r} of the case table is not a parameter of the problem "
+               f"(its parameters: {', '.join(names) or 'none'})")
+        raise ParameterError(msg, stray[0])
+    params = dict(params or {})
+    units = dict(units or {})
+    for name, unit in zip(table.names, table.units):
+        if unit:
+            units[name] = unit
+        params[name] = f"{float(table.values[0][table.names.index(name)])!r} {unit}".strip()
+    family = DerivationFamily(equation, ics, params, vary=table.names, unknown=unknown,
+                              units=units or None, regime=regime, tolerances=tolerances,
+                              window=window, derived=derived)
+    rows, notes, forms, fallbacks = [], [], [], {}
+    n = len(table)
+    for i in range(n):
+        values = table.case(i)
+        try:
+            form, got, _ = family.numbers_at(values)
+        except DerivpadError as exc:
+            raise type(exc)(f"case {table.ids[i]}: {exc}") from exc
+        if form is None:  # derived with its numbers, every check run (it raises on failure)
+            results = got.derivation.results
+            fallbacks[i] = got.derivation
+            forms.append("derived with its numbers")
+        else:
+            results = engineering_results(family.problem, got, None)
+            forms.append(form)
+        row, note = _row(results, judge(judged, results))
+        rows.append(row)
+        notes.append(note)
+        if progress and (i + 1) % 1000 == 0:
+            progress(i + 1, n)
+    frame = _frame(table, rows, notes, forms)
+    units_of = _units(rows, table)
+    envelope = envelope_of(frame, units_of, table.ids, table.names)
+    checked = _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances)
+    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked)
+
+
+def _row(results, judgements) -> tuple[dict, str]:
+    """One case's results as {key: number in its display unit} (inf unbounded, NaN where a
+    result does not apply, the reasons gathered in the note), with each criterion judged."""
+    row, why = {}, []
+    for key, r in results.items():
+        m = r.magnitude
+        if isinstance(m, (tuple, list, str)):
+            continue
+        if m is None:
+            row[key] = (math.nan, r.unit)
+            why.append(f"{key}: {r.reason}")
+        else:
+            row[key] = (float(m), r.unit)
+            if math.isinf(float(m)):
+                why.append(f"{key}: {r.reason or r.note}")
+    for j in judgements:
+        text = j.criterion.text
+        row[f"{text}: utilisation"] = (j.utilisation if j.utilisation is not None
+                                       else math.nan, "")
+        row[f"{text}: outcome"] = (j.outcome, "")
+    return row, "; ".join(why)
+
+
+def _units(rows, table) -> dict:
+    units = dict(zip(table.names, table.units))
+    for row in rows:
+        for key, (_, unit) in row.items():
+            units.setdefault(key, unit)
+    return units
+
+
+def _frame(table, rows, notes, forms):
+    pd = pandas()
+    data = {"case": list(table.ids)}
+    for j, name in enumerate(table.names):
+        data[name] = table.values[:, j]
+    keys: list = []
+    for row in rows:
+        keys += [k for k in row if k not in keys]
+    for key in keys:
+        data[key] = [row.get(key, (math.nan, ""))[0] for row in rows]
+    data["form"] = forms
+    data["notes"] = notes
+    return pd.DataFrame(data)
+
+
+def _sample(n: int, seed: int) -> list[int]:
+    size = min(n, max(SAMPLE_MINIMUM, math.ceil(SAMPLE_FRACTION * n)))
+    return sorted(random.Random(seed).sample(range(n), size))
+
+
+def _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances):
+    """The independent integration of the sampled and the governing cases against their
+    closed forms; returns what was checked, in words, and raises on any disagreement."""
+    sample = set(_sample(len(table), seed))
+    index = {case: i for i, case in enumerate(table.ids)}
+    governing = {index[c] for c in envelope["case of max"].tolist() + envelope["case of min"]
+                 .tolist() if c in index}
+    tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
+    worst = 0.0
+    done = 0
+    for i in sorted(sample | governing):
+        if i in fallbacks:  # derived with its numbers: every check ran already
+            done += 1
+            continue
+        _, numbers, _ = family.numbers_at(table.case(i))
+        end = window_end(numbers.every_pole, list(numbers.breakpoints), family._args["window"])
+        checks, _ = independent_checks(numbers, tol, end)
+        for c in checks:
+            if c.applicable and c.ran and not c.passed:
+                msg = (f"case {table.ids[i]}: {c.name} disagrees with the closed form "
+                       f"({c.detail or c.status}); the load-case results are not verified")
+                raise VerificationFailedError(msg)
+            if c.name == "Numerical integration" and c.ran:
+                worst = max(worst, float(c.error))
+        done += 1
+    forms = sorted(set(frame["form"]))
+    return (f"{len(forms)} form(s): {', '.join(forms)}; each form derived in symbols was "
+            "checked in full (back-substitution, initial and jump conditions, numerical "
+            "integration and inversion, limit theorems) at the first case it served",
+            f"every case's values checked against its form's conditions ({len(table)} cases)",
+            f"independent checks (numerical integration, inversion, limit theorems) of "
+            f"{done} cases: a seeded random sample (seed {seed}, at least "
+            f"{SAMPLE_FRACTION:.0%} and at least {SAMPLE_MINIMUM}) and every governing case; "
+            f"largest integration error {worst:.2e} of the peak")

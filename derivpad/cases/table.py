@@ -1,0 +1,113 @@
+"""A table of load cases read and checked: a pandas DataFrame, or a CSV or Parquet file.
+
+Each column but an optional ``case`` column (the cases' names) is a parameter of the problem;
+its header may carry the unit its values are in, ``k [kN/m]``. Every value must be a finite
+number. The size is checked before anything is computed.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..core.reading.units import read_quantity
+from ..errors import ParameterError, import_extra
+
+__all__ = ["CaseTable", "MAX_CASES", "read_cases"]
+
+MAX_CASES = 1_000_000
+"""The most cases one call takes (a larger table is refused before any work)."""
+
+_HEADER = re.compile(r"^\s*([A-Za-z][A-Za-z_0-9]*)\s*(?:\[\s*([^\]]*?)\s*\])?\s*$")
+
+
+def pandas():
+    """pandas, or the install command of the extra that brings it."""
+    (module,) = import_extra(("pandas",), "load cases", "cases")
+    return module
+
+
+@dataclass(frozen=True)
+class CaseTable:
+    """The cases: their ids, the parameters' names and units, and a cases × parameters array."""
+
+    ids: tuple
+    names: tuple
+    units: tuple
+    values: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.ids)
+
+    def case(self, i: int) -> dict:
+        """Case ``i`` as {name: number in its column's unit}."""
+        return {n: float(v) for n, v in zip(self.names, self.values[i])}
+
+
+def read_cases(cases) -> CaseTable:
+    """``cases=`` read into a :class:`CaseTable`, with a clear error for anything wrong."""
+    pd = pandas()
+    if isinstance(cases, (str, Path)):
+        frame = _read_file(pd, Path(cases))
+    elif isinstance(cases, pd.DataFrame):
+        frame = cases
+    else:
+        msg = ("cases= must be a pandas DataFrame or the path of a .csv or .parquet file, not "
+               f"{type(cases).__name__}")
+        raise ParameterError(msg, "cases")
+    if len(frame) > MAX_CASES:
+        raise ParameterError(f"{len(frame):,} cases is more than the {MAX_CASES:,} one call "
+                             "takes; split the table", "cases")
+    if not len(frame):
+        raise ParameterError("the case table has no rows", "cases")
+    columns = [str(c) for c in frame.columns]
+    ids = (tuple(str(v) for v in frame["case"]) if "case" in columns
+           else tuple(str(i) for i in range(1, len(frame) + 1)))
+    if len(set(ids)) != len(ids):
+        raise ParameterError("the case column names a case twice; give each case its own "
+                             "name", "case")
+    names, units, data = [], [], []
+    for col in columns:
+        if col == "case":
+            continue
+        m = _HEADER.match(col)
+        if not m:
+            raise ParameterError(f"column {col!r}: write a parameter name with an optional "
+                                 "unit in brackets, e.g. 'k [kN/m]'", col)
+        name, unit = m.group(1), (m.group(2) or "")
+        if unit:
+            read_quantity(f"1 {unit}", name)  # a unit pint does not know is refused here
+        numbers = pd.to_numeric(frame[col], errors="coerce").to_numpy(dtype=float)
+        bad = np.nonzero(~np.isfinite(numbers))[0]
+        if bad.size:
+            i = int(bad[0])
+            raise ParameterError(f"column {col!r}, case {ids[i]}: {frame[col].iloc[i]!r} is "
+                                 "not a finite number", name)
+        names.append(name)
+        units.append(unit)
+        data.append(numbers)
+    if not names:
+        raise ParameterError("the case table has no parameter columns", "cases")
+    dupes = sorted({n for n in names if names.count(n) > 1})
+    if dupes:
+        raise ParameterError(f"parameter {dupes[0]!r} has two columns", dupes[0])
+    return CaseTable(ids, tuple(names), tuple(units), np.column_stack(data))
+
+
+def _read_file(pd, path: Path):
+    if not path.is_file():
+        raise ParameterError(f"no case table at {path}", "cases")
+    suffix = path.suffix.lower()
+    try:
+        if suffix == ".csv":
+            return pd.read_csv(path)
+        if suffix == ".parquet":
+            import_extra(("pyarrow",), "Parquet case tables", "cases")
+            return pd.read_parquet(path)
+    except (ValueError, OSError) as exc:
+        raise ParameterError(f"cannot read the case table {path.name}: {exc}", "cases") from exc
+    raise ParameterError(f"cannot tell the case table's format from {path.name!r}; end the "
+                         "name with .csv or .parquet", "cases")
