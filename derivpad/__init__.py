@@ -4,7 +4,7 @@ The supported names are listed in ``__all__``; everything else is internal.
 """
 
 from . import forcing
-from .cases import CaseResults, load_cases
+from .cases import CaseResults, case_grid, case_sample, load_cases
 from .core.model.derivation import Derivation
 from .core.engine import derive, derive_state_space
 from .core.model.problem import Problem
@@ -26,7 +26,7 @@ __all__ = sorted([
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
-    "VariableCoefficientError", "Verification", "VerificationFailedError", "derive", "derive_state_space", "explore",
+    "VariableCoefficientError", "Verification", "VerificationFailedError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",
     "forcing", "load_cases", "load_ipython_extension",
 ])
 

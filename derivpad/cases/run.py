@@ -30,11 +30,13 @@ __all__ = ["load_cases"]
 
 SAMPLE_FRACTION = 0.01
 SAMPLE_MINIMUM = 20
+PROGRESS_FROM = 500  # cases from which a run shows a progress bar (progress=None)
 
 
 def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=None,
                unknown=None, derived=None, regime: str = "underdamped", tolerances=None,
-               window=None, seed: int = 0, progress=None) -> CaseResults:
+               window=None, seed: int = 0, on_error: str = "raise",
+               progress=None) -> CaseResults:
     """Evaluate a calc for every case of a table; the envelope and its governing cases.
 
     Parameters
@@ -48,8 +50,12 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         Acceptance criteria judged for every case (``["peak <= 3 mm"]``).
     seed : int
         Seed of the random sample of cases checked by numerical integration.
-    progress : callable, optional
-        Called with (cases done, cases) now and then.
+    on_error : {"raise", "record"}
+        A case that cannot be evaluated (a bad value, a value no derivation holds for) stops
+        the run naming it ("raise"), or is kept as a row marked failed with the reason.
+    progress : None, bool or callable
+        None: a progress bar (tqdm) from 500 cases; True/False: always/never; a callable is
+        called with (cases done, cases).
 
     Returns
     -------
@@ -63,7 +69,7 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         A form's checks, or a sampled case's numerical integration, disagree with the closed
         form (the case is named).
     """
-    table = read_cases(cases)
+    table = read_cases(cases, on_error)
     judged = read_criteria(criteria)
     names = make_problem(equation, ics, None, unknown, None, derived).symbols
     stray = [n for n in table.names if n not in names]
@@ -71,40 +77,81 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         msg = (f"column {stray[0]!r} of the case table is not a parameter of the problem "
                f"(its parameters: {', '.join(names) or 'none'})")
         raise ParameterError(msg, stray[0])
+    good = [i for i in range(len(table)) if i not in table.failed]
+    if not good:
+        raise ParameterError("no case of the table can be evaluated: "
+                             + next(iter(table.failed.values())), "cases")
     params = dict(params or {})
     units = dict(units or {})
-    for name, unit in zip(table.names, table.units):
+    for j, (name, unit) in enumerate(zip(table.names, table.units)):
         if unit:
             units[name] = unit
-        params[name] = f"{float(table.values[0][table.names.index(name)])!r} {unit}".strip()
+        params[name] = f"{float(table.values[good[0]][j])!r} {unit}".strip()
     family = DerivationFamily(equation, ics, params, vary=table.names, unknown=unknown,
                               units=units or None, regime=regime, tolerances=tolerances,
                               window=window, derived=derived)
     rows, notes, forms, fallbacks = [], [], [], {}
-    n = len(table)
-    for i in range(n):
-        values = table.case(i)
+    tick = _progress(progress, len(table))
+    for i in range(len(table)):
+        tick(i)
+        if i in table.failed:
+            rows.append({})
+            notes.append(table.failed[i])
+            forms.append("failed")
+            continue
         try:
-            form, got, _ = family.numbers_at(values)
+            form, results = _case(family, table.case(i), fallbacks, i)
         except DerivpadError as exc:
-            raise type(exc)(f"case {table.ids[i]}: {exc}") from exc
-        if form is None:  # derived with its numbers, every check run (it raises on failure)
-            results = got.derivation.results
-            fallbacks[i] = got.derivation
-            forms.append("derived with its numbers")
-        else:
-            results = engineering_results(family.problem, got, None)
-            forms.append(form)
+            why = f"case {table.ids[i]}: {exc}"
+            if on_error == "raise":
+                exc.args = (why,)
+                exc.case = table.ids[i]
+                raise
+            rows.append({})
+            notes.append(why)
+            forms.append("failed")
+            continue
         row, note = _row(results, judge(judged, results))
         rows.append(row)
         notes.append(note)
-        if progress and (i + 1) % 1000 == 0:
-            progress(i + 1, n)
+        forms.append(form)
+    tick(len(table))
     frame = _frame(table, rows, notes, forms)
     units_of = _units(rows, table)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
     checked = _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances)
     return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked)
+
+
+def _case(family, values: dict, fallbacks: dict, i: int):
+    """(form, results) of one case: through its form's closed form, or derived with its
+    numbers (every check run) where no symbolic form covers it."""
+    form, got, _ = family.numbers_at(values)
+    if form is None:
+        fallbacks[i] = got.derivation
+        return "derived with its numbers", got.derivation.results
+    return form, engineering_results(family.problem, got, None)
+
+
+def _progress(progress, total: int):
+    """A callable ticked with the cases done: the caller's, a progress bar (tqdm, in the
+    terminal and the notebook) for long runs, or nothing."""
+    if callable(progress):
+        return lambda done: progress(done, total)
+    if progress is False or (progress is None and total < PROGRESS_FROM):
+        return lambda done: None
+    from ..errors import import_extra
+    (auto,) = import_extra(("tqdm.auto",), "the progress bar", "cases")
+    bar = auto.tqdm(total=total, unit="case", desc="load cases")
+    shown = [0]
+
+    def tick(done: int) -> None:
+        if done - shown[0] >= 100 or done == total:
+            bar.update(done - shown[0])
+            shown[0] = done
+            if done == total:
+                bar.close()
+    return tick
 
 
 def _row(results, judgements) -> tuple[dict, str]:
@@ -147,7 +194,8 @@ def _frame(table, rows, notes, forms):
     for row in rows:
         keys += [k for k in row if k not in keys]
     for key in keys:
-        data[key] = [row.get(key, (math.nan, ""))[0] for row in rows]
+        empty = "not evaluated" if key.endswith(": outcome") else math.nan
+        data[key] = [row.get(key, (empty, ""))[0] for row in rows]
     data["form"] = forms
     data["notes"] = notes
     return pd.DataFrame(data)
@@ -161,7 +209,8 @@ def _sample(n: int, seed: int) -> list[int]:
 def _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances):
     """The independent integration of the sampled and the governing cases against their
     closed forms; returns what was checked, in words, and raises on any disagreement."""
-    sample = set(_sample(len(table), seed))
+    evaluated = [i for i, form in enumerate(frame["form"]) if form != "failed"]
+    sample = {evaluated[k] for k in _sample(len(evaluated), seed)}
     index = {case: i for i, case in enumerate(table.ids)}
     governing = {index[c] for c in envelope["case of max"].tolist() + envelope["case of min"]
                  .tolist() if c in index}

@@ -8,7 +8,7 @@ number. The size is checked before anything is computed.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -38,6 +38,7 @@ class CaseTable:
     names: tuple
     units: tuple
     values: np.ndarray
+    failed: dict = field(default_factory=dict)  # row → why it cannot be evaluated
 
     def __len__(self) -> int:
         return len(self.ids)
@@ -47,8 +48,12 @@ class CaseTable:
         return {n: float(v) for n, v in zip(self.names, self.values[i])}
 
 
-def read_cases(cases) -> CaseTable:
-    """``cases=`` read into a :class:`CaseTable`, with a clear error for anything wrong."""
+def read_cases(cases, on_error: str = "raise") -> CaseTable:
+    """``cases=`` read into a :class:`CaseTable`, with a clear error for anything wrong; with
+    ``on_error="record"`` a row with a bad value is kept, marked failed with the reason."""
+    if on_error not in ("raise", "record"):
+        raise ParameterError(f"on_error must be 'raise' or 'record', not {on_error!r}",
+                             "on_error")
     pd = pandas()
     if isinstance(cases, (str, Path)):
         frame = _read_file(pd, Path(cases))
@@ -69,7 +74,7 @@ def read_cases(cases) -> CaseTable:
     if len(set(ids)) != len(ids):
         raise ParameterError("the case column names a case twice; give each case its own "
                              "name", "case")
-    names, units, data = [], [], []
+    names, units, data, failed = [], [], [], {}
     for col in columns:
         if col == "case":
             continue
@@ -81,11 +86,11 @@ def read_cases(cases) -> CaseTable:
         if unit:
             read_quantity(f"1 {unit}", name)  # a unit pint does not know is refused here
         numbers = pd.to_numeric(frame[col], errors="coerce").to_numpy(dtype=float)
-        bad = np.nonzero(~np.isfinite(numbers))[0]
-        if bad.size:
-            i = int(bad[0])
-            raise ParameterError(f"column {col!r}, case {ids[i]}: {frame[col].iloc[i]!r} is "
-                                 "not a finite number", name)
+        for i in np.nonzero(~np.isfinite(numbers))[0].tolist():
+            why = f"column {col!r}, case {ids[i]}: {frame[col].iloc[i]!r} is not a finite number"
+            if on_error == "raise":
+                raise ParameterError(why, name)
+            failed.setdefault(i, why)
         names.append(name)
         units.append(unit)
         data.append(numbers)
@@ -94,7 +99,7 @@ def read_cases(cases) -> CaseTable:
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
         raise ParameterError(f"parameter {dupes[0]!r} has two columns", dupes[0])
-    return CaseTable(ids, tuple(names), tuple(units), np.column_stack(data))
+    return CaseTable(ids, tuple(names), tuple(units), np.column_stack(data), failed)
 
 
 def _read_file(pd, path: Path):

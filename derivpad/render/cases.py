@@ -30,7 +30,9 @@ def _number(x) -> str:
 def _summary(r) -> list[str]:
     n = len(r.table)
     outcome = [c for c in r.table.columns if str(c).endswith(": outcome")]
-    lines = [f"{n} load cases"]
+    failed = int((r.table["form"] == "failed").sum())
+    lines = [f"{n} load cases" + (f", {failed} of them failed (see the notes column)"
+                                  if failed else "")]
     for c in outcome:
         bad = int((r.table[c] != "OK").sum())
         text = str(c)[: -len(": outcome")]

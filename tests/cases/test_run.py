@@ -110,3 +110,25 @@ def test_display_shows_summary_envelope_and_cautions():
     assert "qualified engineer" in bundle["text/plain"]
     html = bundle["text/html"]
     assert 'class="dp-envelope"' in html and "<details>" in html and "qualified engineer" in html
+
+
+def test_bad_rows_can_be_recorded_instead_of_stopping_the_run():
+    table = pd.DataFrame({"case": ["a", "b", "c"], "td [s]": [0.2, None, 0.6]})
+    with pytest.raises(ParameterError, match="case b"):
+        derivpad.load_cases(PULSE, ZERO, UNIT_PERIOD, cases=table)
+    r = derivpad.load_cases(PULSE, ZERO, UNIT_PERIOD, cases=table, on_error="record",
+                            criteria=["dynamic_load_factor <= 1.9"])
+    assert r.table["form"].tolist() == ["underdamped", "failed", "underdamped"]
+    assert "case b" in r.table["notes"][1] and math.isnan(r.table["peak"][1])
+    assert r.table["dynamic_load_factor <= 1.9: outcome"].tolist() == [
+        "OK", "not evaluated", "NOT OK"]
+    assert r.table["dynamic_load_factor"][0] == pytest.approx(2 * math.sin(0.2 * math.pi),
+                                                             rel=1e-12)
+    assert not r.all_ok and "1 of them failed" in r._repr_mimebundle_()["text/plain"]
+
+
+def test_progress_is_reported_to_a_callable():
+    seen = []
+    derivpad.load_cases(PULSE, ZERO, UNIT_PERIOD, cases=pd.DataFrame({"td [s]": [0.2, 0.3]}),
+                        progress=lambda done, total: seen.append((done, total)))
+    assert seen[0] == (0, 2) and seen[-1] == (2, 2)
