@@ -1,9 +1,10 @@
-"""The command line: ``derivpad demo``, ``solve``, ``package`` and ``audit``.
+"""The command line: ``derivpad demo``, ``solve``, ``cases``, ``package`` and ``audit``.
 
 Exit status: 0 for a verified answer; 3 for a derivation that was derived but is NOT VERIFIED
-(printed, marked so, with no engineering results); 2 for an error of the derivpad family (its
-message, never a traceback); 4 for an unexpected internal error (one line, no traceback). A
-closed output pipe (``derivpad demo | head``) ends quietly.
+(printed, marked so, with no engineering results); 1 for load cases of which a criterion is NOT
+OK in some case (or a case failed), and for a package or audit that does not hold; 2 for an
+error of the derivpad family (its message, never a traceback); 4 for an unexpected internal
+error (one line, no traceback). A closed output pipe (``derivpad demo | head``) ends quietly.
 """
 
 from __future__ import annotations
@@ -32,8 +33,8 @@ def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="derivpad",
         description="Step-by-step, self-checked Laplace-transform derivations of linear ODEs.",
-        epilog="Exit status: 0 verified; 1 package or audit does not hold; 2 input error; "
-               "3 derived but NOT VERIFIED; 4 internal error.")
+        epilog="Exit status: 0 verified; 1 a load case NOT OK or failed, or a package or audit "
+               "that does not hold; 2 input error; 3 derived but NOT VERIFIED; 4 internal error.")
     parser.add_argument("--version", action="version", version=f"derivpad {__version__}",
                         help="print the version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
@@ -73,6 +74,34 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
     solve.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
+    cases = sub.add_parser("cases", help="evaluate one ODE for every case of a table",
+                           description="Derive once per form and evaluate every case of a "
+                           "table (CSV or Parquet; a column per varied parameter, its unit in "
+                           "brackets: 'td [ms]'); print the envelope with its governing cases "
+                           "and each criterion's outcome. Exit status 1 when a criterion is "
+                           "NOT OK in any case or a case failed.")
+    cases.add_argument("equation", help="the ODE, e.g. \"m*x'' + k*x = F0*(u(t) - u(t - td))\"")
+    cases.add_argument("--table", required=True, metavar="PATH",
+                       help="the case table, .csv or .parquet")
+    cases.add_argument("--ic", action="append", default=[], metavar="COND",
+                       help="an initial condition at 0-, e.g. --ic \"x(0)=0\" (repeat)")
+    cases.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
+                       help="a value the table does not vary, e.g. --param m=\"900 kg\" "
+                            "(repeat)")
+    cases.add_argument("--unit", action="append", default=[], metavar="NAME=UNIT",
+                       help="display unit of the unknown or of t, e.g. --unit x=mm (repeat)")
+    cases.add_argument("--criterion", action="append", default=[], metavar="LIMIT",
+                       help="an acceptance criterion judged for every case, e.g. --criterion "
+                            "\"peak <= 3 mm\" (repeat)")
+    cases.add_argument("--out", metavar="PATH",
+                       help="write every case's results to this .csv or .parquet file")
+    cases.add_argument("--record-failures", action="store_true",
+                       help="keep a case that cannot be evaluated as a failed row (exit 1) "
+                            "instead of stopping at it")
+    cases.add_argument("--seed", type=int, default=0,
+                       help="seed of the sample of cases integrated independently (default 0)")
+    cases.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
+
     package = sub.add_parser("package", help="execute a calc notebook and write its package")
     package.add_argument("notebook", help="the calculation notebook (.ipynb)")
     package.add_argument("-o", "--output", default=".", help="folder to write the package in")
@@ -97,6 +126,32 @@ def _audit(args) -> tuple[str, int]:
     from .export.audit import audit_package
     result = audit_package(args.package, rerun=args.rerun, notebook=args.notebook)
     return f"Audit of {args.package}\n\n" + result.table(), 0 if result.holds else 1
+
+
+def _cases(args) -> int:
+    """``derivpad cases``: the envelope, each criterion's outcome, the verification."""
+    from pathlib import Path
+    from .cases import load_cases
+    from .render.cases import cases_text
+    out = Path(args.out) if args.out else None
+    if out is not None and out.suffix.lower() not in (".csv", ".parquet"):
+        raise ParameterError(f"cannot tell the format of --out {args.out!r}; end the name with "
+                             ".csv or .parquet", "out")
+    r = load_cases(args.equation, ics=_read_ics(args.ic),
+                   params=_read_pairs(args.param, "--param", "m=\"900 kg\""),
+                   units=_read_pairs(args.unit, "--unit", "x=mm"), cases=args.table,
+                   criteria=args.criterion, seed=args.seed,
+                   on_error="record" if args.record_failures else "raise", progress=None)
+    if out is not None:
+        (r.to_parquet if out.suffix.lower() == ".parquet" else r.to_csv)(out)
+    import textwrap
+    width = _width(args.width)
+    print("\n".join(textwrap.fill(line, width, subsequent_indent="      ")
+                    for line in cases_text(r).splitlines()))
+    if out is not None:
+        print(f"every case's results written to {out}")
+    failed = int((r.table["form"] == "failed").sum())
+    return 0 if r.all_ok and not failed else 1
 
 
 _IC = re.compile(r"^(.*\))\s*=\s*(.+)$")
@@ -236,6 +291,8 @@ def _main(argv=None) -> int:
             text, code = _audit(args)
             print(text)
             return code
+        if args.command == "cases":
+            return _cases(args)
         if args.command == "demo":
             from .demo import DEMO_TIMES, DEMO_TITLE, demo
             d = demo()

@@ -117,3 +117,26 @@ def test_solve_a_coupled_system_as_json(capsys):
     for row, (x1, x2) in zip(data["samples"], ref):
         assert abs(row["x1"] - x1) < 1e-9 and abs(row["x2"] - x2) < 1e-9
         assert abs(row["stroke"] - (x1 - x2)) < 1e-9
+
+
+def test_cases_prints_the_envelope_and_exits_1_when_a_case_is_not_ok(capsys, tmp_path):
+    # undamped pulse, T = 1 s: DLF 2 sin(π t_d/T) = 1.17557 at t_d = 0.2 s, 2 at 0.5 s
+    # (Harris' Shock and Vibration Handbook ch. 8, from memory)
+    (tmp_path / "cases.csv").write_text("case,td [ms]\nshort,200\nhalf,500\n")
+    args = ["cases", "m*x'' + k*x = F0*(u(t) - u(t - td))", "--ic", "x(0)=0", "--ic",
+            "x'(0)=0", "--param", "m=1 kg", "--param", "k=39.47841760435743 N/m", "--param",
+            "F0=1 N", "--table", str(tmp_path / "cases.csv"), "--out",
+            str(tmp_path / "out.parquet")]
+    assert main(args + ["--criterion", "dynamic_load_factor <= 1.9", "--width", "80"]) == 1
+    out = capsys.readouterr().out
+    assert "NOT OK in 1 of 2 cases" in out
+    assert "dynamic_load_factor: max 2 (case half), min 1.17557 (case short)" in out
+    assert all(len(line) <= 80 for line in out.splitlines() if str(tmp_path) not in line)
+    assert (tmp_path / "out.parquet").is_file()
+    assert main(args + ["--criterion", "dynamic_load_factor <= 2.1"]) == 0
+    capsys.readouterr()
+    assert main(args[:-2] + ["--out", str(tmp_path / "out.txt")]) == 2
+    assert "end the name with .csv or .parquet" in capsys.readouterr().err
+    (tmp_path / "bad.csv").write_text("case,td [ms]\nshort,x\n")
+    assert main(args[:-4] + ["--table", str(tmp_path / "bad.csv")]) == 2
+    assert "case short: 'x' is not a finite number" in capsys.readouterr().err
