@@ -52,12 +52,7 @@ def _parser() -> argparse.ArgumentParser:
                             "equations make a coupled system (one per unknown)")
     solve.add_argument("--derived", action="append", default=[], metavar="NAME=EXPR",
                        help="a quantity of the unknowns to report, e.g. stroke=x1-x2 (repeat)")
-    solve.add_argument("--ic", action="append", default=[], metavar="COND",
-                       help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
-    solve.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
-                       help="a parameter value, e.g. --param k=800 (repeat)")
-    solve.add_argument("--unit", action="append", default=[], metavar="NAME=UNIT",
-                       help="display unit of the unknown or of t, e.g. --unit x=mm (repeat)")
+    _problem_options(solve, "a parameter value, e.g. --param k=800 (repeat)")
     solve.add_argument("--value", action="append", default=[], metavar="NAME=VALUE",
                        help="a number for a symbolic parameter, used by the numerical checks "
                             "and results only (repeat)")
@@ -66,9 +61,6 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--unknown", help="the unknown's name, when no name carries primes")
     solve.add_argument("--regime", choices=("underdamped", "overdamped"), default="underdamped",
                        help="case taken for a symbolic quadratic of unknown discriminant sign")
-    solve.add_argument("--criterion", action="append", default=[], metavar="LIMIT",
-                       help="an acceptance criterion on a result, e.g. --criterion \"peak <= 3 mm\" "
-                            "(repeat); judged with units, OK / NOT OK")
     solve.add_argument("--at", action="append", type=float, default=[], metavar="T",
                        help="also print the solution's value at time T (repeat)")
     solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
@@ -83,16 +75,8 @@ def _parser() -> argparse.ArgumentParser:
     cases.add_argument("equation", help="the ODE, e.g. \"m*x'' + k*x = F0*(u(t) - u(t - td))\"")
     cases.add_argument("--table", required=True, metavar="PATH",
                        help="the case table, .csv or .parquet")
-    cases.add_argument("--ic", action="append", default=[], metavar="COND",
-                       help="an initial condition at 0-, e.g. --ic \"x(0)=0\" (repeat)")
-    cases.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
-                       help="a value the table does not vary, e.g. --param m=\"900 kg\" "
+    _problem_options(cases, "a value the table does not vary, e.g. --param m=\"900 kg\" "
                             "(repeat)")
-    cases.add_argument("--unit", action="append", default=[], metavar="NAME=UNIT",
-                       help="display unit of the unknown or of t, e.g. --unit x=mm (repeat)")
-    cases.add_argument("--criterion", action="append", default=[], metavar="LIMIT",
-                       help="an acceptance criterion judged for every case, e.g. --criterion "
-                            "\"peak <= 3 mm\" (repeat)")
     cases.add_argument("--out", metavar="PATH",
                        help="write every case's results to this .csv or .parquet file")
     cases.add_argument("--record-failures", action="store_true",
@@ -120,6 +104,20 @@ def _parser() -> argparse.ArgumentParser:
     audit.add_argument("--notebook", help="with --rerun: run this notebook instead of the "
                                           "packaged one (a working copy)")
     return parser
+
+
+def _problem_options(command, param_help: str) -> None:
+    """The options that state a problem, shared by ``solve`` and ``cases``: initial conditions,
+    parameter values, display units and acceptance criteria."""
+    command.add_argument("--ic", action="append", default=[], metavar="COND",
+                         help="an initial condition at 0-, e.g. --ic \"y'(0)=0\" (repeat)")
+    command.add_argument("--param", action="append", default=[], metavar="NAME=VALUE",
+                         help=param_help)
+    command.add_argument("--unit", action="append", default=[], metavar="NAME=UNIT",
+                         help="display unit of the unknown or of t, e.g. --unit x=mm (repeat)")
+    command.add_argument("--criterion", action="append", default=[], metavar="LIMIT",
+                         help="an acceptance criterion on a result, e.g. --criterion "
+                              "\"peak <= 3 mm\" (repeat); judged with units, OK / NOT OK")
 
 
 def _audit(args) -> tuple[str, int]:
