@@ -49,7 +49,8 @@ class CaseResults:
     its display unit, each criterion's utilisation and outcome, the form it used, and why a
     result has no value); ``envelope``: the largest and smallest value of each result with
     the case it comes from; ``forms``: (form, Derivation) for each form derived in symbols,
-    checked in full; ``units``: the unit of every column; ``verified``: what was checked.
+    checked in full; ``units``: the unit of every column; ``verified``: what was checked;
+    ``inputs``: the varied parameters' columns.
     """
 
     table: object
@@ -57,6 +58,7 @@ class CaseResults:
     forms: tuple
     units: MappingProxyType
     verified: tuple
+    inputs: tuple = ()
 
     def __post_init__(self):
         object.__setattr__(self, "units", MappingProxyType(dict(self.units)))
@@ -79,6 +81,13 @@ class CaseResults:
         """True when every criterion is OK in every case (True without criteria)."""
         cols = [c for c in self.table.columns if str(c).endswith(": outcome")]
         return all((self.table[c] == "OK").all() for c in cols)
+
+    def figure(self, result: str | None = None):
+        """A matplotlib Figure of ``result`` (default: the first criterion's result, else the
+        peak) against each input, the governing case marked, and the criterion's utilisation
+        (the notebook extra's matplotlib)."""
+        from ..render.cases import cases_figure
+        return cases_figure(self, result)
 
     def to_csv(self, path) -> Path:
         """Write the table as CSV (written whole or not at all)."""

@@ -120,7 +120,8 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     units_of = _units(rows, table)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
     checked = _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances)
-    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked)
+    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked,
+                       table.names)
 
 
 def _case(family, values: dict, fallbacks: dict, i: int):

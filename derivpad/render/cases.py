@@ -8,7 +8,7 @@ import math
 
 from .latex import CAUTION
 
-__all__ = ["cases_bundle", "cases_html", "cases_text"]
+__all__ = ["cases_bundle", "cases_figure", "cases_html", "cases_text"]
 
 HEAD_ROWS = 10
 
@@ -85,3 +85,54 @@ def cases_bundle(r, include=None, exclude=None) -> dict:
     makers = {"text/plain": lambda: cases_text(r), "text/html": lambda: cases_html(r)}
     return {m: make() for m, make in makers.items()
             if (include is None or m in include) and (exclude is None or m not in exclude)}
+
+
+def cases_figure(r, result: str | None = None, width: float = 7.5):
+    """A matplotlib Figure: ``result`` (default: the first criterion's result, else ``peak``)
+    against each input, one panel per input, the governing case marked; below, where a
+    criterion limits that result, its utilisation with the line where it is used up (1)."""
+    from ..errors import ParameterError, import_extra
+    (figure_module,) = import_extra(("matplotlib.figure",), "the load-case figure")
+    inputs = list(r.inputs)
+    outcomes = [str(c)[: -len(": outcome")] for c in r.table.columns
+                if str(c).endswith(": outcome")]
+    if result is None:
+        limited = [t.split()[0] for t in outcomes]
+        result = limited[0] if limited else "peak"
+    if result not in r.table.columns:
+        known = ", ".join(r.envelope["result"].tolist()[:12])
+        raise ParameterError(f"no result {result!r} in the table (results: {known}, …)", result)
+    uses = [t for t in outcomes if t.split()[0] == result]
+    rows = 2 if uses else 1
+    fig = figure_module.Figure(figsize=(width, 2.4 * rows + 0.5))
+    axes = fig.subplots(rows, len(inputs), squeeze=False)
+    # the governing case: the one that uses its criterion most, else the largest value
+    envelope = r.envelope.set_index("result")
+    key = f"{uses[0]}: utilisation" if uses else result
+    top = envelope.loc[key, "case of max"] if key in envelope.index else None
+    governing = r.table["case"] == top
+    unit = r.units.get(result, "")
+    for j, name in enumerate(inputs):
+        ax = axes[0][j]
+        ax.scatter(r.table[name], r.table[result], s=9, color="#1f3f8f", label="cases")
+        if governing.any():
+            ax.scatter(r.table[name][governing], r.table[result][governing], s=40,
+                       facecolors="none", edgecolors="#b3261e", linewidths=1.5,
+                       label=f"governing (case {top})")
+        ax.set_xlabel(name + (f" [{r.units[name]}]" if r.units.get(name) else ""))
+        if j == 0:
+            ax.set_ylabel(result + (f" [{unit}]" if unit else ""))
+            ax.legend(fontsize=7, frameon=False, loc="best")
+        ax.grid(True, lw=0.3, color="0.85")
+        for text in uses[:1]:
+            low = axes[1][j]
+            low.scatter(r.table[name], r.table[f"{text}: utilisation"], s=9, color="#1f3f8f")
+            low.axhline(1.0, color="#b3261e", lw=0.9, ls="--")
+            low.set_xlabel(name + (f" [{r.units[name]}]" if r.units.get(name) else ""))
+            if j == 0:
+                low.set_ylabel(f"utilisation of\n{text}", fontsize=8)
+            low.grid(True, lw=0.3, color="0.85")
+    fig.suptitle(f"{len(r.table)} load cases: {result} against the inputs", fontsize=9,
+                 x=0.02, ha="left")
+    fig.tight_layout()
+    return fig
