@@ -84,6 +84,9 @@ def _parser() -> argparse.ArgumentParser:
                             "instead of stopping at it")
     cases.add_argument("--seed", type=int, default=0,
                        help="seed of the sample of cases integrated independently (default 0)")
+    cases.add_argument("--scheduler", metavar="WHERE",
+                       help="run the chunks of cases on Dask: 'processes' for all local cores, "
+                            "or a scheduler address such as tcp://host:8786 (the scale extra)")
     cases.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
     package = sub.add_parser("package", help="execute a calc notebook and write its package")
@@ -139,7 +142,8 @@ def _cases(args) -> int:
                    params=_read_pairs(args.param, "--param", "m=\"900 kg\""),
                    units=_read_pairs(args.unit, "--unit", "x=mm"), cases=args.table,
                    criteria=args.criterion, seed=args.seed,
-                   on_error="record" if args.record_failures else "raise", progress=None)
+                   on_error="record" if args.record_failures else "raise", progress=None,
+                   scheduler=args.scheduler)
     if out is not None:
         (r.to_parquet if out.suffix.lower() == ".parquet" else r.to_csv)(out)
     import textwrap

@@ -35,8 +35,8 @@ PROGRESS_FROM = 500  # cases from which a run shows a progress bar (progress=Non
 
 def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=None,
                unknown=None, derived=None, regime: str = "underdamped", tolerances=None,
-               window=None, seed: int = 0, on_error: str = "raise",
-               progress=None) -> CaseResults:
+               window=None, seed: int = 0, on_error: str = "raise", progress=None,
+               scheduler=None) -> CaseResults:
     """Evaluate a calc for every case of a table; the envelope and its governing cases.
 
     Parameters
@@ -56,6 +56,10 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     progress : None, bool or callable
         None: a progress bar (tqdm) from 500 cases; True/False: always/never; a callable is
         called with (cases done, cases).
+    scheduler : None, "processes", str or distributed.Client
+        Where the chunks of cases run: in this process (None); on all local cores through
+        Dask's process scheduler ("processes"); on a Dask cluster, by its address
+        ("tcp://host:8786") or a ``distributed.Client`` (the scale extra).
 
     Returns
     -------
@@ -87,49 +91,118 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         if unit:
             units[name] = unit
         params[name] = f"{float(table.values[good[0]][j])!r} {unit}".strip()
-    family = DerivationFamily(equation, ics, params, vary=table.names, unknown=unknown,
-                              units=units or None, regime=regime, tolerances=tolerances,
-                              window=window, derived=derived)
-    rows, notes, forms, fallbacks = [], [], [], {}
-    tick = _progress(progress, len(table))
-    for i in range(len(table)):
-        tick(i)
-        if i in table.failed:
+    spec = dict(equation=equation, ics=ics, params=params, vary=table.names, unknown=unknown,
+                units=units or None, regime=regime, tolerances=tolerances, window=window,
+                derived=derived)
+    family = _family(spec)
+    rows, notes, forms = _evaluate(spec, family, table, judged, on_error, progress, scheduler)
+    for form in dict.fromkeys(forms):  # each form checked in full here too (for .forms)
+        if form in _FORMS and form not in family.verified:
+            family.numbers_at(table.case(forms.index(form)))
+    frame = _frame(table, rows, notes, forms)
+    units_of = _units(rows, table)
+    envelope = envelope_of(frame, units_of, table.ids, table.names)
+    checked = _integration_sample(family, table, frame, envelope, seed, tolerances)
+    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked,
+                       table.names)
+
+
+CHUNK = 500  # cases per chunk: the unit of work of a worker
+_FORMS = ("underdamped", "overdamped")
+_FAMILIES: dict = {}  # per process: the family of each problem, derived once
+
+
+def _family(spec: dict) -> DerivationFamily:
+    """The problem's DerivationFamily, made once per process (a worker reuses it for every
+    chunk of the same problem)."""
+    key = repr(sorted(spec.items(), key=lambda kv: kv[0]))
+    if key not in _FAMILIES:
+        if len(_FAMILIES) > 8:
+            _FAMILIES.clear()
+        args = dict(spec)
+        _FAMILIES[key] = DerivationFamily(args.pop("equation"), args.pop("ics"),
+                                          args.pop("params"), **args)
+    return _FAMILIES[key]
+
+
+def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str):
+    """A chunk of cases: (rows, notes, forms). A pure function of its arguments, so that any
+    worker can run any chunk; the family is derived once per process."""
+    family = _family(spec)
+    names = spec["vary"]
+    rows, notes, forms = [], [], []
+    for i, case in enumerate(ids):
+        if i in failed:
             rows.append({})
-            notes.append(table.failed[i])
+            notes.append(failed[i])
             forms.append("failed")
             continue
         try:
-            form, results = _case(family, table.case(i), fallbacks, i)
+            form, results = _case(family, dict(zip(names, (float(v) for v in values[i]))))
         except DerivpadError as exc:
-            why = f"case {table.ids[i]}: {exc}"
+            why = f"case {case}: {exc}"
             if on_error == "raise":
                 exc.args = (why,)
-                exc.case = table.ids[i]
+                exc.case = case
                 raise
             rows.append({})
             notes.append(why)
             forms.append("failed")
             continue
-        row, note = _row(results, judge(judged, results))
+        row, note = _row(results, judge(criteria, results))
         rows.append(row)
         notes.append(note)
         forms.append(form)
-    tick(len(table))
-    frame = _frame(table, rows, notes, forms)
-    units_of = _units(rows, table)
-    envelope = envelope_of(frame, units_of, table.ids, table.names)
-    checked = _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances)
-    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked,
-                       table.names)
+    return rows, notes, forms
 
 
-def _case(family, values: dict, fallbacks: dict, i: int):
+def _chunks(table):
+    for start in range(0, len(table), CHUNK):
+        stop = min(start + CHUNK, len(table))
+        failed = {i - start: why for i, why in table.failed.items() if start <= i < stop}
+        yield table.ids[start:stop], table.values[start:stop], failed
+
+
+def _evaluate(spec, family, table, criteria, on_error, progress, scheduler):
+    """Every case, chunk by chunk: here (``scheduler=None``), or on Dask — "processes" for
+    all local cores, a scheduler address or a ``distributed.Client`` for a cluster."""
+    rows, notes, forms = [], [], []
+    tick = _progress(progress, len(table))
+    if scheduler is None:
+        for ids, values, failed in _chunks(table):
+            tick(len(rows))
+            r, n, f = evaluate_chunk(spec, ids, values, failed, criteria, on_error)
+            rows += r
+            notes += n
+            forms += f
+        tick(len(rows))
+        return rows, notes, forms
+    from ..errors import import_extra
+    (dask,) = import_extra(("dask",), "load cases on Dask", "scale")
+    client = scheduler
+    if isinstance(scheduler, str) and scheduler != "processes":
+        (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
+        client = distributed.Client(scheduler)
+    tasks = [dask.delayed(evaluate_chunk, pure=True)(spec, ids, values, failed, criteria,
+                                                     on_error)
+             for ids, values, failed in _chunks(table)]
+    try:
+        for r, n, f in dask.compute(*tasks, scheduler=client):
+            rows += r
+            notes += n
+            forms += f
+            tick(len(rows))
+    finally:
+        if client is not scheduler:
+            client.close()
+    return rows, notes, forms
+
+
+def _case(family, values: dict):
     """(form, results) of one case: through its form's closed form, or derived with its
     numbers (every check run) where no symbolic form covers it."""
     form, got, _ = family.numbers_at(values)
     if form is None:
-        fallbacks[i] = got.derivation
         return "derived with its numbers", got.derivation.results
     return form, engineering_results(family.problem, got, None)
 
@@ -207,7 +280,7 @@ def _sample(n: int, seed: int) -> list[int]:
     return sorted(random.Random(seed).sample(range(n), size))
 
 
-def _integration_sample(family, table, frame, envelope, fallbacks, seed, tolerances):
+def _integration_sample(family, table, frame, envelope, seed, tolerances):
     """The independent integration of the sampled and the governing cases against their
     closed forms; returns what was checked, in words, and raises on any disagreement."""
     evaluated = [i for i, form in enumerate(frame["form"]) if form != "failed"]
@@ -219,10 +292,10 @@ def _integration_sample(family, table, frame, envelope, fallbacks, seed, toleran
     worst = 0.0
     done = 0
     for i in sorted(sample | governing):
-        if i in fallbacks:  # derived with its numbers: every check ran already
+        form, numbers, _ = family.numbers_at(table.case(i))
+        if form is None:  # derived with its numbers: every check ran (it raises on failure)
             done += 1
             continue
-        _, numbers, _ = family.numbers_at(table.case(i))
         end = window_end(numbers.every_pole, list(numbers.breakpoints), family._args["window"])
         checks, _ = independent_checks(numbers, tol, end)
         for c in checks:

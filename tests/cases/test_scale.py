@@ -1,0 +1,46 @@
+"""The same chunks on Dask: a LocalCluster of two worker processes, and Dask's process
+scheduler, give the table of the run in this process (reference: that run, itself checked
+against the rectangular-pulse load factor in test_run.py)."""
+
+import math
+
+import pandas as pd
+import pytest
+
+import derivpad
+
+distributed = pytest.importorskip("distributed")
+
+PULSE = "m*x'' + k*x = F0*(u(t) - u(t - td))"
+ZERO = {"x(0)": 0, "x'(0)": 0}
+PARAMS = {"m": "1 kg", "k": f"{4 * math.pi ** 2!r} N/m", "F0": "1 N"}
+
+
+@pytest.fixture(scope="module")
+def grid():
+    # more than one chunk (CHUNK = 500 would make one; the chunk size is lowered below)
+    return derivpad.case_grid({"td [ms]": [50, 150, 250, 350, 450, 550, 700, 900],
+                               "m [kg]": [0.85, 1.0, 1.15]})
+
+
+def _run(grid, **options):
+    return derivpad.load_cases(PULSE, ZERO, PARAMS, cases=grid,
+                               criteria=["dynamic_load_factor <= 1.9"], **options)
+
+
+def test_a_local_cluster_gives_the_same_table(grid, monkeypatch):
+    from derivpad.cases import run
+    monkeypatch.setattr(run, "CHUNK", 5)
+    here = _run(grid)
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  dashboard_address=None) as cluster, \
+            distributed.Client(cluster) as client:
+        there = _run(grid, scheduler=client)
+    pd.testing.assert_frame_equal(here.table, there.table)
+    pd.testing.assert_frame_equal(here.envelope, there.envelope)
+
+
+def test_dask_process_scheduler_gives_the_same_table(grid, monkeypatch):
+    from derivpad.cases import run
+    monkeypatch.setattr(run, "CHUNK", 8)
+    pd.testing.assert_frame_equal(_run(grid).table, _run(grid, scheduler="processes").table)
