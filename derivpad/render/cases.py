@@ -11,6 +11,20 @@ from .latex import CAUTION
 __all__ = ["cases_bundle", "cases_figure", "cases_html", "cases_text"]
 
 HEAD_ROWS = 10
+HEAD_RESULTS = ("peak", "time_of_peak", "dynamic_load_factor", "settling_time_2pct")
+"""The results the view's table shows (every column is in ``CaseResults.table``)."""
+
+
+def _head_columns(r) -> list:
+    """Case, inputs, the key results (a system's per unknown), the criteria, the form."""
+    cols = [str(c) for c in r.table.columns]
+    shown = [c for c in HEAD_RESULTS if c in cols]
+    if not shown:  # a system: its results carry the unknown's or quantity's name
+        shown = [c for c in cols for base in HEAD_RESULTS if c.startswith(base + "_")
+                 and not c.endswith(("_primary", "_residual")) and
+                 not any(c.startswith(b + "_") for b in HEAD_RESULTS if len(b) > len(base))]
+    judged = [c for c in cols if c.endswith((": utilisation", ": outcome"))]
+    return ["case", *r.inputs, *shown, *judged, "form"]
 
 
 def _e(text) -> str:
@@ -74,9 +88,9 @@ def cases_html(r) -> str:
     for form, d in r.forms:
         parts.append(f"<details><summary>The {_e(form)} form, derived once in symbols and "
                      f"checked in full</summary>{to_html(d)}</details>")
-    shown = r.table.head(HEAD_ROWS)
-    parts.append(f"<p><b>Cases</b> (first {len(shown)} of {len(r.table)})</p>"
-                 + _table(shown, dict(r.units)))
+    shown = r.table.head(HEAD_ROWS)[_head_columns(r)]
+    parts.append(f"<p><b>Cases</b> (first {len(shown)} of {len(r.table)}; every result of "
+                 "every case is in <code>.table</code>)</p>" + _table(shown, dict(r.units)))
     parts.append(f'<p class="dp-caution"><b>Caution.</b> {_e(CAUTION)}</p></div>')
     return "\n".join(parts)
 
