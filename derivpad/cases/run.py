@@ -107,7 +107,7 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
                        table.names)
 
 
-CHUNK = 500  # cases per chunk: the unit of work of a worker
+CHUNK = 500  # cases per chunk at most: the unit of work of a worker
 _FORMS = ("underdamped", "overdamped")
 _FAMILIES: dict = {}  # per process: the family of each problem, derived once
 
@@ -157,8 +157,11 @@ def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: st
 
 
 def _chunks(table):
-    for start in range(0, len(table), CHUNK):
-        stop = min(start + CHUNK, len(table))
+    """The table in chunks of at most CHUNK cases, at least 16 chunks where the table allows
+    (25 cases or more each), so that every core of a machine gets work."""
+    size = min(CHUNK, max(25, math.ceil(len(table) / 16)))
+    for start in range(0, len(table), size):
+        stop = min(start + size, len(table))
         failed = {i - start: why for i, why in table.failed.items() if start <= i < stop}
         yield table.ids[start:stop], table.values[start:stop], failed
 

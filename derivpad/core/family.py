@@ -15,6 +15,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+import sympy as sp
+
 
 from ..errors import DerivpadError, ParameterError
 from .model.derivation import Derivation
@@ -91,6 +93,7 @@ class DerivationFamily:
         self._why_not = ""
         self._compiled: dict = {}
         self.verified: dict = {}  # form → its derivation, checked in full at its first values
+        self._tests: dict = {}    # form → its conditions compiled for numbers
         self.start = start
         # symbolic switching times are ordered as at the starting values
         self._order = parameter_values(self.problem, start)
@@ -138,6 +141,15 @@ class DerivationFamily:
                      window=self._args["window"], model=model, on_failure="return")
         return d if d.verification.passed else None
 
+    def _holds(self, regime: str, stages, value_map: dict) -> bool:
+        """``form_holds`` decided in floating point where the margin is plain, exactly (SymPy)
+        where a condition or two switching times come within 1e-9 of equality: a form is
+        never taken on its boundary (exactly critical damping) by rounding."""
+        if regime not in self._tests:
+            self._tests[regime] = _FormTest(stages, tuple(value_map))
+        verdict = self._tests[regime](value_map)
+        return form_holds(stages, value_map) if verdict is None else verdict
+
     def numbers_at(self, values: dict):
         """The numbers of the derivation at ``values`` without building its record: (form,
         Numbers, value map) through a form derived in symbols whose conditions hold there and
@@ -148,7 +160,7 @@ class DerivationFamily:
         order = (self._regime,) + tuple(r for r in _REGIMES if r != self._regime)
         for regime in order:
             stages = self._stages(regime)
-            if stages is None or not form_holds(stages, value_map):
+            if stages is None or not self._holds(regime, stages, value_map):
                 continue
             if regime not in self.verified:
                 d = self._derived_in_symbols(regime, value_map)
@@ -189,6 +201,58 @@ class DerivationFamily:
                                 + self._why_not + "): derived with the numbers", True)
         return FamilyMember(d, "no symbolic form holds at these values (e.g. exactly on a "
                                "regime boundary): derived with the numbers", True)
+
+
+class _FormTest:
+    """A form's stated conditions and switching times compiled once for numbers: True or
+    False where every margin is plain, None where one is within 1e-9 of equality (then the
+    exact test decides)."""
+
+    _RELATIONS = {sp.StrictLessThan: lambda d: d < 0, sp.LessThan: lambda d: d <= 0,
+                  sp.StrictGreaterThan: lambda d: d > 0, sp.GreaterThan: lambda d: d >= 0,
+                  sp.Unequality: lambda d: d != 0}
+
+    def __init__(self, stages, names: tuple):
+        args = [sp.Symbol(n, positive=True) for n in names]
+        self._names = names
+        self._conditions = []
+        self._exact_only = False
+        for c in stages.conditions:
+            test = self._RELATIONS.get(type(c))
+            if test is None:
+                self._exact_only = True
+                continue
+            diff = c.lhs - c.rhs
+            self._conditions.append((sp.lambdify(args, diff, modules="math"),
+                                     sp.lambdify(args, _size(diff), modules="math"), test))
+        self._times = [sp.lambdify(args, sp.Integer(0) + b, modules="math")
+                       for b in stages.breakpoints]
+
+    def __call__(self, value_map: dict):
+        if self._exact_only:
+            return None
+        try:
+            nums = [float(value_map[n]) for n in self._names]
+            for value, size, test in self._conditions:
+                d = float(value(*nums))
+                if not abs(d) > 1e-9 * abs(float(size(*nums))):
+                    return None
+                if not test(d):
+                    return False
+            times = [float(t(*nums)) for t in self._times]
+        except (KeyError, TypeError, ValueError, ZeroDivisionError, OverflowError):
+            return None
+        gaps = [b - a for a, b in zip(times, times[1:])]
+        if any(not abs(g) > 1e-9 * max(abs(a), abs(b)) for g, a, b in
+               zip(gaps, times, times[1:])) or any(not t > 0 for t in times[:1]):
+            return None
+        return all(g > 0 for g in gaps)
+
+
+def _size(expr: sp.Expr) -> sp.Expr:
+    """Σ|terms| of an expression: the scale its value is judged against."""
+    terms = sp.Add.make_args(sp.expand(expr))
+    return sp.Add(*[sp.Abs(t) for t in terms])
 
 
 def what_changed(before: Derivation | None, after: Derivation) -> list[str]:
