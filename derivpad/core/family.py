@@ -130,7 +130,7 @@ class DerivationFamily:
         """The form's derivation at these values, or None where the form does not hold or
         does not verify there."""
         stages = self._stages(regime)
-        if stages is None or not form_holds(stages, value_map):
+        if stages is None or not self._holds(regime, stages, value_map):
             return None
         if regime not in self._compiled:  # checked and compiled once, at values it holds for
             own = engine_check(self.problem, stages, self._tolerances.get("back_substitution"),
