@@ -103,8 +103,8 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     units_of = _units(rows, table)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
     checked = _integration_sample(family, table, frame, envelope, seed, tolerances)
-    return CaseResults(frame, envelope, tuple(family.verified.items()), units_of, checked,
-                       table.names)
+    used = tuple((f, d) for f, d in family.verified.items() if f in forms)
+    return CaseResults(frame, envelope, used, units_of, checked, table.names)
 
 
 CHUNK = 500  # cases per chunk at most: the unit of work of a worker

@@ -17,7 +17,6 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-
 from ..errors import DerivpadError, ParameterError
 from .model.derivation import Derivation
 from .engine import (check_options, compile_numbers, complete, derive, engine_check, form_holds,
