@@ -3,8 +3,6 @@ forms derived, and what was verified."""
 
 from __future__ import annotations
 
-import os
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from types import MappingProxyType
@@ -12,6 +10,7 @@ from types import MappingProxyType
 import numpy as np
 
 from ..errors import ExportError, ParameterError
+from .store import publish
 from .table import pandas
 
 __all__ = ["CaseResults", "envelope_of"]
@@ -113,12 +112,4 @@ class CaseResults:
 def _atomic(path: Path, write) -> Path:
     if not path.parent.is_dir():
         raise ExportError(f"no folder {path.parent} to write {path.name} in")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
-    os.close(fd)
-    try:
-        write(tmp)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return path
+    return publish(path, write)

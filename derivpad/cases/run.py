@@ -13,8 +13,10 @@ case is compared with the closed form; any disagreement stops the run, naming th
 
 from __future__ import annotations
 
+import hashlib
 import math
 import random
+from pathlib import Path
 
 from ..core.checking.acceptance import judge, read_criteria
 from ..core.checking.numeric_checks import NUMERIC_TOLERANCES, independent_checks
@@ -24,6 +26,7 @@ from ..core.family import DerivationFamily
 from ..core.reading.read_problem import make_problem
 from ..errors import DerivpadError, ParameterError, VerificationFailedError
 from .results import CaseResults, envelope_of
+from .store import ChunkStore, publish
 from .table import pandas, read_cases
 
 __all__ = ["load_cases"]
@@ -36,7 +39,7 @@ PROGRESS_FROM = 500  # cases from which a run shows a progress bar (progress=Non
 def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=None,
                unknown=None, derived=None, regime: str = "underdamped", tolerances=None,
                window=None, seed: int = 0, on_error: str = "raise", progress=None,
-               scheduler=None) -> CaseResults:
+               scheduler=None, store=None) -> CaseResults:
     """Evaluate a calc for every case of a table; the envelope and its governing cases.
 
     Parameters
@@ -60,6 +63,11 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         Where the chunks of cases run: in this process (None); on all local cores through
         Dask's process scheduler ("processes"); on a Dask cluster, by its address
         ("tcp://host:8786") or a ``distributed.Client`` (the scale extra).
+    store : path, optional
+        A folder that keeps every finished chunk (Parquet, each written whole or not at all):
+        a run that stops and is started again with the same folder computes only the chunks
+        not yet done. The finished table is published there as ``cases.parquet`` and the
+        envelope as ``envelope.csv``. On a cluster the workers must see the folder.
 
     Returns
     -------
@@ -95,7 +103,12 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
                 units=units or None, regime=regime, tolerances=tolerances, window=window,
                 derived=derived)
     family = _family(spec)
-    rows, notes, forms = _evaluate(spec, family, table, judged, on_error, progress, scheduler)
+    chunks = None
+    if store is not None:
+        chunks = (str(store), _run_key(spec, judged, on_error))
+        ChunkStore(*chunks)  # the folder made (or refused) before any work
+    rows, notes, forms = _evaluate(spec, family, table, judged, on_error, progress, scheduler,
+                                   chunks)
     for form in dict.fromkeys(forms):  # each form checked in full here too (for .forms)
         if form in _FORMS and form not in family.verified:
             family.numbers_at(table.case(forms.index(form)))
@@ -104,7 +117,11 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     envelope = envelope_of(frame, units_of, table.ids, table.names)
     checked = _integration_sample(family, table, frame, envelope, seed, tolerances)
     used = tuple((f, d) for f, d in family.verified.items() if f in forms)
-    return CaseResults(frame, envelope, used, units_of, checked, table.names)
+    result = CaseResults(frame, envelope, used, units_of, checked, table.names)
+    if store is not None:  # the whole run published, each file by a rename
+        result.to_parquet(Path(store) / "cases.parquet")
+        publish(Path(store) / "envelope.csv", lambda p: envelope.to_csv(p, index=False))
+    return result
 
 
 CHUNK = 500  # cases per chunk at most: the unit of work of a worker
@@ -156,6 +173,29 @@ def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: st
     return rows, notes, forms
 
 
+def run_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str, store=None):
+    """A chunk through the store (``(folder, run key)``): loaded if it was finished before,
+    else evaluated and kept; without a store, evaluated."""
+    if store is None:
+        return evaluate_chunk(spec, ids, values, failed, criteria, on_error)
+    chunks = ChunkStore(*store)
+    key = chunks.key(ids, values, failed)
+    found = chunks.load(key)
+    if found is not None:
+        return found
+    result = evaluate_chunk(spec, ids, values, failed, criteria, on_error)
+    chunks.save(key, result)
+    return result
+
+
+def _run_key(spec: dict, criteria, on_error: str) -> str:
+    """What a chunk's results depend on besides its rows, as a hash."""
+    from .. import __version__
+    text = repr((sorted(spec.items(), key=lambda kv: kv[0]), [c.text for c in criteria],
+                 on_error, __version__))
+    return hashlib.sha256(text.encode()).hexdigest()
+
+
 def _chunks(table):
     """The table in chunks of at most CHUNK cases, at least 16 chunks where the table allows
     (25 cases or more each), so that every core of a machine gets work."""
@@ -166,7 +206,7 @@ def _chunks(table):
         yield table.ids[start:stop], table.values[start:stop], failed
 
 
-def _evaluate(spec, family, table, criteria, on_error, progress, scheduler):
+def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, store):
     """Every case, chunk by chunk: here (``scheduler=None``), or on Dask — "processes" for
     all local cores, a scheduler address or a ``distributed.Client`` for a cluster."""
     rows, notes, forms = [], [], []
@@ -174,7 +214,7 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler):
     if scheduler is None:
         for ids, values, failed in _chunks(table):
             tick(len(rows))
-            r, n, f = evaluate_chunk(spec, ids, values, failed, criteria, on_error)
+            r, n, f = run_chunk(spec, ids, values, failed, criteria, on_error, store)
             rows += r
             notes += n
             forms += f
@@ -186,8 +226,8 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler):
     if isinstance(scheduler, str) and scheduler != "processes":
         (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
         client = distributed.Client(scheduler)
-    tasks = [dask.delayed(evaluate_chunk, pure=True)(spec, ids, values, failed, criteria,
-                                                     on_error)
+    tasks = [dask.delayed(run_chunk, pure=True)(spec, ids, values, failed, criteria, on_error,
+                                                store)
              for ids, values, failed in _chunks(table)]
     try:
         for r, n, f in dask.compute(*tasks, scheduler=client):

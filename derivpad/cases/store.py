@@ -1,0 +1,89 @@
+"""Finished chunks of load cases kept on disk, so that a run that stops resumes where it was.
+
+Each chunk's results go to ``<folder>/.chunks/<key>.parquet``, written whole or not at all
+(a temporary file, then a rename); the key is a hash of everything the chunk's results depend
+on — the problem, the criteria, ``on_error``, the derivpad version, and the chunk's case names,
+values and bad rows — so a chunk is never taken from a different run. A run given the same
+folder loads the chunks it finds and computes only the others. When the run is done, the whole
+table is published as ``<folder>/cases.parquet`` and the envelope as ``<folder>/envelope.csv``,
+each by a rename.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import ExportError, import_extra
+
+__all__ = ["ChunkStore"]
+
+
+class ChunkStore:
+    """The chunk files of one run under ``folder`` (made if missing)."""
+
+    def __init__(self, folder, run_key: str):
+        self.folder = Path(folder)
+        if self.folder.exists() and not self.folder.is_dir():
+            raise ExportError(f"store= {folder} is a file; give a folder for the chunks")
+        self.chunks = self.folder / ".chunks"
+        self.chunks.mkdir(parents=True, exist_ok=True)
+        self.run_key = run_key
+
+    def key(self, ids, values: np.ndarray, failed: dict) -> str:
+        h = hashlib.sha256(self.run_key.encode())
+        h.update(json.dumps([list(ids), sorted(failed.items())]).encode())
+        h.update(np.ascontiguousarray(values, dtype=float).tobytes())
+        return h.hexdigest()[:32]
+
+    def load(self, key: str):
+        """(rows, notes, forms) of a finished chunk, or None."""
+        path = self.chunks / f"{key}.parquet"
+        if not path.is_file():
+            return None
+        (pq,) = import_extra(("pyarrow.parquet",), "resuming load cases", "cases")
+        table = pq.read_table(path)
+        meta = json.loads(table.schema.metadata[b"derivpad"])
+        columns = {k: table.column(f"r:{k}").to_pylist() for k in meta["keys"]}
+        rows = [{k: (columns[k][i], meta["units"][k]) for k in meta["keys"]
+                 if columns[k][i] is not None} for i in range(table.num_rows)]
+        return rows, table.column("notes").to_pylist(), table.column("form").to_pylist()
+
+    def save(self, key: str, result) -> None:
+        """Write a finished chunk (whole or not at all)."""
+        (pa,) = import_extra(("pyarrow",), "keeping load-case chunks", "cases")
+        import pyarrow.parquet as pq
+        rows, notes, forms = result
+        keys: list = []
+        for row in rows:
+            keys += [k for k in row if k not in keys]
+        units = {k: next(row[k][1] for row in rows if k in row) for k in keys}
+        data = {f"r:{k}": pa.array([row[k][0] if k in row else None for row in rows])
+                for k in keys}
+        data.update(notes=pa.array(notes, pa.string()), form=pa.array(forms, pa.string()))
+        meta = {b"derivpad": json.dumps({"keys": keys, "units": units}).encode()}
+        table = pa.table(data).replace_schema_metadata(meta)
+        publish(self.chunks / f"{key}.parquet", lambda p: pq.write_table(table, p))
+
+    def done(self) -> int:
+        """How many chunk files there are."""
+        return len(list(self.chunks.glob("*.parquet")))
+
+
+def publish(path: Path, write) -> Path:
+    """Write ``path`` through a temporary file in its folder and a rename: a reader sees the
+    old file or the new one, never half of one."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
+    os.close(fd)
+    try:
+        write(tmp)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return path
