@@ -63,8 +63,7 @@ REC_MOUNT = record("Instrument cabinet on rubber mounts: handling shocks", "DEMO
                    "the mounts' stiffness tolerance, against 4 mm of sway space.", METHOD,
                    [("m", "120 kg", "cabinet weighing"),
                     ("k", "1.9 MN/m", "mount datasheet (four mounts; tolerance ±15 %)"),
-                    ("c", "1.5 kN*s/m", "mount datasheet (about 5 % damping)")],
-                   criteria=["peak <= 4 mm"])
+                    ("c", "1.5 kN*s/m", "mount datasheet (about 5 % damping)")])
 
 NOTEBOOKS = {
     "skid_surge_history.ipynb": [

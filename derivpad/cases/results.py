@@ -13,7 +13,10 @@ from ..errors import ExportError, ParameterError
 from .store import publish
 from .table import pandas
 
-__all__ = ["CaseResults", "envelope_of"]
+__all__ = ["CASES_FORMAT_VERSION", "CaseResults", "envelope_of"]
+
+CASES_FORMAT_VERSION = 1
+"""Version of the JSON form of CaseResults (``to_dict``)."""
 
 _NOT_RESULTS = ("case", "form", "notes")
 
@@ -81,6 +84,19 @@ class CaseResults:
         cols = [c for c in self.table.columns if str(c).endswith(": outcome")]
         return all((self.table[c] == "OK").all() for c in cols)
 
+    def to_dict(self) -> dict:
+        """The JSON form (the notebook's vendor output, read by the packager): the table by
+        column (NaN as null, ±inf as "inf"/"-inf"), the envelope, what was verified, and each
+        form's derivation in its own JSON form."""
+        return {"format": "derivpad.cases", "format_version": CASES_FORMAT_VERSION,
+                "inputs": list(self.inputs), "units": dict(self.units),
+                "table": {str(c): [_plain(v) for v in self.table[c].tolist()]
+                          for c in self.table.columns},
+                "envelope": [{k: _plain(v) for k, v in row.items()}
+                             for row in self.envelope.to_dict("records")],
+                "verified": list(self.verified),
+                "forms": [{"form": f, "derivation": d.to_dict()} for f, d in self.forms]}
+
     def figure(self, result: str | None = None):
         """A matplotlib Figure of ``result`` (default: the first criterion's result, else the
         peak) against each input, the governing case marked, and the criterion's utilisation
@@ -113,3 +129,17 @@ def _atomic(path: Path, write) -> Path:
     if not path.parent.is_dir():
         raise ExportError(f"no folder {path.parent} to write {path.name} in")
     return publish(path, write)
+
+
+def _plain(v):
+    """A JSON-safe value: numbers as Python numbers, NaN as None, ±inf as "inf"/"-inf"."""
+    if isinstance(v, (np.floating, float)):
+        v = float(v)
+        if v != v:
+            return None
+        if v in (float("inf"), float("-inf")):
+            return "inf" if v > 0 else "-inf"
+        return v
+    if isinstance(v, np.integer):
+        return int(v)
+    return v

@@ -190,9 +190,13 @@ def run_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str, st
 
 def _run_key(spec: dict, criteria, on_error: str) -> str:
     """What a chunk's results depend on besides its rows, as a hash."""
-    from .. import __version__
+    from importlib import metadata
+    try:
+        version = metadata.version("derivpad")
+    except metadata.PackageNotFoundError:  # run from a checkout that is not installed
+        version = "checkout"
     text = repr((sorted(spec.items(), key=lambda kv: kv[0]), [c.text for c in criteria],
-                 on_error, __version__))
+                 on_error, version))
     return hashlib.sha256(text.encode()).hexdigest()
 
 

@@ -117,6 +117,42 @@ def _compare(old: list, new: list, tolerance: float) -> list[tuple[str, str]]:
     return rows
 
 
+def _compare_cases(old: list, new: list, tolerance: float) -> list[tuple[str, str]]:
+    """Load-case runs: the number of cases, each criterion's outcome counts, and each
+    envelope value and its governing case."""
+    if len(old) != len(new):
+        return [("load cases", f"{len(old)} runs packaged, {len(new)} now")]
+    rows = []
+    for a, b in zip(old, new):
+        tag = a["id"]
+        if a["cases"] != b["cases"]:
+            rows.append((tag, f"{a['cases']} cases → {b['cases']}"))
+            continue
+        if a["outcomes"] != b["outcomes"]:
+            rows.append((f"{tag} outcomes", f"{a['outcomes']} → {b['outcomes']}"))
+        old_env = {r["result"]: r for r in a["envelope"]}
+        new_env = {r["result"]: r for r in b["envelope"]}
+        for key in sorted(set(old_env) | set(new_env)):
+            ra, rb = old_env.get(key), new_env.get(key)
+            if ra is None or rb is None:
+                rows.append((f"{tag} {key}", "only in " + ("the re-run" if ra is None else
+                                                            "the package")))
+                continue
+            for end in ("max", "min"):
+                x, y = ra[end], rb[end]
+                if ra[f"case of {end}"] != rb[f"case of {end}"]:
+                    rows.append((f"{tag} {key} {end}", f"case {ra[f'case of {end}']} → "
+                                                       f"{rb[f'case of {end}']}"))
+                elif isinstance(x, float) and isinstance(y, float):
+                    scale = max(abs(x), abs(y), 1e-300)
+                    if abs(x - y) > tolerance * scale:
+                        rows.append((f"{tag} {key} {end}", f"moved {x:.6g} → {y:.6g} "
+                                                           f"({(y - x) / scale:+.2e} relative)"))
+                elif x != y:
+                    rows.append((f"{tag} {key} {end}", f"{x} → {y}"))
+    return rows
+
+
 def _environment_rows(old: dict, new: dict) -> list[tuple[str, str]]:
     rows = []
     for key in ("python", "implementation", "platform", "machine"):
@@ -132,7 +168,7 @@ def _environment_rows(old: dict, new: dict) -> list[tuple[str, str]]:
 def audit_package(package, *, rerun: bool = False, notebook=None,
                   tolerance: float = RERUN_TOLERANCE) -> PackageAudit:
     """Check the manifest, show the record's status, and (``rerun``) reproduce the results."""
-    from .package import environment_info, results_records  # the same builders the package used
+    from .package import cases_records, environment_info, results_records  # as the package
     package = Path(package)
     manifest = audit_manifest(package)
     rows = tuple(manifest.rows())
@@ -142,7 +178,10 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
             if (folder / "record.json").is_file() else {}
         results = json.loads((folder / "results.json").read_text()) \
             if (folder / "results.json").is_file() else []
-        verified = bool(results) and all(r["verification"]["passed"] for r in results)
+        cases = json.loads((folder / "cases.json").read_text()) \
+            if (folder / "cases.json").is_file() else []
+        # load cases are packaged only when verified (a failed check stops the run)
+        verified = bool(results or cases) and all(r["verification"]["passed"] for r in results)
         status = (("calc number", record.get("calc_number", "?")),
                   ("revision", record.get("revision", "?")),
                   ("title", record.get("title", "?")),
@@ -161,7 +200,8 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
         from .notebook_io import execute_notebook
         calc = execute_notebook(notebook)
         new_results = results_records(calc.derivations)
-        moved = tuple(_compare(results, new_results, tolerance))
+        moved = tuple(_compare(results, new_results, tolerance)
+                      + _compare_cases(cases, cases_records(calc.cases), tolerance))
         env_old = json.loads((folder / "environment.json").read_text())
         env_rows = tuple(_environment_rows(env_old, environment_info(env_old.get("created", ""))))
         errors = tuple((f"code cell {f.cell}", f.what) for f in calc.failures)

@@ -16,6 +16,7 @@ from pathlib import Path
 from ..core.checking.acceptance import judge_calc
 from ..core.model.derivation import Derivation
 from ..errors import DerivpadError, ExportError, PackageRefusedError, import_extra
+from ..render.cases import CASES_MIME_TYPE
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
 
@@ -41,6 +42,8 @@ class ExecutedCalc:
     html: tuple[str, ...]
     cells: tuple[int, ...]        # the code cell each derivation came from
     failures: tuple[CellFailure, ...]
+    cases: tuple = ()             # each load-case run's JSON form (CaseResults.to_dict)
+    cases_html: tuple = ()        # and the HTML the notebook displayed for it
 
 
 def _libs():
@@ -71,12 +74,16 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
                 if out.output_type == "error":
                     failures.append(CellFailure(n, f"{out.ename}: {out.evalue}"))
     record, record_cell, derivations, html, cells = None, 0, [], [], []
+    cases, cases_html = [], []
     for n, cell in enumerate(code_cells, 1):
         for out in cell.outputs:
             data = out.get("data", {}) if out.output_type in ("display_data", "execute_result") \
                 else {}
             if RECORD_MIME_TYPE in data and record is None:
                 record, record_cell = dict(data[RECORD_MIME_TYPE]), n
+            if CASES_MIME_TYPE in data:
+                cases.append(dict(data[CASES_MIME_TYPE]))
+                cases_html.append(data.get("text/html", ""))
             if DERIVATION_MIME_TYPE in data:
                 d = Derivation.from_dict(dict(data[DERIVATION_MIME_TYPE]))
                 derivations.append(d)
@@ -91,7 +98,7 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
                                                    f"verified: {what}", unverified=True))
     derivations, problems = _judged_on_record(record, record_cell, derivations)
     return ExecutedCalc(nb, record, tuple(derivations), tuple(html), tuple(cells),
-                        tuple(failures + problems))
+                        tuple(failures + problems), tuple(cases), tuple(cases_html))
 
 
 def _judged_on_record(record, cell: int, derivations):

@@ -9,8 +9,10 @@ overwritten (``force`` moves it aside first), and a failure leaves nothing behin
 
 from __future__ import annotations
 
+import csv
 import datetime as _dt
 import importlib.metadata as _md
+import io
 import json
 import os
 import platform
@@ -93,6 +95,51 @@ def environment_info(created: str) -> dict:
             "machine": platform.machine(), "packages": versions}
 
 
+def cases_records(cases) -> list:
+    """Each load-case run's entry of cases.json (also what an audit re-run is compared on):
+    its size, forms, inputs and units, what was verified, each criterion's outcome counts and
+    the envelope with its governing cases."""
+    out = []
+    for i, c in enumerate(cases, 1):
+        table = c["table"]
+        outcomes = {col[: -len(": outcome")]: {v: table[col].count(v)
+                                               for v in sorted(set(table[col]), key=str)}
+                    for col in table if col.endswith(": outcome")}
+        out.append({"id": f"cases-{i}", "format_version": c.get("format_version", 1),
+                    "cases": len(table["case"]), "forms": sorted(set(table["form"])),
+                    "inputs": c["inputs"], "units": c["units"], "verified": c["verified"],
+                    "outcomes": outcomes, "envelope": c["envelope"]})
+    return out
+
+
+def _case_files(cases) -> dict[str, bytes]:
+    """Each load-case run's table as CSV (and as Parquet where pyarrow is installed) and its
+    envelope as CSV, under cases/."""
+    out = {}
+    for i, c in enumerate(cases, 1):
+        columns = list(c["table"])
+        out[f"cases/cases-{i}.csv"] = _csv(columns, zip(*(c["table"][k] for k in columns)))
+        env = list(c["envelope"][0]) if c["envelope"] else []
+        out[f"cases/envelope-{i}.csv"] = _csv(env, ([r[k] for k in env] for r in c["envelope"]))
+        try:
+            import pyarrow as pa
+            import pyarrow.parquet as pq
+        except ImportError:
+            continue
+        sink = io.BytesIO()
+        pq.write_table(pa.table({k: pa.array(v) for k, v in c["table"].items()}), sink)
+        out[f"cases/cases-{i}.parquet"] = sink.getvalue()
+    return out
+
+
+def _csv(header, rows) -> bytes:
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(header)
+    writer.writerows(["" if v is None else v for v in row] for row in rows)
+    return buffer.getvalue().encode("utf-8")
+
+
 def _figures(derivations) -> dict[str, bytes]:
     """Each derivation's verification figure, drawn from its samples: the checks are run
     again on the derivation read back from the notebook (deterministic, so the figure is the
@@ -146,8 +193,9 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
     if calc.record is None:
         raise PackageRefusedError("not packaged: the notebook displays no derivpad.CalcRecord; "
                                   "put one (with calc_number and revision) in its first cell")
-    if not calc.derivations:
-        raise PackageRefusedError("not packaged: the notebook displays no derivation")
+    if not calc.derivations and not calc.cases:
+        raise PackageRefusedError("not packaged: the notebook displays no derivation and no "
+                                  "load cases")
     if unverified and not allow_failed:
         raise PackageRefusedError("not packaged: " + "; ".join(
             f"code cell {f.cell}: {f.what}" for f in unverified)
@@ -168,6 +216,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         stage.mkdir()
         files = {"record.json": _json(calc.record).encode(),
                  "results.json": _json(results_records(calc.derivations)).encode(),
+                 **({"cases.json": _json(cases_records(calc.cases)).encode(),
+                     **_case_files(calc.cases)} if calc.cases else {}),
                  "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
                  "environment.json": _json(environment_info(created)).encode(),
                  notebook.name: _notebook_bytes(calc.notebook),
@@ -179,7 +229,9 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         say("writing report.html")
         report = stage / "report.html"
         report.write_text(report_html(calc.record, calc.derivations, calc.html,
-                                      verified=verified, created=created, page_size=page_size),
+                                      verified=verified, created=created, page_size=page_size,
+                                      cases=cases_records(calc.cases),
+                                      cases_fragments=calc.cases_html),
                           encoding="utf-8")
         if pdf:
             say("printing report.pdf")

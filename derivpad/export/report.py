@@ -51,7 +51,8 @@ h2.dp-section{border-bottom:1px solid #888;margin-top:1.4em}
 """
 
 _OPEN_ALL = ("<script>document.addEventListener('DOMContentLoaded',function(){"
-             "document.querySelectorAll('details.dp-step').forEach(function(d){d.open=true})});</script>")
+             "document.querySelectorAll('details.dp-step, details.dp-form')"
+             ".forEach(function(d){d.open=true})});</script>")
 
 
 def _e(text) -> str:
@@ -105,8 +106,39 @@ def _first_sheet(record, derivations) -> str:
     return '<div class="derivpad dp-first">' + "".join(out) + "</div>"
 
 
+def _cases_sheet(cases) -> str:
+    """Each load-case run on the first sheet: its size, forms, each criterion's outcome
+    counts and the envelope of its key results."""
+    out = []
+    for i, c in enumerate(cases, 1):
+        out.append(f"<h3>Load cases {i}: {c['cases']} cases ({_e(', '.join(c['forms']))})</h3>")
+        lines = []
+        for text, counts in c["outcomes"].items():
+            bad = c["cases"] - counts.get("OK", 0)
+            lines.append(f"{_e(text)}: " + ("<b>OK</b> in every case" if not bad else
+                                            f'<b class="dp-bad">NOT OK</b> in {bad} of '
+                                            f"{c['cases']} cases"))
+        if lines:
+            out.append("<ul>" + "".join(f"<li>{x}</li>" for x in lines) + "</ul>")
+        rows = [r for r in c["envelope"] if str(r["result"]).split("_")[0] in
+                {k.split("_")[0] for k in KEY_RESULTS} or str(r["result"]).endswith(
+                    ": utilisation")]
+        if rows:
+            out.append("<table><tr><th>Result</th><th>Max</th><th>Case</th><th>Min</th>"
+                       "<th>Case</th><th>Unit</th></tr>" + "".join(
+                           f"<tr><td>{_e(r['result'])}</td><td>{_e(_num(r['max']))}</td>"
+                           f"<td>{_e(r['case of max'])}</td><td>{_e(_num(r['min']))}</td>"
+                           f"<td>{_e(r['case of min'])}</td><td>{_e(r['unit'])}</td></tr>"
+                           for r in rows) + "</table>")
+    return '<div class="derivpad dp-first">' + "".join(out) + "</div>" if out else ""
+
+
+def _num(x) -> str:
+    return f"{x:.6g}" if isinstance(x, (int, float)) else str(x)
+
+
 def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
-                page_size: str = "A4") -> str:
+                page_size: str = "A4", cases=(), cases_fragments=()) -> str:
     """The report page: the first sheet (title block, purpose, inputs, key results against the
     acceptance criteria, status), contents, the rest of the record, the derivations with every
     step open, then assumptions, references and cautions; no heading without content."""
@@ -130,6 +162,8 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
         contents.append('<li><a href="#record">Calc record: method and revisions</a></li>')
     contents += [f'<li><a href="#derivation-{i}">Derivation {i}: {_e(d.problem.text)}'
                  "</a></li>" for i, d in enumerate(derivations, 1)]
+    contents += [f'<li><a href="#cases-{i}">Load cases {i}: {c["cases"]} cases</a></li>'
+                 for i, c in enumerate(cases, 1)]
     assumptions = list(record.get("assumptions", []))
     for d in derivations:
         assumptions += [a for a in d.assumptions if a not in assumptions]
@@ -144,11 +178,13 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
         contents.append('<li><a href="#assumptions">Assumptions and references</a></li>')
     contents.append('<li><a href="#cautions">Cautions</a></li></ol>')
     body = [("" if verified else '<div class="dp-unverified">NOT VERIFIED</div>'), cover,
-            _first_sheet(calc, derivations), "".join(contents)]
+            _first_sheet(calc, derivations), _cases_sheet(cases), "".join(contents)]
     if rest:
         body.append(f'<h2 class="dp-section dp-follows" id="record">Calc record</h2>{rest}')
     for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):
         body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
+    for i, fragment in enumerate(cases_fragments, 1):
+        body.append(f'<h2 class="dp-section" id="cases-{i}">Load cases {i}</h2>{fragment}')
     if assumptions or references:
         part = ['<h2 class="dp-section" id="assumptions">Assumptions and references</h2>']
         for label, items in (("Assumptions", assumptions), ("References", references)):

@@ -8,9 +8,19 @@ import math
 
 from .latex import CAUTION
 
-__all__ = ["cases_bundle", "cases_figure", "cases_html", "cases_text"]
+__all__ = ["CASES_MIME_TYPE", "cases_bundle", "cases_figure", "cases_html", "cases_text"]
+
+CASES_MIME_TYPE = "application/vnd.derivpad.cases+json"
+"""Our own type for the load-case results in a notebook's outputs (read by the packager)."""
 
 HEAD_ROWS = 10
+_STYLE = (".dp-cases-view table.dp-cases,.dp-cases-view table.dp-envelope{border-collapse:"
+          "collapse;font-size:.85em;margin:.3em 0}"
+          ".dp-cases-view .dp-cases td,.dp-cases-view .dp-cases th,.dp-cases-view .dp-envelope td,"
+          ".dp-cases-view .dp-envelope th{border:1px solid var(--jp-border-color2,#ccc);"
+          "padding:.1em .4em;text-align:left;vertical-align:top}"
+          "@media print{.dp-cases-view table.dp-cases,.dp-cases-view table.dp-envelope{"
+          "width:100%;table-layout:fixed;overflow-wrap:anywhere;font-size:7pt}}")
 HEAD_RESULTS = ("peak", "time_of_peak", "dynamic_load_factor", "settling_time_2pct")
 """The results the view's table shows (every column is in ``CaseResults.table``)."""
 
@@ -78,7 +88,7 @@ def _table(frame, units, css: str = "dp-cases") -> str:
 def cases_html(r) -> str:
     """The HTML view: summary, verification, envelope, forms (collapsed), table head."""
     from .html import to_html
-    parts = ['<div class="derivpad dp-cases-view">',
+    parts = ['<div class="derivpad dp-cases-view">', f"<style>{_STYLE}</style>",
              "<p><b>" + _e(_summary(r)[0]) + "</b></p>",
              "<ul>" + "".join(f"<li>{_e(x)}</li>" for x in _summary(r)[1:]) + "</ul>",
              "<p><b>Verified.</b></p><ul>"
@@ -86,7 +96,8 @@ def cases_html(r) -> str:
              "<p><b>Envelope</b> (largest and smallest value of each result, and the case it "
              "comes from)</p>", _table(r.envelope, {}, "dp-envelope")]
     for form, d in r.forms:
-        parts.append(f"<details><summary>The {_e(form)} form, derived once in symbols and "
+        parts.append(f'<details class="dp-form"><summary>The {_e(form)} form, derived once in '
+                     "symbols and "
                      f"checked in full</summary>{to_html(d)}</details>")
     shown = r.table.head(HEAD_ROWS)[_head_columns(r)]
     parts.append(f"<p><b>Cases</b> (first {len(shown)} of {len(r.table)}; every result of "
@@ -96,7 +107,8 @@ def cases_html(r) -> str:
 
 
 def cases_bundle(r, include=None, exclude=None) -> dict:
-    makers = {"text/plain": lambda: cases_text(r), "text/html": lambda: cases_html(r)}
+    makers = {"text/plain": lambda: cases_text(r), "text/html": lambda: cases_html(r),
+              CASES_MIME_TYPE: r.to_dict}
     return {m: make() for m, make in makers.items()
             if (include is None or m in include) and (exclude is None or m not in exclude)}
 

@@ -109,7 +109,8 @@ def test_display_shows_summary_envelope_and_cautions():
     assert "NOT OK in 1 of 2 cases" in bundle["text/plain"]
     assert "qualified engineer" in bundle["text/plain"]
     html = bundle["text/html"]
-    assert 'class="dp-envelope"' in html and "<details>" in html and "qualified engineer" in html
+    assert 'class="dp-envelope"' in html and '<details class="dp-form">' in html
+    assert "qualified engineer" in html
 
 
 def test_bad_rows_can_be_recorded_instead_of_stopping_the_run():

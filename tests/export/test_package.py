@@ -190,3 +190,25 @@ def test_page_style_names_the_calc_and_the_paper():
     assert 'counter(page) " of " counter(pages)' in css
     with pytest.raises(ExportError, match="page size"):
         make_package(EXAMPLES / "relay_coil_current.ipynb", ".", page_size="A3", **quiet)
+
+
+def test_a_load_case_calc_packages_its_table_envelope_and_audits(tmp_path):
+    # the cabinet example: nine cases; the package holds the table (CSV, Parquet), the
+    # envelope, cases.json and a report with the cases on the first sheet; a re-run compares
+    # the envelope and the criteria's outcomes
+    from derivpad.export.audit import audit_package
+    result = make_package(EXAMPLES / "mount_shock_cases.ipynb", tmp_path, pdf=False, **quiet)
+    assert result.verified
+    folder = result.folder
+    (entry,) = json.loads((folder / "cases.json").read_text())
+    assert entry["cases"] == 9 and entry["forms"] == ["underdamped"]
+    assert entry["outcomes"] == {"peak <= 4 mm": {"OK": 9}}
+    peak = next(r for r in entry["envelope"] if r["result"] == "peak")
+    assert peak["case of max"] == "bump, soft" and peak["unit"] == "mm"
+    csv_text = (folder / "cases" / "cases-1.csv").read_text().splitlines()
+    assert csv_text[0].startswith("case,F0,td,k,") and len(csv_text) == 10
+    assert (folder / "cases" / "cases-1.parquet").stat().st_size > 0
+    html = (folder / "report.html").read_text()
+    assert "Load cases 1: 9 cases (underdamped)" in html and 'id="cases-1"' in html
+    report = audit_package(folder, rerun=True)
+    assert report.holds, report.table()

@@ -20,7 +20,7 @@ def test_text_and_html_name_the_governing_case_and_count_not_ok():
     assert "  dynamic_load_factor: max 2 (case b), min 0.618034 (case a)" in text
     html = cases_html(r)
     assert "<th>td [s]</th>" in html and "<td>0.618034</td>" in html
-    assert html.count("<details>") == len(r.forms) == 1
+    assert html.count("<details class=\"dp-form\">") == len(r.forms) == 1
 
 
 def test_the_figure_marks_the_case_that_uses_its_criterion_most():
