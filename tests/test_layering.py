@@ -1,5 +1,5 @@
-"""Imports flow errors ← core ← render ← notebook, export, cases ← cli, read from the import
-graph."""
+"""Imports flow errors ← core ← render ← cases ← export, and notebook, export ← cli, read from
+the import graph."""
 
 import ast
 from pathlib import Path
@@ -12,8 +12,8 @@ ALLOWED = {
     "core": {"errors", "core"},
     "render": {"errors", "core", "render"},
     "notebook": {"errors", "core", "render", "notebook"},
-    "export": {"errors", "core", "render", "export"},
     "cases": {"errors", "core", "render", "cases"},
+    "export": {"errors", "core", "render", "cases", "export"},
     "forcing": {"core"},
     "demo": {"core"},
     "__init__": {"core", "errors", "forcing", "cases"},

@@ -97,6 +97,25 @@ class CaseResults:
                 "verified": list(self.verified),
                 "forms": [{"form": f, "derivation": d.to_dict()} for f, d in self.forms]}
 
+    @classmethod
+    def from_dict(cls, data: dict) -> "CaseResults":
+        """The CaseResults of its JSON form (:meth:`to_dict`), e.g. read from a notebook's
+        output by the packager."""
+        from ..core.model.derivation import Derivation
+        pd = pandas()
+        columns = {}
+        for name, values in data["table"].items():
+            text = any(isinstance(v, str) and v not in ("inf", "-inf") for v in values)
+            columns[name] = values if text else [_number(v) for v in values]
+        envelope = pd.DataFrame([{k: _number(v) if k in ("max", "min") else v
+                                  for k, v in row.items()} for row in data["envelope"]],
+                                columns=["result", "unit", "max", "case of max", "min",
+                                         "case of min", "cases with a value"])
+        forms = tuple((f["form"], Derivation.from_dict(f["derivation"]))
+                      for f in data.get("forms", []))
+        return cls(pd.DataFrame(columns), envelope, forms, data["units"],
+                   tuple(data["verified"]), tuple(data["inputs"]))
+
     def figure(self, result: str | None = None):
         """A matplotlib Figure of ``result`` (default: the first criterion's result, else the
         peak) against each input, the governing case marked, and the criterion's utilisation
@@ -143,3 +162,12 @@ def _plain(v):
     if isinstance(v, np.integer):
         return int(v)
     return v
+
+
+def _number(v) -> float:
+    """A number of the JSON form: null as NaN, "inf"/"-inf" as ±inf."""
+    if v is None:
+        return float("nan")
+    if v in ("inf", "-inf"):
+        return float(v)
+    return float(v)

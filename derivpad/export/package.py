@@ -113,10 +113,14 @@ def cases_records(cases) -> list:
 
 
 def _case_files(cases) -> dict[str, bytes]:
-    """Each load-case run's table as CSV (and as Parquet where pyarrow is installed) and its
-    envelope as CSV, under cases/."""
+    """Each load-case run's table as CSV (and as Parquet where pyarrow is installed), its
+    envelope as CSV, under cases/, and its figure (the governing result against the inputs)
+    under figures/."""
+    from ..cases.results import CaseResults
+    from ..render.figure import svg_file
     out = {}
     for i, c in enumerate(cases, 1):
+        out[f"figures/cases-{i}.svg"] = svg_file(CaseResults.from_dict(c).figure())
         columns = list(c["table"])
         out[f"cases/cases-{i}.csv"] = _csv(columns, zip(*(c["table"][k] for k in columns)))
         env = list(c["envelope"][0]) if c["envelope"] else []
@@ -145,14 +149,11 @@ def _figures(derivations) -> dict[str, bytes]:
     again on the derivation read back from the notebook (deterministic, so the figure is the
     one the notebook showed). A derivation with symbolic parameters and no values has none."""
     from ..core.engine import recheck
-    from ..render.figure import figure_svg
+    from ..render.figure import svg_file, verification_figure
     out = {}
     for i, d in enumerate(derivations, 1):
         if all(name in dict(d.values) for name in d.problem.symbols):
-            svg = figure_svg(recheck(d))
-            out[f"figures/derivation-{i}.svg"] = (
-                '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n' + svg + "\n"
-            ).encode("utf-8")
+            out[f"figures/derivation-{i}.svg"] = svg_file(verification_figure(recheck(d)))
     return out
 
 

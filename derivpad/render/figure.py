@@ -14,7 +14,8 @@ import numpy as np
 from ..core.reading.units import display_factor, display_offset
 from ..errors import ExportError, import_extra
 
-__all__ = ["FIGURE_FORMATS", "LiveFigure", "figure_svg", "save_figure", "verification_figure"]
+__all__ = ["FIGURE_FORMATS", "LiveFigure", "figure_svg", "save_figure", "svg_file",
+           "verification_figure"]
 
 FIGURE_FORMATS = ("svg", "png", "pdf")
 
@@ -205,6 +206,12 @@ def _svg_text(fig) -> str:
     _write(fig, buffer, "svg")
     text = buffer.getvalue()
     return text[text.index("<svg"):]
+
+
+def svg_file(fig) -> bytes:
+    """A matplotlib figure as a deterministic SVG file (with its XML prolog)."""
+    return ('<?xml version="1.0" encoding="utf-8" standalone="no"?>\n' + _svg_text(fig)
+            + "\n").encode("utf-8")
 
 
 def figure_svg(d, **settings) -> str:

@@ -133,3 +133,40 @@ def test_progress_is_reported_to_a_callable():
     derivpad.load_cases(PULSE, ZERO, UNIT_PERIOD, cases=pd.DataFrame({"td [s]": [0.2, 0.3]}),
                         progress=lambda done, total: seen.append((done, total)))
     assert seen[0] == (0, 2) and seen[-1] == (2, 2)
+
+
+def test_every_result_of_random_cases_matches_one_derive_per_case():
+    # brute force: 40 random cases of the demo isolator (m, k, c varied across critical
+    # damping, both forms), each derived on its own by derive() with all its checks
+    from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS
+    cases = derivpad.case_sample(40, seed=11, **{
+        "m [kg]": ("normal", 1200, 60), "k [kN/m]": ("uniform", 400, 560),
+        "c [kN*s/m]": ("uniform", 20, 80)})
+    r = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, units=DEMO_UNITS, cases=cases)
+    assert set(r.table["form"]) == {"underdamped", "overdamped"}
+    keys = ["peak", "time_of_peak", "dynamic_load_factor", "peak_residual", "natural_frequency",
+            "damping_ratio", "final_value"]
+    for i, row in cases.iterrows():
+        params = dict(DEMO_PARAMS, m=f"{float(row['m [kg]'])!r} kg",
+                      k=f"{float(row['k [kN/m]'])!r} kN/m",
+                      c=f"{float(row['c [kN*s/m]'])!r} kN*s/m")
+        d = derivpad.derive(DEMO_EQUATION, DEMO_ICS, params, units=DEMO_UNITS)
+        for key in keys:
+            want = d.results[key].magnitude
+            got = r.table[key][i]
+            if want is None:
+                assert math.isnan(got), (i, key)
+            else:
+                assert got == pytest.approx(float(want), rel=1e-9, abs=1e-12), (i, key)
+
+
+def test_the_json_form_reads_back_to_the_same_results():
+    r = derivpad.load_cases(PULSE, ZERO, UNIT_PERIOD,
+                            cases=pd.DataFrame({"case": ["a", "b"], "td [s]": [0.2, 0.7]}),
+                            criteria=["dynamic_load_factor <= 1.9"])
+    back = derivpad.CaseResults.from_dict(r.to_dict())
+    pd.testing.assert_frame_equal(back.table, r.table, check_dtype=False)
+    pd.testing.assert_frame_equal(back.envelope, r.envelope, check_dtype=False)
+    assert back.inputs == ("td",) and back.units == r.units
+    assert [f for f, _ in back.forms] == ["underdamped"]
+    assert back.forms[0][1].verification.passed

@@ -208,6 +208,7 @@ def test_a_load_case_calc_packages_its_table_envelope_and_audits(tmp_path):
     csv_text = (folder / "cases" / "cases-1.csv").read_text().splitlines()
     assert csv_text[0].startswith("case,F0,td,k,") and len(csv_text) == 10
     assert (folder / "cases" / "cases-1.parquet").stat().st_size > 0
+    assert (folder / "figures" / "cases-1.svg").read_text().startswith("<?xml")
     html = (folder / "report.html").read_text()
     assert "Load cases 1: 9 cases (underdamped)" in html and 'id="cases-1"' in html
     report = audit_package(folder, rerun=True)
