@@ -180,8 +180,10 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
             if (folder / "results.json").is_file() else []
         cases = json.loads((folder / "cases.json").read_text()) \
             if (folder / "cases.json").is_file() else []
-        # load cases are packaged only when verified (a failed check stops the run)
-        verified = bool(results or cases) and all(r["verification"]["passed"] for r in results)
+        # a failed check stops a load-case run; a case that could not be evaluated is
+        # recorded as failed (on_error="record") and leaves the package unverified
+        verified = (bool(results or cases) and all(r["verification"]["passed"] for r in results)
+                    and all(not c.get("failed") for c in cases))
         status = (("calc number", record.get("calc_number", "?")),
                   ("revision", record.get("revision", "?")),
                   ("title", record.get("title", "?")),

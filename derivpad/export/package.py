@@ -106,7 +106,8 @@ def cases_records(cases) -> list:
                                                for v in sorted(set(table[col]), key=str)}
                     for col in table if col.endswith(": outcome")}
         out.append({"id": f"cases-{i}", "format_version": c.get("format_version", 1),
-                    "cases": len(table["case"]), "forms": sorted(set(table["form"])),
+                    "cases": len(table["case"]), "failed": table["form"].count("failed"),
+                    "forms": sorted(set(table["form"])),
                     "inputs": c["inputs"], "units": c["units"], "verified": c["verified"],
                     "outcomes": outcomes, "envelope": c["envelope"]})
     return out
@@ -197,6 +198,13 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
     if not calc.derivations and not calc.cases:
         raise PackageRefusedError("not packaged: the notebook displays no derivation and no "
                                   "load cases")
+    failed_cases = [(i, c["table"]["form"].count("failed")) for i, c in enumerate(calc.cases, 1)
+                    if "failed" in c["table"]["form"]]
+    if failed_cases and not allow_failed:
+        raise PackageRefusedError("not packaged: " + "; ".join(
+            f"load cases {i}: {n} case(s) could not be evaluated (form 'failed', the reason in "
+            "the notes column)" for i, n in failed_cases)
+            + ". Fix the table, or pass --allow-failed to package it marked NOT VERIFIED")
     if unverified and not allow_failed:
         raise PackageRefusedError("not packaged: " + "; ".join(
             f"code cell {f.cell}: {f.what}" for f in unverified)
@@ -210,7 +218,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
                           "package is kept aside)")
     out_dir.mkdir(parents=True, exist_ok=True)
     created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
-    verified = not unverified
+    # a load-case row that could not be evaluated (on_error="record") is not a verified case
+    verified = not unverified and not failed_cases
     notes = []
     with tempfile.TemporaryDirectory(prefix=f".{name}-", dir=out_dir) as work:
         stage = Path(work) / name

@@ -213,3 +213,15 @@ def test_a_load_case_calc_packages_its_table_envelope_and_audits(tmp_path):
     assert "Load cases 1: 9 cases (underdamped)" in html and 'id="cases-1"' in html
     report = audit_package(folder, rerun=True)
     assert report.holds, report.table()
+
+
+def test_load_cases_with_a_failed_row_are_refused_unless_allowed(tmp_path):
+    path = _notebook(tmp_path, "import pandas as pd\nderivpad.load_cases(\"m*x'' + k*x = F0*(u(t)"
+                               " - u(t - td))\", {'x(0)': 0, \"x'(0)\": 0}, {'m': '1 kg', 'k': "
+                               "'39.478 N/m', 'F0': '1 N'}, cases=pd.DataFrame({'td [s]': "
+                               "[0.2, None]}), on_error='record')")
+    with pytest.raises(PackageRefusedError, match="load cases 1: 1 case"):
+        make_package(path, tmp_path / "out", pdf=False, **quiet)
+    result = make_package(path, tmp_path / "out", pdf=False, allow_failed=True, **quiet)
+    assert not result.verified
+    assert json.loads((result.folder / "cases.json").read_text())[0]["failed"] == 1
