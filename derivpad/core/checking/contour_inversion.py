@@ -82,20 +82,25 @@ def _flint():
 
 
 def _arb(x):
-    """An mpmath mpf as an exact FLINT arb (mantissa · 2^exponent)."""
+    """An mpmath mpf as an exact FLINT arb (mantissa · 2^exponent); ±inf and NaN (a mantissa
+    of zero with a non-zero exponent in mpmath's form) as NaN, never as zero."""
     sign, man, exp, _ = x._mpf_
-    return _flint().arb((-int(man) if sign else int(man), int(exp)) if man else 0)
+    if not man:
+        return _flint().arb(0) if not exp else _flint().arb("nan")
+    return _flint().arb((-int(man) if sign else int(man), int(exp)))
 
 
 def _acb(z):
-    z = mpmath.mpc(z)
+    """An mpmath number (real or complex) as a FLINT acb, to its full precision (no
+    re-rounding to mpmath's current precision on the way)."""
     return _flint().acb(_arb(z.real), _arb(z.imag))
 
 
 def _polynomials(fn, work: int):
-    """Numerator and denominator of ``fn`` as FLINT polynomials at ``work`` digits."""
+    """Numerator and denominator of ``fn`` as FLINT polynomials at ``work`` digits (the
+    coefficients converted at that precision: FLINT rounds to its working precision)."""
     flint = _flint()
-    with mpmath.workdps(work):
+    with mpmath.workdps(work), flint.ctx.workprec(dps_to_prec(work)):
         num, den = fn.coefficients()  # highest power first
         return (flint.acb_poly([_arb(c) for c in reversed(num)]),
                 flint.acb_poly([_arb(c) for c in reversed(den)]))

@@ -66,3 +66,11 @@ def test_a_higher_order_transform_with_parameters():
         want = float(exact.subs(t, time))
         assert talbot(part, time, 20) == pytest.approx(want, rel=1e-12)
         assert cohen(part, time, 20) == pytest.approx(want, rel=1e-12)
+
+
+def test_an_infinite_coefficient_gives_nan_not_a_number_that_looks_right():
+    # a coefficient that overflowed must not be read as zero (the ball route would then
+    # invert a different transform)
+    from derivpad.core.checking.contour_inversion import _arb
+    assert str(_arb(mpmath.inf)) == "nan" and str(_arb(mpmath.nan)) == "nan"
+    assert _arb(mpmath.mpf(0)) == 0 and _arb(mpmath.mpf(-2.5)) == -2.5
