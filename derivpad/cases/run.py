@@ -83,25 +83,9 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     """
     table = read_cases(cases, on_error)
     judged = read_criteria(criteria)
-    names = make_problem(equation, ics, None, unknown, None, derived).symbols
-    stray = [n for n in table.names if n not in names]
-    if stray:
-        msg = (f"column {stray[0]!r} of the case table is not a parameter of the problem "
-               f"(its parameters: {', '.join(names) or 'none'})")
-        raise ParameterError(msg, stray[0])
-    good = [i for i in range(len(table)) if i not in table.failed]
-    if not good:
-        raise ParameterError("no case of the table can be evaluated: "
-                             + next(iter(table.failed.values())), "cases")
-    params = dict(params or {})
-    units = dict(units or {})
-    for j, (name, unit) in enumerate(zip(table.names, table.units)):
-        if unit:
-            units[name] = unit
-        params[name] = f"{float(table.values[good[0]][j])!r} {unit}".strip()
-    spec = dict(equation=equation, ics=ics, params=params, vary=table.names, unknown=unknown,
-                units=units or None, regime=regime, tolerances=tolerances, window=window,
-                derived=derived)
+    spec = _problem_spec(table, dict(equation=equation, ics=ics, params=params,
+                                      unknown=unknown, units=units, regime=regime,
+                                      tolerances=tolerances, window=window, derived=derived))
     family = _family(spec)
     chunks = None
     if store is not None:
@@ -122,6 +106,30 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
         result.to_parquet(Path(store) / "cases.parquet")
         publish(Path(store) / "envelope.csv", lambda p: envelope.to_csv(p, index=False))
     return result
+
+
+def _problem_spec(table, options: dict) -> dict:
+    """The family's arguments: the table's columns checked against the problem's parameters,
+    each varied parameter started at the first case that can be evaluated, in its column's
+    unit."""
+    names = make_problem(options["equation"], options["ics"], None, options["unknown"], None,
+                         options["derived"]).symbols
+    stray = [n for n in table.names if n not in names]
+    if stray:
+        msg = (f"column {stray[0]!r} of the case table is not a parameter of the problem "
+               f"(its parameters: {', '.join(names) or 'none'})")
+        raise ParameterError(msg, stray[0])
+    good = [i for i in range(len(table)) if i not in table.failed]
+    if not good:
+        raise ParameterError("no case of the table can be evaluated: "
+                             + next(iter(table.failed.values())), "cases")
+    params = dict(options["params"] or {})
+    units = dict(options["units"] or {})
+    for j, (name, unit) in enumerate(zip(table.names, table.units)):
+        if unit:
+            units[name] = unit
+        params[name] = f"{float(table.values[good[0]][j])!r} {unit}".strip()
+    return {**options, "params": params, "units": units or None, "vary": table.names}
 
 
 CHUNK = 500  # cases per chunk at most: the unit of work of a worker

@@ -187,6 +187,54 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
     notebook = Path(notebook).resolve()
     out_dir = Path(out_dir).resolve()  # relative to the current folder, whatever runs later
     calc = execute_notebook(notebook, progress=say)
+    verified = _packageable(calc, allow_failed)
+    name = f"{calc.record['calc_number']}-rev{calc.record['revision']}"
+    final, archive = out_dir / name, out_dir / f"{name}.zip"
+    if (final.exists() or archive.exists()) and not force:
+        raise ExportError(f"{final} already exists; a revision is never overwritten. Raise the "
+                          "revision in the CalcRecord, or pass --force to replace it (the old "
+                          "package is kept aside)")
+    out_dir.mkdir(parents=True, exist_ok=True)
+    created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
+    cases = cases_records(calc.cases)
+    notes = []
+    with tempfile.TemporaryDirectory(prefix=f".{name}-", dir=out_dir) as work:
+        stage = Path(work) / name
+        stage.mkdir()
+        files = _package_files(calc, cases, notebook.name, created)
+        for rel, data in files.items():
+            say(f"writing {rel}")
+            (stage / rel).parent.mkdir(parents=True, exist_ok=True)
+            (stage / rel).write_bytes(data)
+        say("writing report.html")
+        report = stage / "report.html"
+        report.write_text(report_html(calc.record, calc.derivations, calc.html,
+                                      verified=verified, created=created, page_size=page_size,
+                                      cases=cases,
+                                      cases_fragments=calc.cases_html),
+                          encoding="utf-8")
+        if pdf:
+            say("printing report.pdf")
+            why = print_pdf(report, stage / "report.pdf")
+            if why:
+                notes.append(why)
+                say(why)
+        say(f"writing {MANIFEST_NAME}")
+        write_manifest(stage)
+        staged_zip = Path(work) / f"{name}.zip"
+        _zip(stage, staged_zip)
+        if force:
+            _set_aside(final, archive)
+        os.replace(stage, final)
+        os.replace(staged_zip, archive)
+    say(f"package written: {final} and {archive}")
+    return PackageResult(final, archive, verified, tuple(notes))
+
+
+def _packageable(calc, allow_failed: bool) -> bool:
+    """Refuse what cannot be packaged (a cell error, no record, nothing to package, an
+    unverified derivation or a failed load case without ``allow_failed``); True when every
+    derivation and case is verified."""
     errors = [f for f in calc.failures if not f.unverified]
     unverified = [f for f in calc.failures if f.unverified]
     if errors:
@@ -210,55 +258,20 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
             f"code cell {f.cell}: {f.what}" for f in unverified)
             + ". Fix the calculation, or pass --allow-failed to package it marked NOT VERIFIED",
             unverified)
-    name = f"{calc.record['calc_number']}-rev{calc.record['revision']}"
-    final, archive = out_dir / name, out_dir / f"{name}.zip"
-    if (final.exists() or archive.exists()) and not force:
-        raise ExportError(f"{final} already exists; a revision is never overwritten. Raise the "
-                          "revision in the CalcRecord, or pass --force to replace it (the old "
-                          "package is kept aside)")
-    out_dir.mkdir(parents=True, exist_ok=True)
-    created = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
     # a load-case row that could not be evaluated (on_error="record") is not a verified case
-    verified = not unverified and not failed_cases
-    notes = []
-    with tempfile.TemporaryDirectory(prefix=f".{name}-", dir=out_dir) as work:
-        stage = Path(work) / name
-        stage.mkdir()
-        files = {"record.json": _json(calc.record).encode(),
-                 "results.json": _json(results_records(calc.derivations)).encode(),
-                 **({"cases.json": _json(cases_records(calc.cases)).encode(),
-                     **_case_files(calc.cases)} if calc.cases else {}),
-                 "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
-                 "environment.json": _json(environment_info(created)).encode(),
-                 notebook.name: _notebook_bytes(calc.notebook),
-                 **_figures(calc.derivations)}
-        for rel, data in files.items():
-            say(f"writing {rel}")
-            (stage / rel).parent.mkdir(parents=True, exist_ok=True)
-            (stage / rel).write_bytes(data)
-        say("writing report.html")
-        report = stage / "report.html"
-        report.write_text(report_html(calc.record, calc.derivations, calc.html,
-                                      verified=verified, created=created, page_size=page_size,
-                                      cases=cases_records(calc.cases),
-                                      cases_fragments=calc.cases_html),
-                          encoding="utf-8")
-        if pdf:
-            say("printing report.pdf")
-            why = print_pdf(report, stage / "report.pdf")
-            if why:
-                notes.append(why)
-                say(why)
-        say(f"writing {MANIFEST_NAME}")
-        write_manifest(stage)
-        staged_zip = Path(work) / f"{name}.zip"
-        _zip(stage, staged_zip)
-        if force:
-            _set_aside(final, archive)
-        os.replace(stage, final)
-        os.replace(staged_zip, archive)
-    say(f"package written: {final} and {archive}")
-    return PackageResult(final, archive, verified, tuple(notes))
+    return not unverified and not failed_cases
+
+
+def _package_files(calc, cases: list, notebook_name: str, created: str) -> dict[str, bytes]:
+    """Every file of the package but the report, the PDF and the manifest."""
+    return {"record.json": _json(calc.record).encode(),
+            "results.json": _json(results_records(calc.derivations)).encode(),
+            **({"cases.json": _json(cases).encode(), **_case_files(calc.cases)}
+               if calc.cases else {}),
+            "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
+            "environment.json": _json(environment_info(created)).encode(),
+            notebook_name: _notebook_bytes(calc.notebook),
+            **_figures(calc.derivations)}
 
 
 def _notebook_bytes(nb) -> bytes:
