@@ -16,11 +16,15 @@ from __future__ import annotations
 import hashlib
 import math
 import random
+import weakref
 from pathlib import Path
 
-from ..core.checking.acceptance import judge, read_criteria
+import numpy as np
+
+from ..core.checking.acceptance import judge, judge_columns, read_criteria
+from ..core.checking.batch_results import batch_engineering_results
 from ..core.checking.numeric_checks import NUMERIC_TOLERANCES, independent_checks
-from ..core.checking.results import engineering_results
+from ..core.checking.results import engineering_results, writer_for
 from ..core.checking.window import window_end
 from ..core.family import DerivationFamily
 from ..core.reading.read_problem import make_problem
@@ -152,15 +156,27 @@ def _family(spec: dict) -> DerivationFamily:
 
 def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str):
     """A chunk of cases: (rows, notes, forms). A pure function of its arguments, so that any
-    worker can run any chunk; the family is derived once per process."""
+    worker can run any chunk; the family is derived once per process. The cases of each form
+    are evaluated together over arrays (:func:`batched`); a case that route leaves, one by
+    one through its form's closed form or derived with its numbers."""
     family = _family(spec)
     names = spec["vary"]
+    good = [i for i in range(len(ids)) if i not in failed]
+    done = batched(family, np.asarray(values, dtype=float)[good], criteria) if good else {}
+    position = {i: k for k, i in enumerate(good)}
     rows, notes, forms = [], [], []
     for i, case in enumerate(ids):
         if i in failed:
             rows.append({})
             notes.append(failed[i])
             forms.append("failed")
+            continue
+        k = position[i]
+        if k in done:
+            row, note, form = done[k]
+            rows.append(row)
+            notes.append(note)
+            forms.append(form)
             continue
         try:
             form, results = _case(family, dict(zip(names, (float(v) for v in values[i]))))
@@ -179,6 +195,64 @@ def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: st
         notes.append(note)
         forms.append(form)
     return rows, notes, forms
+
+
+_REFERENCES = weakref.WeakKeyDictionary()  # family → {form: one case's results (its shape)}
+
+
+def batched(family, values: np.ndarray, criteria) -> dict:
+    """{index: (row, note, form)} of the cases evaluated over arrays, form by form
+    (:func:`derivpad.core.checking.batch_results.batch_engineering_results`); the cases it
+    leaves out take the one-case route."""
+    columns = family.si_columns(values)
+    if columns is None or len(values) < 2:
+        return {}
+    forms = family.forms_of(columns)
+    out: dict = {}
+    for form in _FORMS:
+        idx = np.nonzero(forms == form)[0]
+        if not idx.size:
+            continue
+        reference = _reference(family, form, values[idx[0]])
+        if reference is None:
+            continue
+        cols = [c[idx] for c in columns]
+        got = batch_engineering_results(family.problem, family._compiled[form][1], cols,
+                                        reference, lambda name: writer_for(family.problem, name))
+        judged = judge_columns(criteria, got.columns, reference)
+        keys = [k for k in reference if k in got.columns]
+        units = [got.units[k] for k in keys]
+        for j in np.nonzero(~got.redo)[0]:
+            row = {k: (float(got.columns[k][j]), u) for k, u in zip(keys, units)}
+            for text, (use, outcome) in judged.items():
+                row[f"{text}: utilisation"] = (float(use[j]), "")
+                row[f"{text}: outcome"] = (outcome[j], "")
+            out[int(idx[j])] = (row, _batch_note(reference, got, keys, j), form)
+    return out
+
+
+def _reference(family, form: str, case):
+    """One case's results in ``form`` (through the one-case route), kept per family: the
+    shape every case of the form shares; None where that case is not evaluated in the form."""
+    known = _REFERENCES.setdefault(family, {})
+    if form not in known:
+        got_form, numbers, _ = family.numbers_at(dict(zip(family.vary, map(float, case))))
+        known[form] = (engineering_results(family.problem, numbers, None)
+                       if got_form == form else None)
+    return known[form]
+
+
+def _batch_note(reference, got, keys, j: int) -> str:
+    """The case's note as :func:`_row` writes it: each figure without a value, with why."""
+    why = []
+    for k in keys:
+        v = got.columns[k][j]
+        if math.isnan(v):
+            why.append(f"{k}: {reference[k].reason}")
+        elif math.isinf(v):
+            note = got.notes.get(k)
+            why.append(f"{k}: {note[j] if note is not None else reference[k].reason}")
+    return "; ".join(why)
 
 
 def run_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str, store=None):
@@ -330,6 +404,22 @@ def _frame(table, rows, notes, forms):
     return pd.DataFrame(data)
 
 
+def _same_as_one_case(case, found, again: dict) -> None:
+    """A case's table row against its results found again through the one-case route (the
+    table's rows are mostly found over arrays of cases); any difference stops the run."""
+    for key, (value, _) in again.items():
+        if key not in found.index:
+            continue
+        a, b = float(found[key]), float(value)
+        same = (math.isnan(a) and math.isnan(b)) or a == b or (
+            math.isfinite(a) and math.isfinite(b) and abs(a - b) <= 1e-8 * max(abs(a), abs(b))
+            + 1e-14)
+        if not same:
+            msg = (f"case {case}: {key} is {a!r} in the table but {b!r} found for the case on "
+                   "its own; the load-case results are not verified")
+            raise VerificationFailedError(msg)
+
+
 def _sample(n: int, seed: int) -> list[int]:
     size = min(n, max(SAMPLE_MINIMUM, math.ceil(SAMPLE_FRACTION * n)))
     return sorted(random.Random(seed).sample(range(n), size))
@@ -351,6 +441,8 @@ def _integration_sample(family, table, frame, envelope, seed, tolerances):
         if form is None:  # derived with its numbers: every check ran (it raises on failure)
             done += 1
             continue
+        _same_as_one_case(table.ids[i], frame.iloc[i],
+                          _row(engineering_results(family.problem, numbers, None), ())[0])
         end = window_end(numbers.every_pole, list(numbers.breakpoints), family._args["window"])
         checks, _ = independent_checks(numbers, tol, end)
         for c in checks:
@@ -367,6 +459,7 @@ def _integration_sample(family, table, frame, envelope, seed, tolerances):
             "integration and inversion, limit theorems) at the first case it served",
             f"every case's values checked against its form's conditions ({len(table)} cases)",
             f"independent checks (numerical integration, inversion, limit theorems) of "
-            f"{done} cases: a seeded random sample (seed {seed}, at least "
+            f"{done} cases, each case's results also found again one case at a time and "
+            f"compared with the table's (evaluated over arrays): a seeded random sample (seed {seed}, at least "
             f"{SAMPLE_FRACTION:.0%} and at least {SAMPLE_MINIMUM}) and every governing case; "
             f"largest integration error {worst:.2e} of the peak")

@@ -15,6 +15,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
+import numpy as np
 import sympy as sp
 
 from ..errors import DerivpadError, ParameterError
@@ -113,6 +114,39 @@ class DerivationFamily:
             raise ParameterError(f"no value for {missing[0]!r}; give every varied parameter "
                                  f"({', '.join(self.vary)})", missing[0])
         return parameter_values(self.problem, {n: float(values[n]) for n in self.vary})
+
+    def si_columns(self, values) -> list | None:
+        """Cases × varied parameters (numbers in the parameters' units) as one array per
+        varied parameter in the units the derivation's symbols take; None where a unit's
+        conversion is not a plain factor (a scale with an offset)."""
+        if not hasattr(self, "_factors"):
+            one = self._exact({n: 1.0 for n in self.vary})
+            two = self._exact({n: 2.0 for n in self.vary})
+            f = {n: float(one[n]) for n in self.vary}
+            plain = all(abs(float(two[n]) - 2 * f[n]) <= 1e-12 * abs(f[n]) for n in self.vary)
+            self._factors = f if plain else None
+        if self._factors is None:
+            return None
+        values = np.asarray(values, dtype=float)
+        return [values[:, j] * self._factors[n] for j, n in enumerate(self.vary)]
+
+    def forms_of(self, columns) -> np.ndarray:
+        """The form each case (columns from :meth:`si_columns`) is evaluated in, as
+        :meth:`numbers_at` would choose it where every margin is plain; "" where only the
+        exact test or a derivation with the numbers can tell."""
+        n = len(columns[0])
+        out = np.full(n, "", dtype=object)
+        open_ = np.ones(n, dtype=bool)
+        for regime in (self._regime,) + tuple(r for r in _REGIMES if r != self._regime):
+            stages = self._stages(regime)
+            if stages is None:
+                continue
+            if regime not in self._tests:
+                self._tests[regime] = _FormTest(stages, self.vary)
+            verdict = self._tests[regime].many(dict(zip(self.vary, columns)))
+            out[open_ & (verdict == 1)] = regime
+            open_ &= verdict == 0
+        return out
 
     # -- the forms -----------------------------------------------------------------------
     def _stages(self, regime: str):
@@ -215,6 +249,7 @@ class _FormTest:
         args = [sp.Symbol(n, positive=True) for n in names]
         self._names = names
         self._conditions = []
+        self._symbolic = []
         self._exact_only = False
         for c in stages.conditions:
             test = self._RELATIONS.get(type(c))
@@ -224,8 +259,48 @@ class _FormTest:
             diff = c.lhs - c.rhs
             self._conditions.append((sp.lambdify(args, diff, modules="math"),
                                      sp.lambdify(args, _size(diff), modules="math"), test))
+            self._symbolic.append((diff, _size(diff)))
         self._times = [sp.lambdify(args, sp.Integer(0) + b, modules="math")
                        for b in stages.breakpoints]
+        self._args = args
+        self._breakpoints = stages.breakpoints
+        self._arrays = None
+
+    def many(self, by_name: dict) -> np.ndarray:
+        """The test for many cases at once (``by_name``: an array of values per parameter):
+        1 holds, 0 does not, -1 where a margin is within 1e-9 (the exact test
+        decides), each case as :meth:`__call__` would judge it."""
+        columns = [by_name[name] for name in self._names]
+        n = len(columns[0])
+        if self._exact_only:
+            return np.full(n, -1)
+        if self._arrays is None:
+            flat = [e for pair in self._symbolic for e in pair] + [
+                sp.Integer(0) + b for b in self._breakpoints]
+            self._arrays = sp.lambdify(self._args, flat, modules="numpy")
+        with np.errstate(all="ignore"):
+            vals = [np.broadcast_to(np.asarray(v, dtype=float), (n,))
+                    for v in self._arrays(*[np.asarray(c, dtype=float) for c in columns])]
+        out = np.ones(n, dtype=int)
+        open_ = np.ones(n, dtype=bool)
+        for k, (_, _, test) in enumerate(self._conditions):
+            d, size = vals[2 * k], vals[2 * k + 1]
+            undecided = open_ & ~(np.abs(d) > 1e-9 * np.abs(size))
+            out[undecided] = -1
+            open_ &= ~undecided
+            fails = open_ & ~test(d)
+            out[fails] = 0
+            open_ &= ~fails
+        times = vals[2 * len(self._conditions):]
+        if times:
+            t = np.stack(times, axis=1)
+            a, b = t[:, :-1], t[:, 1:]
+            near = ~(np.abs(b - a) > 1e-9 * np.maximum(np.abs(a), np.abs(b)))
+            undecided = open_ & (near.any(axis=1) | ~(t[:, 0] > 0))
+            out[undecided] = -1
+            open_ &= ~undecided
+            out[open_ & ~np.all(b > a, axis=1)] = 0
+        return out
 
     def __call__(self, value_map: dict):
         if self._exact_only:

@@ -16,9 +16,11 @@ from dataclasses import dataclass
 
 from ...errors import ParameterError, UnitError
 from ..reading.criteria import Criterion, read_criteria
+from ..model.result import Result
 from ..reading.units import registry
 
-__all__ = ["Criterion", "Judgement", "judge", "judge_calc", "read_criteria", "unjudged"]
+__all__ = ["Criterion", "Judgement", "judge", "judge_calc", "judge_columns", "read_criteria",
+           "unjudged"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -78,6 +80,43 @@ def judge_calc(criteria, results_of) -> tuple[tuple[tuple[Judgement, ...], ...],
     with_results = any(results_of)
     missing = tuple(c for c in criteria if with_results and c.text not in answered)
     return tuple(per), missing
+
+
+def judge_columns(criteria, columns: dict, reference) -> dict:
+    """Each criterion judged for many cases at once: {criterion text: (utilisation array,
+    outcome array)}. ``columns`` holds each result's values (display unit, NaN where it does
+    not apply, inf where unbounded); ``reference`` one case's results mapping, whose units
+    convert them (as :func:`judge` does, a peak by its size)."""
+    import numpy as np
+    out = {}
+    for c in criteria:
+        r = reference.get(c.key)
+        if r is None or c.key not in columns:
+            judge([c], reference)  # raises with the results the calc has
+            msg = f"the criterion {c.text!r} cannot be judged over arrays"
+            raise ParameterError(msg, c.key)
+        zero, one = (_in_unit(Result(r.key, "", _like(r, x), r.unit, "", ""), c) for x in (0.0, 1.0))
+        values = columns[c.key]
+        value = zero + (one - zero) * values
+        if c.key.startswith("peak"):
+            value = np.abs(value)
+        with np.errstate(all="ignore"):
+            if c.upper:
+                use = value / c.limit if c.limit else np.where(value > 0, math.inf, 0.0)
+                ok = value <= c.limit
+            else:
+                use = np.where(value != 0, c.limit / value, math.inf)
+                ok = value >= c.limit
+        use = np.where(np.isnan(values), math.nan, np.where(np.isinf(values), math.inf, use))
+        ok &= np.isfinite(values)
+        out[c.text] = (use, np.where(ok, "OK", "NOT OK"))
+    return out
+
+
+def _like(r, x: float):
+    """x in the unit of the result ``r`` (a pint Quantity where r's value is one)."""
+    q = r.value
+    return type(q)(x, q.units) if hasattr(q, "units") else x
 
 
 def unjudged(criteria, why: str) -> tuple[Judgement, ...]:

@@ -150,6 +150,39 @@ class ModeTable:
         self._float = sp.lambdify(args, fields, modules="math") if rows else None
         # the coefficients again at 40 digits, for the terms that cancel (see Modes.__call__)
         self._exact = (sp.lambdify(args, fields, modules="mpmath") if rows else None)
+        self._rows, self._args, self._numpy = rows, args, None
+
+    def batch(self, columns) -> "ModeBatch":
+        """The modes for many cases at once: ``columns`` holds an array of numbers per symbol
+        (in the order of ``symbols``); see :mod:`derivpad.core.checking.mode_batch`."""
+        from .mode_batch import ModeBatch
+        n = len(columns[0]) if columns else 1
+        if not self._rows:
+            z = np.zeros((n, 0))
+            return ModeBatch(self.powers, np.zeros(0, int), np.zeros(0, int), np.zeros((n, 1)),
+                             z, z, z, z, np.zeros(n, dtype=bool))
+        if self._numpy is None:
+            self._numpy = (sp.lambdify(self._args, [[sp.Integer(0) + r[i] for r in self._rows]
+                                                    for i in (0, 2, 3, 4, 5)], modules="numpy"),
+                           *_structure(self._rows))
+        fn, switch_of, pole_of, delays = self._numpy
+        with np.errstate(all="ignore"):
+            fields = [np.stack([_column(x, n) for x in f], axis=1)
+                      for f in fn(*[np.asarray(c, dtype=float) for c in columns])]
+        bad = np.zeros(n, dtype=bool)
+        for f in fields:
+            bad |= ~np.all(np.isfinite(f.real) & (np.abs(f.imag) <= 1e-9 * (1 + np.abs(f.real))),
+                           axis=1)
+        delay, a, b, ca, cb = (f.real for f in fields)
+        switches = np.stack([delay[:, m] for m in delays], axis=1)
+        good = np.nonzero(~bad)[0]
+        order = np.argsort(switches[good[0]]) if good.size else np.arange(len(delays))
+        switches = switches[:, order]
+        switch_of = np.argsort(order)[switch_of]
+        bad |= ~np.all(np.diff(switches, axis=1) > 0, axis=1) | (switches[:, 0] < 0)
+        sign = np.where(b < 0, -1.0, 1.0)  # cos(-bτ) = cos bτ, sin(-bτ) = -sin bτ
+        return ModeBatch(self.powers.copy(), switch_of, pole_of, switches, a, np.abs(b), ca,
+                         sign * cb, bad)
 
     def at(self, values=()) -> "Modes":
         """The modes for numbers (a tuple in the order of ``symbols``)."""
@@ -171,6 +204,25 @@ class ModeTable:
         sign = np.where(flip, -1.0, 1.0)
         return _merged(Modes(delay.real, self.powers.copy(), a.real, np.abs(b.real),
                              ca.real, sign * cb.real, tuple(tuple(f) for f in ex)))
+
+
+def _column(x, n: int) -> np.ndarray:
+    """A lambdified field as a complex column of n values (a constant repeated)."""
+    return np.broadcast_to(np.asarray(x, dtype=complex), (n,))
+
+
+def _structure(rows) -> tuple:
+    """(switching time of each mode, pole of each mode, the mode that first names each
+    switching time): the symbolic sum's shape, shared by every case of a form."""
+    delays: dict = {}
+    poles: dict = {}
+    switch_of, pole_of = [], []
+    for m, (c, _, a, b, _, _) in enumerate(rows):
+        switch_of.append(delays.setdefault(c, len(delays)))
+        key = (a, b) if (a, -b) not in poles else (a, -b)
+        pole_of.append(poles.setdefault(key, len(poles)))
+    first = [switch_of.index(i) for i in range(len(delays))]
+    return np.array(switch_of, dtype=int), np.array(pole_of, dtype=int), first
 
 
 def _merged(modes: "Modes") -> "Modes":

@@ -152,12 +152,30 @@ class ParametricNumbers:
                               if a != 0]
         self._shape = [[len(coeffs) for coeffs in row] for row in problem.operators]
         self._orders = problem.orders
+        self._problem = problem
+        self._batch_fns: dict = {}
         self._forcings = []
         for f in problem.forcings:
             smooth = _smooth(f)
             self._forcings.append((smooth, _compile_numpy(smooth, args),
                                    _compile_scalar(smooth, args),
                                    _mode_table(smooth, self.symbols)))
+
+    def evaluate_many(self, what: str, exprs, columns) -> list:
+        """Expressions of the symbols evaluated for arrays of numbers (one array per symbol,
+        in the order of ``symbols``), compiled once per ``what``: load cases' route."""
+        if what not in self._batch_fns:
+            self._batch_fns[what] = sp.lambdify(self._args, [sp.Integer(0) + e for e in exprs],
+                                                modules="numpy")
+        n = len(columns[0]) if columns else 1
+        with np.errstate(all="ignore"):
+            out = self._batch_fns[what](*[np.asarray(c, dtype=float) for c in columns])
+        return [np.broadcast_to(np.asarray(x, dtype=float), (n,)) for x in out]
+
+    def mode_tables(self) -> tuple[dict, tuple]:
+        """({quantity: its ModeTable or None}, (each equation's load ModeTable or None))."""
+        return ({name: entry[0].modes for name, entry in self._quantities.items()},
+                tuple(f[3] for f in self._forcings))
 
     def _pole_table(self, poles):
         return [(p, self._lam(p.value), self._lam(p.beta)) for p in poles]

@@ -20,7 +20,7 @@ from .numeric_model import Numbers
 from ..model.result import Result
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
-__all__ = ["Result", "ResultWriter", "engineering_results", "response_results"]
+__all__ = ["Result", "ResultWriter", "engineering_results", "response_results", "writer_for"]
 
 _VIB = "single-degree-of-freedom vibration theory (e.g. Thomson, Theory of Vibration; from memory)"
 _CTRL = "second-order system time-response definitions (control texts, e.g. Ogata; from memory)"
@@ -95,6 +95,14 @@ class ResultWriter:
         self.add(k, label, None, unit, "", "", reason=reason)
 
 
+def writer_for(problem, name: str) -> ResultWriter:
+    """The ResultWriter of one quantity: its display units, and its keys suffixed with its
+    name (``peak_x2``) except for the one unknown of a single equation."""
+    plain = problem.size == 1 and name == problem.unknowns[0]
+    return ResultWriter(problem.unit_context(name), "" if plain else name,
+                        key=(lambda k: k) if plain else (lambda k: f"{k}_{name}"))
+
+
 def engineering_results(problem, numbers: Numbers, definitions=None):
     """The results mapping (read-only) of a derivation with numbers for every parameter: the
     poles and their figures, the modal figures of a mechanical system, then each unknown's
@@ -114,9 +122,7 @@ def engineering_results(problem, numbers: Numbers, definitions=None):
     statics = _static_gains(numbers)
     loads: dict = {}  # each load's figures, found once for all the unknowns it loads
     for name, model in numbers.models.items():
-        plain = single and name == problem.unknowns[0]
-        r = ResultWriter(problem.unit_context(name), "" if plain else name,
-                         key=(lambda k: k) if plain else (lambda k, name=name: f"{k}_{name}"))
+        r = writer_for(problem, name)
         if model.modes is None:
             for key, label in (("peak", "peak response"), ("final_value", "final value")):
                 r.absent(key, label, r.y_unit, "the closed form is not a sum of modes, so its "
