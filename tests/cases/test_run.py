@@ -170,3 +170,57 @@ def test_the_json_form_reads_back_to_the_same_results():
     assert back.inputs == ("td",) and back.units == r.units
     assert [f for f, _ in back.forms] == ["underdamped"]
     assert back.forms[0][1].verification.passed
+
+
+def test_the_array_route_gives_the_one_case_table_over_damping_through_critical(monkeypatch):
+    """The table found over arrays of cases equals the one found one case at a time (each
+    value to 1e-9), with under- and overdamped cases mixed, criteria judged; and the array
+    route carries nearly every case."""
+    import derivpad.cases.run as run
+    from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS
+    cases = derivpad.case_sample(240, seed=11, **{
+        "m [kg]": ("normal", 1200, 60), "k [kN/m]": ("uniform", 400, 560),
+        "c [kN*s/m]": ("uniform", 20, 80)})
+    args = dict(units=DEMO_UNITS, cases=cases, criteria=["peak <= 3 mm"], progress=False)
+    carried = []
+    real = run.batched
+    monkeypatch.setattr(run, "batched", lambda *a: carried.append(len(real(*a))) or real(*a))
+    fast = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, **args).table
+    assert sum(carried) >= 0.95 * len(cases)
+    monkeypatch.setattr(run, "batched", lambda *a: {})
+    run._FAMILIES.clear()
+    slow = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, **args).table
+    assert list(fast.columns) == list(slow.columns)
+    assert set(fast["form"]) == {"underdamped", "overdamped"}
+    for col in fast.columns:
+        if fast[col].dtype.kind == "f":
+            np.testing.assert_allclose(fast[col], slow[col], rtol=1e-9, atol=1e-14)
+        else:
+            assert fast[col].tolist() == slow[col].tolist(), col
+
+
+def test_the_array_route_serves_a_system_as_it_serves_one_equation(monkeypatch):
+    """A 2-DOF system under a pulse (each unknown and a derived quantity): the same table over
+    arrays as one case at a time."""
+    import derivpad.cases.run as run
+    eqs = ["m1*x1'' + c1*x1' + (k1 + k2)*x1 - k2*x2 = F0*(u(t) - u(t - td))",
+           "m2*x2'' + k2*(x2 - x1) = 0"]
+    ics = {"x1(0)": 0, "x1'(0)": 0, "x2(0)": 0, "x2'(0)": 0}
+    params = {"m1": "400 kg", "k1": "6.4 MN/m", "m2": "40 kg", "k2": "632 kN/m",
+              "c1": "2 kN*s/m", "F0": "1.5 kN", "td": "20 ms"}
+    args = dict(units={"x1": "mm", "x2": "mm", "t": "s"}, derived={"stroke": "x2 - x1"},
+                cases=pd.DataFrame({"td [ms]": np.linspace(5, 60, 12),
+                                    "F0 [kN]": np.linspace(1, 3, 12)}), progress=False)
+    carried = []
+    real = run.batched
+    monkeypatch.setattr(run, "batched", lambda *a: carried.append(len(real(*a))) or real(*a))
+    fast = derivpad.load_cases(eqs, ics, params, **args).table
+    assert sum(carried) >= 10 and "peak_stroke" in fast.columns
+    monkeypatch.setattr(run, "batched", lambda *a: {})
+    run._FAMILIES.clear()
+    slow = derivpad.load_cases(eqs, ics, params, **args).table
+    for col in fast.columns:
+        if fast[col].dtype.kind == "f":
+            np.testing.assert_allclose(fast[col], slow[col], rtol=1e-9, atol=1e-14, err_msg=col)
+        else:
+            assert fast[col].tolist() == slow[col].tolist(), col

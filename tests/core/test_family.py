@@ -154,3 +154,18 @@ def test_a_damped_two_mass_system_is_derived_once_for_its_load():
     assert p2 == pytest.approx(p1 * 1.8 / 1.2, rel=1e-9)
     fresh = derivpad.derive(eqs, ics, dict(params, F0="1.8 kN"), units={"x1": "mm", "x2": "mm"})
     assert p2 == pytest.approx(fresh.results["peak_x1"].magnitude, rel=1e-9)
+
+
+def test_forms_of_many_cases_agree_with_numbers_at_one_by_one():
+    """The vectorised form test takes each case to the form numbers_at takes it to, and leaves
+    a case within 1e-9 of critical damping to the exact test."""
+    import numpy as np
+    from derivpad.core.family import DerivationFamily
+    fam = DerivationFamily("m*x'' + c*x' + k*x = 6*u(t)", {"x(0)": 0, "x'(0)": 0},
+                           {"m": 2.0, "c": 1.0, "k": 8.0}, vary=("c",))
+    cs = np.array([1.0, 7.9, 8.0 * (1 + 1e-12), 8.1, 30.0])  # critical c = 2√(km) = 8
+    forms = fam.forms_of(fam.si_columns(cs[:, None]))
+    assert forms.tolist() == ["underdamped", "underdamped", "", "overdamped", "overdamped"]
+    for c, form in zip(cs, forms):
+        if form:
+            assert fam.numbers_at({"c": c})[0] == form
