@@ -173,6 +173,22 @@ class ModeBatch:
         return Segment(start, end, np.array([k[0] for k in keys], dtype=int), col(3), col(4),
                        A, B)
 
+    def at(self, times: np.ndarray, since: np.ndarray) -> np.ndarray:
+        """y at ``times`` (cases × samples) inside an interval that starts at ``since`` (per
+        case) and holds no switch: every mode switched on at or before ``since`` counts, so
+        the interval's start is its right value and its end the left limit."""
+        out = np.zeros(np.shape(times))
+        with np.errstate(over="ignore", invalid="ignore"):
+            for m, k in enumerate(self.power):
+                c = self.switches[:, self.switch_of[m]][:, None]
+                on = c <= since[:, None]
+                tau = np.where(on, times - c, 0.0)
+                v = np.exp(self.rate[:, m:m + 1] * tau) * (tau ** k if k else 1.0)
+                w = self.freq[:, m:m + 1] * tau
+                v = v * (self.cos[:, m:m + 1] * np.cos(w) + self.sin[:, m:m + 1] * np.sin(w))
+                out += np.where(on, v, 0.0)
+        return out
+
     def fragile(self) -> np.ndarray:
         """Cases with two distinct poles nearly equal (as :attr:`Modes.fragile`): their
         coefficients are large and opposite, and floats lose digits; they take the one-case

@@ -198,6 +198,27 @@ def integrate_piecewise(system, loads, z, times, cuts, kicks, kick) -> np.ndarra
     return out
 
 
+def first_order_form(lead, lower, orders):
+    """(A, G, T, E⁻¹, offsets) of the equations E x^(N) + Σ a_ijk x_j^(k) = f as the
+    first-order system z' = A z + G f, z the unknowns and their derivatives below the highest
+    (T places E⁻¹'s rows in the highest state derivatives). ``lead`` E may be stacked for
+    many cases (…, n, n), each a_ijk of ``lower`` ((i, j, k, a)) then an array over them."""
+    n = len(orders)
+    einv = np.linalg.inv(lead)
+    offsets = np.cumsum([0] + list(orders))
+    dim = int(offsets[-1])
+    L = np.zeros(np.shape(lead)[:-2] + (n, dim))
+    for i, j, k, a in lower:
+        L[..., i, offsets[j] + k] += a
+    shift_m = np.zeros((dim, dim))
+    top = np.zeros((dim, n))
+    for j in range(n):
+        for m in range(orders[j] - 1):
+            shift_m[offsets[j] + m, offsets[j] + m + 1] = 1.0
+        top[offsets[j] + orders[j] - 1, j] = 1.0
+    return shift_m - top @ einv @ L, top @ einv, top, einv, offsets
+
+
 def integrate(numbers: Numbers, times: np.ndarray) -> dict:
     """Each unknown at ``times``, integrated in the time domain on the first-order form of the
     equations, z' = A z + G f(t), restarted at every breakpoint; an impulse J_i in equation i
@@ -207,20 +228,8 @@ def integrate(numbers: Numbers, times: np.ndarray) -> dict:
     interpolated and the exponential integrated exactly, with its own error test.
     """
     n = len(numbers.unknowns)
-    einv = np.linalg.inv(numbers.lead)
-    offsets = np.cumsum([0] + list(numbers.orders))
-    dim = int(offsets[-1])
-    L = np.zeros((n, dim))
-    for i, j, k, a in numbers.lower:
-        L[i, offsets[j] + k] += a
-    shift_m = np.zeros((dim, dim))
-    top = np.zeros((dim, n))
-    for j in range(n):
-        for m in range(numbers.orders[j] - 1):
-            shift_m[offsets[j] + m, offsets[j] + m + 1] = 1.0
-        top[offsets[j] + numbers.orders[j] - 1, j] = 1.0
-    system = shift_m - top @ einv @ L
-    gain = top @ einv
+    system, gain, top, einv, offsets = first_order_form(numbers.lead, numbers.lower,
+                                                        numbers.orders)
     # only the loaded equations' forcings are evaluated
     loads = [(gain[:, i].copy(), f) for i, (f, modes) in
              enumerate(zip(numbers.forcing, numbers.forcing_modes))
