@@ -20,10 +20,10 @@ import numpy as np
 
 from .mode_batch import ModeBatch, Segment
 
-__all__ = ["BatchExtreme", "batch_final_value", "batch_supremum"]
+__all__ = ["BatchExtreme", "batch_final_value", "batch_split_suprema", "batch_supremum"]
 
 _POINTS_PER_PERIOD = 40
-_MIN_POINTS = 65
+_MIN_POINTS = 33
 _MAX_POINTS = 1 << 16
 _NEAR = 0.05         # zeros of y' are refined where the samples come this near the best
 _TAIL = 1e-10        # as response._TAIL
@@ -46,13 +46,19 @@ class BatchExtreme:
 
 
 def _grid(seg: Segment, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Sample times (cases × samples) over [lo, hi] and the cases whose oscillations need more
-    samples than a search takes."""
+    """Sample times (cases × samples) over [lo, hi], and the cases whose oscillations need more
+    samples than a search takes: 40 per period of the fastest oscillation (at least
+    _MIN_POINTS), and, where the even spacing does not resolve the fastest rate, a geometric
+    cluster after the start (as response._grid)."""
     span = np.maximum(hi - lo, 0.0)
-    fast = np.max(np.where(seg.amplitude > 0, seg.freq, 0.0), axis=1, initial=0.0)
+    on = seg.amplitude > 0
+    fast = np.max(np.where(on, seg.freq, 0.0), axis=1, initial=0.0)
     need = np.ceil(span * fast / (2 * math.pi) * _POINTS_PER_PERIOD) + 1
     points = int(min(max(_MIN_POINTS, np.max(need, initial=0.0)), _MAX_POINTS))
-    u = np.unique(np.concatenate([np.linspace(0.0, 1.0, points), _CLUSTER]))
+    u = np.linspace(0.0, 1.0, points)
+    rate = np.max(np.where(on, np.maximum(np.abs(seg.rate), seg.freq), 0.0), axis=1, initial=0.0)
+    if np.any(span / (points - 1) * rate > 0.05):
+        u = np.unique(np.concatenate([u, _CLUSTER]))
     return lo[:, None] + span[:, None] * u[None, :], need > _MAX_POINTS
 
 
@@ -164,16 +170,45 @@ def batch_supremum(batch: ModeBatch, sense: int = 0, start=0.0, stop=math.inf,
                    segs=None) -> BatchExtreme:
     """The supremum of |y| (sense 0) or of sense·y over [start, stop] for every case, as
     :func:`derivpad.core.checking.response.supremum`. ``start``/``stop``: numbers or arrays."""
-    n = len(batch)
     segs = segs if segs is not None else [batch.segment(j) for j in range(batch.segments)]
+    return _extreme(_per_sign(batch, start, stop, segs), sense)
+
+
+def batch_split_suprema(batch: ModeBatch, at, segs=None):
+    """(over all t ≥ 0, over [0, at], over [at, ∞)) sup |y| per case, the first from the
+    other two (each interval searched once): the larger of the two, the earlier on a tie, as
+    one search over all t finds it; a case whose later part is only approached as t → ∞ is
+    searched over all t again."""
+    segs = segs if segs is not None else [batch.segment(j) for j in range(batch.segments)]
+    before = _per_sign(batch, 0.0, at, segs)
+    after = _per_sign(batch, at, math.inf, segs)
+    first = before[0] >= after[0]
+    whole = [np.where(first, b, a) for b, a in zip(before[:3], after[:3])] + [
+        before[3] | after[3]]
+    again = np.nonzero(~after[2].all(axis=0))[0]
+    if again.size:
+        rows = _per_sign(batch.rows(again), 0.0, math.inf, [g.rows(again) for g in segs])
+        for part, got in zip(whole[:3], rows[:3]):
+            part[:, again] = got
+        whole[3][again] |= rows[3]
+    return _extreme(tuple(whole), 0), _extreme(before, 0), _extreme(after, 0)
+
+
+def _per_sign(batch: ModeBatch, start, stop, segs):
+    """(best of ±y, its time, attained, redo): each 2 × cases but redo (cases)."""
+    n = len(batch)
     start = np.broadcast_to(np.asarray(start, dtype=float), (n,))
     stop = np.broadcast_to(np.asarray(stop, dtype=float), (n,))
     if np.all(np.isfinite(stop)):
         best, when, redo = _interval_max(batch, start, stop, segs)
-        attained = np.ones((2, n), dtype=bool)
-        redo |= batch.bad
-    else:
-        best, when, attained, redo = _to_infinity(batch, start, segs)
+        return best, when, np.ones((2, n), dtype=bool), redo | batch.bad
+    return _to_infinity(batch, start, segs)
+
+
+def _extreme(per_sign, sense: int) -> BatchExtreme:
+    """The per-sign search as the supremum of sense·y, or of |y| (sense 0: the larger side,
+    the upper one on a tie)."""
+    best, when, attained, redo = per_sign
     value = best * np.array(_SIGNS)[:, None]
     if sense:
         k = 0 if sense > 0 else 1

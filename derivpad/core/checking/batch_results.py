@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .batch_response import batch_final_value, batch_supremum
+from .batch_response import batch_final_value, batch_split_suprema, batch_supremum
 
 __all__ = ["BatchResults", "batch_engineering_results"]
 
@@ -104,7 +104,12 @@ def batch_engineering_results(problem, model, columns, reference, writer_of) -> 
         y, t = _display(writer_of, name)
         key = w.key
         segs = [batch.segment(j) for j in range(batch.segments)]
-        peak = batch_supremum(batch, segs=segs)
+        split = None
+        if key("peak_primary") in reference and load.ends is not None:
+            ends = np.where(np.isfinite(load.ends), load.ends, 0.0)
+            peak, *split = batch_split_suprema(batch, ends, segs)
+        else:
+            peak = batch_supremum(batch, segs=segs)
         out.redo |= peak.redo
         out.put(key("peak"), y(peak.value))
         out.put(key("time_of_peak"), np.where(peak.attained, t(peak.time), math.inf))
@@ -113,7 +118,7 @@ def batch_engineering_results(problem, model, columns, reference, writer_of) -> 
         out.redo |= redo
         out.put(key("final_value"), y(final))
         row = statics.get(name)
-        _load_factor(out, key, y, t, batch, segs, peak, row, load)
+        _load_factor(out, key, y, t, split, peak, row, load)
         _step_figures(out, key, final, at_rest)
     for key in reference:  # a numeric figure this route did not find: the one-case route
         r = reference[key]
@@ -218,7 +223,7 @@ def _at_rest(problem, model, columns) -> np.ndarray:
     return ~np.any(np.stack(values) != 0, axis=0)
 
 
-def _load_factor(out: _Writer, key, y, t, batch, segs, peak, row, load: _LoadFigures):
+def _load_factor(out: _Writer, key, y, t, split, peak, row, load: _LoadFigures):
     """Static responses, the dynamic load factor and its primary and residual parts."""
     ref = out.reference
     if row is not None and key("static_response") in ref:
@@ -244,9 +249,7 @@ def _load_factor(out: _Writer, key, y, t, batch, segs, peak, row, load: _LoadFig
         out.redo |= np.isfinite(load.ends)
         return
     out.redo |= ~np.isfinite(load.ends)
-    ends = np.where(np.isfinite(load.ends), load.ends, 0.0)
-    parts = (("primary", batch_supremum(batch, 0, 0.0, ends, segs)),
-             ("residual", batch_supremum(batch, 0, ends, math.inf, segs)))
+    parts = zip(("primary", "residual"), split)
     for part, ext in parts:
         out.redo |= ext.redo
         out.put(key(f"peak_{part}"), y(ext.value))
