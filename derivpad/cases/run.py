@@ -30,6 +30,7 @@ from ..core.checking.window import window_end
 from ..core.family import DerivationFamily
 from ..core.reading.read_problem import make_problem
 from ..errors import DerivpadError, ParameterError, VerificationFailedError
+from .chunk import Chunk, ChunkBuilder, joined
 from .results import CaseResults, envelope_of
 from .store import ChunkStore, publish
 from .table import pandas, read_cases
@@ -96,13 +97,15 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     if store is not None:
         chunks = (str(store), _run_key(spec, judged, on_error))
         ChunkStore(*chunks)  # the folder made (or refused) before any work
-    rows, notes, forms = _evaluate(spec, family, table, judged, on_error, progress, scheduler,
-                                   chunks)
+    found = _evaluate(spec, family, table, judged, on_error, progress, scheduler, chunks)
+    forms = found.forms
     for form in dict.fromkeys(forms):  # each form checked in full here too (for .forms)
         if form in _FORMS and form not in family.verified:
             family.numbers_at(table.case(forms.index(form)))
-    frame = _frame(table, rows, notes, forms)
-    units_of = _units(rows, table)
+    frame = _frame(table, found)
+    units_of = dict(zip(table.names, table.units))
+    for key, unit in found.units.items():
+        units_of.setdefault(key, unit)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
     checked = _integration_sample(family, table, frame, envelope, seed, tolerances)
     used = tuple((f, d) for f, d in family.verified.items() if f in forms)
@@ -137,7 +140,7 @@ def _problem_spec(table, options: dict) -> dict:
     return {**options, "params": params, "units": units or None, "vary": table.names}
 
 
-CHUNK = 500  # cases per chunk at most: the unit of work of a worker
+CHUNK = 4000  # cases per chunk at most: the unit of work of a worker
 _FORMS = ("underdamped", "overdamped")
 _FAMILIES: dict = {}  # per process: the family of each problem, derived once
 
@@ -155,29 +158,26 @@ def _family(spec: dict) -> DerivationFamily:
     return _FAMILIES[key]
 
 
-def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str):
-    """A chunk of cases: (rows, notes, forms). A pure function of its arguments, so that any
-    worker can run any chunk; the family is derived once per process. The cases of each form
-    are evaluated together over arrays (:func:`batched`); a case that route leaves, one by
-    one through its form's closed form or derived with its numbers."""
+def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str) -> Chunk:
+    """A chunk of cases, by column (:class:`Chunk`). A pure function of its arguments, so that
+    any worker can run any chunk; the family is derived once per process. The cases of each
+    form are evaluated together over arrays (:func:`batched`); a case that route leaves, on its
+    own through its form's closed form or derived with its numbers."""
     family = _family(spec)
     names = spec["vary"]
-    good = [i for i in range(len(ids)) if i not in failed]
-    done = batched(family, np.asarray(values, dtype=float)[good], criteria) if good else {}
-    position = {i: k for k, i in enumerate(good)}
-    rows, notes, forms = [], [], []
+    out = ChunkBuilder(len(ids))
+    good = np.array([i for i in range(len(ids)) if i not in failed], dtype=int)
+    done = np.zeros(len(ids), dtype=bool)
+    if good.size:
+        for idx, columns, units, notes, form in batched(family, np.asarray(values, float)[good],
+                                                         criteria):
+            out.rows(good[idx], columns, units, notes, form)
+            done[good[idx]] = True
     for i, case in enumerate(ids):
         if i in failed:
-            rows.append({})
-            notes.append(failed[i])
-            forms.append("failed")
+            out.row(i, {}, failed[i], "failed")
             continue
-        k = position[i]
-        if k in done:
-            row, note, form = done[k]
-            rows.append(row)
-            notes.append(note)
-            forms.append(form)
+        if done[i]:
             continue
         try:
             form, results = _case(family, dict(zip(names, (float(v) for v in values[i]))))
@@ -187,29 +187,25 @@ def evaluate_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: st
                 exc.args = (why,)
                 exc.case = case
                 raise
-            rows.append({})
-            notes.append(why)
-            forms.append("failed")
+            out.row(i, {}, why, "failed")
             continue
         row, note = _row(results, judge(criteria, results))
-        rows.append(row)
-        notes.append(note)
-        forms.append(form)
-    return rows, notes, forms
+        out.row(i, row, note, form)
+    return out.finish()
 
 
 _REFERENCES = weakref.WeakKeyDictionary()  # family → {form: one case's results (its shape)}
 
 
-def batched(family, values: np.ndarray, criteria) -> dict:
-    """{index: (row, note, form)} of the cases evaluated over arrays, form by form
-    (:func:`derivpad.core.checking.batch_results.batch_engineering_results`); the cases it
-    leaves out take the one-case route."""
+def batched(family, values: np.ndarray, criteria):
+    """The cases evaluated over arrays, form by form
+    (:func:`derivpad.core.checking.batch_results.batch_engineering_results`): for each form,
+    (indices into ``values``, {key: values}, {key: unit}, notes, form); the cases left out
+    take the one-case route."""
     columns = family.si_columns(values)
     if columns is None or len(values) < 2:
-        return {}
+        return
     forms = family.forms_of(columns)
-    out: dict = {}
     for form in _FORMS:
         idx = np.nonzero(forms == form)[0]
         if not idx.size:
@@ -217,19 +213,17 @@ def batched(family, values: np.ndarray, criteria) -> dict:
         reference = _reference(family, form, values[idx[0]])
         if reference is None:
             continue
-        cols = [c[idx] for c in columns]
-        got = batch_engineering_results(family.problem, family._compiled[form][1], cols,
-                                        reference, lambda name: writer_for(family.problem, name))
-        judged = judge_columns(criteria, got.columns, reference)
+        got = batch_engineering_results(family.problem, family._compiled[form][1],
+                                        [c[idx] for c in columns], reference,
+                                        lambda name: writer_for(family.problem, name))
+        keep = np.nonzero(~got.redo)[0]
         keys = [k for k in reference if k in got.columns]
-        units = [got.units[k] for k in keys]
-        for j in np.nonzero(~got.redo)[0]:
-            row = {k: (float(got.columns[k][j]), u) for k, u in zip(keys, units)}
-            for text, (use, outcome) in judged.items():
-                row[f"{text}: utilisation"] = (float(use[j]), "")
-                row[f"{text}: outcome"] = (outcome[j], "")
-            out[int(idx[j])] = (row, _batch_note(reference, got, keys, j), form)
-    return out
+        out = {k: got.columns[k][keep] for k in keys}
+        units = {k: got.units[k] for k in keys}
+        for text, (use, outcome) in judge_columns(criteria, got.columns, reference).items():
+            out[f"{text}: utilisation"] = use[keep]
+            out[f"{text}: outcome"] = outcome[keep]
+        yield idx[keep], out, units, _batch_notes(reference, got, keys, keep), form
 
 
 def _reference(family, form: str, case):
@@ -243,17 +237,22 @@ def _reference(family, form: str, case):
     return known[form]
 
 
-def _batch_note(reference, got, keys, j: int) -> str:
-    """The case's note as :func:`_row` writes it: each figure without a value, with why."""
-    why = []
+def _batch_notes(reference, got, keys, keep) -> list:
+    """Each kept case's note as :func:`_row` writes it: each figure without a value, why."""
+    parts = []
     for k in keys:
-        v = got.columns[k][j]
-        if math.isnan(v):
-            why.append(f"{k}: {reference[k].reason}")
-        elif math.isinf(v):
+        v = got.columns[k][keep]
+        absent = np.isnan(v)
+        if absent.any():
+            parts.append(np.where(absent, f"{k}: {reference[k].reason}", ""))
+        endless = np.isinf(v)
+        if endless.any():
             note = got.notes.get(k)
-            why.append(f"{k}: {note[j] if note is not None else reference[k].reason}")
-    return "; ".join(why)
+            why = note[keep] if note is not None else np.full(len(keep), reference[k].reason)
+            parts.append(np.where(endless, np.char.add(f"{k}: ", why.astype(str)), ""))
+    if not parts:
+        return [""] * len(keep)
+    return ["; ".join(x for x in texts if x) for texts in zip(*parts)]
 
 
 def run_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str, store=None):
@@ -293,20 +292,18 @@ def _chunks(table):
         yield table.ids[start:stop], table.values[start:stop], failed
 
 
-def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, store):
+def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, store) -> Chunk:
     """Every case, chunk by chunk: here (``scheduler=None``), or on Dask — "processes" for
     all local cores, a scheduler address or a ``distributed.Client`` for a cluster."""
-    rows, notes, forms = [], [], []
+    done: list = []
     tick = _progress(progress, len(table))
+    count = lambda: sum(len(c) for c in done)  # noqa: E731
     if scheduler is None:
         for ids, values, failed in _chunks(table):
-            tick(len(rows))
-            r, n, f = run_chunk(spec, ids, values, failed, criteria, on_error, store)
-            rows += r
-            notes += n
-            forms += f
-        tick(len(rows))
-        return rows, notes, forms
+            tick(count())
+            done.append(run_chunk(spec, ids, values, failed, criteria, on_error, store))
+        tick(count())
+        return joined(done)
     from ..errors import import_extra
     (dask,) = import_extra(("dask",), "load cases on Dask", "scale")
     client = scheduler
@@ -317,15 +314,13 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, stor
                                                 store)
              for ids, values, failed in _chunks(table)]
     try:
-        for r, n, f in dask.compute(*tasks, scheduler=client):
-            rows += r
-            notes += n
-            forms += f
-            tick(len(rows))
+        for chunk in dask.compute(*tasks, scheduler=client):
+            done.append(chunk)
+            tick(count())
     finally:
         if client is not scheduler:
             client.close()
-    return rows, notes, forms
+    return joined(done)
 
 
 def _case(family, values: dict):
@@ -381,27 +376,15 @@ def _row(results, judgements) -> tuple[dict, str]:
     return row, "; ".join(why)
 
 
-def _units(rows, table) -> dict:
-    units = dict(zip(table.names, table.units))
-    for row in rows:
-        for key, (_, unit) in row.items():
-            units.setdefault(key, unit)
-    return units
-
-
-def _frame(table, rows, notes, forms):
+def _frame(table, found: Chunk):
     pd = pandas()
     data = {"case": list(table.ids)}
     for j, name in enumerate(table.names):
         data[name] = table.values[:, j]
-    keys: list = []
-    for row in rows:
-        keys += [k for k in row if k not in keys]
-    for key in keys:
-        empty = "not evaluated" if key.endswith(": outcome") else math.nan
-        data[key] = [row.get(key, (empty, ""))[0] for row in rows]
-    data["form"] = forms
-    data["notes"] = notes
+    for key in found.keys:
+        data[key] = found.columns[key]
+    data["form"] = found.forms
+    data["notes"] = found.notes
     return pd.DataFrame(data)
 
 

@@ -19,6 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .chunk import Chunk
 from ..errors import ExportError, import_extra
 
 __all__ = ["ChunkStore"]
@@ -42,31 +43,31 @@ class ChunkStore:
         return h.hexdigest()[:32]
 
     def load(self, key: str):
-        """(rows, notes, forms) of a finished chunk, or None."""
+        """The :class:`Chunk` of a finished chunk, or None."""
         path = self.chunks / f"{key}.parquet"
         if not path.is_file():
             return None
         (pq,) = import_extra(("pyarrow.parquet",), "resuming load cases", "cases")
         table = pq.read_table(path)
         meta = json.loads(table.schema.metadata[b"derivpad"])
-        columns = {k: table.column(f"r:{k}").to_pylist() for k in meta["keys"]}
-        rows = [{k: (columns[k][i], meta["units"][k]) for k in meta["keys"]
-                 if columns[k][i] is not None} for i in range(table.num_rows)]
-        return rows, table.column("notes").to_pylist(), table.column("form").to_pylist()
+        columns = {}
+        for k in meta["keys"]:
+            column = table.column(f"r:{k}")
+            columns[k] = (np.array(column.to_pylist(), dtype=object) if k.endswith(": outcome")
+                          else column.to_numpy(zero_copy_only=False).astype(float))
+        return Chunk(tuple(meta["keys"]), meta["units"], columns,
+                     table.column("notes").to_pylist(), table.column("form").to_pylist())
 
-    def save(self, key: str, result) -> None:
+    def save(self, key: str, chunk: Chunk) -> None:
         """Write a finished chunk (whole or not at all)."""
         (pa,) = import_extra(("pyarrow",), "keeping load-case chunks", "cases")
         import pyarrow.parquet as pq
-        rows, notes, forms = result
-        keys: list = []
-        for row in rows:
-            keys += [k for k in row if k not in keys]
-        units = {k: next(row[k][1] for row in rows if k in row) for k in keys}
-        data = {f"r:{k}": pa.array([row[k][0] if k in row else None for row in rows])
-                for k in keys}
-        data.update(notes=pa.array(notes, pa.string()), form=pa.array(forms, pa.string()))
-        meta = {b"derivpad": json.dumps({"keys": keys, "units": units}).encode()}
+        data = {f"r:{k}": pa.array(chunk.columns[k].tolist() if k.endswith(": outcome")
+                                   else chunk.columns[k]) for k in chunk.keys}
+        data.update(notes=pa.array(chunk.notes, pa.string()),
+                    form=pa.array(chunk.forms, pa.string()))
+        meta = {b"derivpad": json.dumps({"keys": list(chunk.keys),
+                                         "units": chunk.units}).encode()}
         table = pa.table(data).replace_schema_metadata(meta)
         publish(self.chunks / f"{key}.parquet", lambda p: pq.write_table(table, p))
 

@@ -171,7 +171,7 @@ def batch_supremum(batch: ModeBatch, sense: int = 0, start=0.0, stop=math.inf,
     """The supremum of |y| (sense 0) or of sense·y over [start, stop] for every case, as
     :func:`derivpad.core.checking.response.supremum`. ``start``/``stop``: numbers or arrays."""
     segs = segs if segs is not None else [batch.segment(j) for j in range(batch.segments)]
-    return _extreme(_per_sign(batch, start, stop, segs), sense)
+    return _extreme(_per_sign(batch, start, stop, segs, either=sense == 0), sense)
 
 
 def batch_split_suprema(batch: ModeBatch, at, segs=None):
@@ -181,20 +181,21 @@ def batch_split_suprema(batch: ModeBatch, at, segs=None):
     searched over all t again."""
     segs = segs if segs is not None else [batch.segment(j) for j in range(batch.segments)]
     before = _per_sign(batch, 0.0, at, segs)
-    after = _per_sign(batch, at, math.inf, segs)
+    after = _per_sign(batch, at, math.inf, segs, either=True)
     first = before[0] >= after[0]
     whole = [np.where(first, b, a) for b, a in zip(before[:3], after[:3])] + [
         before[3] | after[3]]
     again = np.nonzero(~after[2].all(axis=0))[0]
     if again.size:
-        rows = _per_sign(batch.rows(again), 0.0, math.inf, [g.rows(again) for g in segs])
+        rows = _per_sign(batch.rows(again), 0.0, math.inf, [g.rows(again) for g in segs],
+                         either=True)
         for part, got in zip(whole[:3], rows[:3]):
             part[:, again] = got
         whole[3][again] |= rows[3]
     return _extreme(tuple(whole), 0), _extreme(before, 0), _extreme(after, 0)
 
 
-def _per_sign(batch: ModeBatch, start, stop, segs):
+def _per_sign(batch: ModeBatch, start, stop, segs, either: bool = False):
     """(best of ±y, its time, attained, redo): each 2 × cases but redo (cases)."""
     n = len(batch)
     start = np.broadcast_to(np.asarray(start, dtype=float), (n,))
@@ -202,7 +203,7 @@ def _per_sign(batch: ModeBatch, start, stop, segs):
     if np.all(np.isfinite(stop)):
         best, when, redo = _interval_max(batch, start, stop, segs)
         return best, when, np.ones((2, n), dtype=bool), redo | batch.bad
-    return _to_infinity(batch, start, segs)
+    return _to_infinity(batch, start, segs, either)
 
 
 def _extreme(per_sign, sense: int) -> BatchExtreme:
@@ -218,10 +219,12 @@ def _extreme(per_sign, sense: int) -> BatchExtreme:
                         np.where(up, attained[0], attained[1]), redo)
 
 
-def _to_infinity(batch: ModeBatch, start, segs):
+def _to_infinity(batch: ModeBatch, start, segs, either: bool = False):
     """sup of ±y over [start, ∞) (2 × cases): the intervals up to the last switch, then the
     last segment searched over spans that double until its decaying modes' bound proves the
-    best value found (response.supremum's rule, case by case)."""
+    best value found (response.supremum's rule, case by case). ``either``: only the larger
+    side is wanted (sup |y|), so a side is given up once the other is proven larger than
+    anything it can still reach."""
     n = len(batch)
     last = segs[-1]
     growing, steady, decaying = last.classify()
@@ -258,6 +261,8 @@ def _to_infinity(batch: ModeBatch, start, segs):
         time[:, idx] = np.where(live, np.where(reached, math.inf, when[:, idx]), time[:, idx])
         attained[:, idx] = np.where(live, ~reached, attained[:, idx])
         todo[:, idx] = live & ~(proven | limit)
+        if either:
+            _give_up(todo, idx, value, time, attained, b, np.maximum(b, sv + tail), when)
         more = np.nonzero(todo.any(axis=0))[0]
         if not more.size:
             break
@@ -268,6 +273,19 @@ def _to_infinity(batch: ModeBatch, start, segs):
         upper[more] = nxt
     redo |= todo.any(axis=0)
     return value, time, attained, redo
+
+
+def _give_up(todo, idx, value, time, attained, best, bound, when) -> None:
+    """For sup |y|: a side still searched whose bound is below the other side's settled
+    value cannot be the answer; it keeps its best so far (smaller) and is searched no more."""
+    for k in (0, 1):
+        o = 1 - k
+        lose = todo[k, idx] & ~todo[o, idx] & (value[o, idx] > bound[k])
+        if lose.any():
+            rows = idx[lose]
+            value[k, rows], time[k, rows] = best[k, lose], when[k, rows]
+            attained[k, rows] = True
+            todo[k, rows] = False
 
 
 def batch_final_value(batch: ModeBatch, segs=None):
