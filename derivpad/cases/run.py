@@ -97,7 +97,21 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     if store is not None:
         chunks = (str(store), _run_key(spec, judged, on_error))
         ChunkStore(*chunks)  # the folder made (or refused) before any work
-    found = _evaluate(spec, family, table, judged, on_error, progress, scheduler, chunks)
+    runner = _Runner(scheduler)
+    try:
+        found = _evaluate(spec, family, table, judged, on_error, progress, runner, chunks)
+        result = _results(spec, family, table, found, seed, runner)
+    finally:
+        runner.close()
+    if store is not None:  # the whole run published, each file by a rename
+        result.to_parquet(Path(store) / "cases.parquet")
+        publish(Path(store) / "envelope.csv", lambda p: result.envelope.to_csv(p, index=False))
+    return result
+
+
+def _results(spec, family, table, found: Chunk, seed: int, runner) -> CaseResults:
+    """The CaseResults of the evaluated cases: the table, its envelope and what was
+    checked (the forms, the sampled integration)."""
     forms = found.forms
     for form in dict.fromkeys(forms):  # each form checked in full here too (for .forms)
         if form in _FORMS and form not in family.verified:
@@ -107,13 +121,9 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     for key, unit in found.units.items():
         units_of.setdefault(key, unit)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
-    checked = _integration_sample(family, table, frame, envelope, seed, tolerances)
+    checked = _integration_sample(spec, table, frame, envelope, seed, runner)
     used = tuple((f, d) for f, d in family.verified.items() if f in forms)
-    result = CaseResults(frame, envelope, used, units_of, checked, table.names)
-    if store is not None:  # the whole run published, each file by a rename
-        result.to_parquet(Path(store) / "cases.parquet")
-        publish(Path(store) / "envelope.csv", lambda p: envelope.to_csv(p, index=False))
-    return result
+    return CaseResults(frame, envelope, used, units_of, checked, table.names)
 
 
 def _problem_spec(table, options: dict) -> dict:
@@ -298,29 +308,56 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, stor
     done: list = []
     tick = _progress(progress, len(table))
     count = lambda: sum(len(c) for c in done)  # noqa: E731
-    if scheduler is None:
+    if scheduler.scheduler is None:
         for ids, values, failed in _chunks(table):
             tick(count())
             done.append(run_chunk(spec, ids, values, failed, criteria, on_error, store))
         tick(count())
         return joined(done)
-    from ..errors import import_extra
-    (dask,) = import_extra(("dask",), "load cases on Dask", "scale")
-    client = scheduler
-    if isinstance(scheduler, str) and scheduler != "processes":
-        (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
-        client = distributed.Client(scheduler)
-    tasks = [dask.delayed(run_chunk, pure=True)(spec, ids, values, failed, criteria, on_error,
-                                                store)
+    tasks = [(run_chunk, (spec, ids, values, failed, criteria, on_error, store))
              for ids, values, failed in _chunks(table)]
-    try:
-        for chunk in dask.compute(*tasks, scheduler=client):
-            done.append(chunk)
-            tick(count())
-    finally:
-        if client is not scheduler:
-            client.close()
+    for chunk in scheduler.compute(tasks):
+        done.append(chunk)
+        tick(count())
     return joined(done)
+
+
+class _Runner:
+    """Where pure tasks run: here (``scheduler=None``), on all local cores through Dask's
+    process scheduler ("processes", one pool of worker processes for the whole run, so that
+    each worker derives the forms once), or on a Dask cluster (an address or a
+    ``distributed.Client``)."""
+
+    def __init__(self, scheduler):
+        self.scheduler = scheduler
+        self._client = self._pool = None
+        if scheduler is None:
+            return
+        from ..errors import import_extra
+        (self._dask,) = import_extra(("dask",), "load cases on Dask", "scale")
+        if scheduler == "processes":
+            import multiprocessing
+            from concurrent.futures import ProcessPoolExecutor
+            self._pool = ProcessPoolExecutor(mp_context=multiprocessing.get_context("spawn"))
+        elif isinstance(scheduler, str):
+            (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
+            self._client = distributed.Client(scheduler)
+
+    def compute(self, tasks) -> list:
+        """The results of ``tasks`` ((function, arguments) pairs), in order."""
+        if self.scheduler is None:
+            return [fn(*args) for fn, args in tasks]
+        dask = self._dask
+        jobs = [dask.delayed(fn, pure=True)(*args) for fn, args in tasks]
+        if self._pool is not None:
+            return list(dask.compute(*jobs, scheduler="processes", pool=self._pool))
+        return list(dask.compute(*jobs, scheduler=self._client or self.scheduler))
+
+    def close(self) -> None:
+        if self._pool is not None:
+            self._pool.shutdown()
+        if self._client is not None:
+            self._client.close()
 
 
 def _case(family, values: dict):
@@ -409,87 +446,100 @@ def _sample(n: int, seed: int) -> list[int]:
     return sorted(random.Random(seed).sample(range(n), size))
 
 
-def _integration_sample(family, table, frame, envelope, seed, tolerances):
-    """The independent integration of the sampled and the governing cases against their
-    closed forms (each form's cases integrated together, :func:`integrate_cases`; a case that
-    route cannot take, on its own with every independent check), and the first of them found
-    again one case at a time and compared with the table; returns what was checked, in words,
-    and raises on any disagreement."""
-    evaluated = [i for i, form in enumerate(frame["form"]) if form != "failed"]
+def _integration_sample(spec, table, frame, envelope, seed, scheduler):
+    """The independent integration of a seeded random sample and of the governing cases
+    against their closed forms (on the scheduler where there is one), and some of them found
+    again one case at a time and compared with the table; returns what was checked, in
+    words, and raises on any disagreement."""
+    family = _family(spec)
+    forms = frame["form"].tolist()
+    evaluated = [i for i, form in enumerate(forms) if form != "failed"]
     sample = [evaluated[k] for k in _sample(len(evaluated), seed)]
     index = {case: i for i, case in enumerate(table.ids)}
-    governing = {index[c] for c in envelope["case of max"].tolist() + envelope["case of min"]
-                 .tolist() if c in index}
-    chosen = sorted(set(sample) | governing)
-    tol = {**NUMERIC_TOLERANCES, **(tolerances or {})}
-    worst, alone = _integrated_together(family, table, frame, chosen, tol["integration"])
-    for i in alone:
-        worst = max(worst, _checked_alone(family, table, i, tol))
+    tops = {index[c] for c in envelope["case of max"].tolist() + envelope["case of min"]
+            .tolist() if c in index and forms[index[c]] != "failed"}
+    chosen = sorted(set(sample) | tops)
+    groups = [chosen[k::_SAMPLE_TASKS] for k in range(_SAMPLE_TASKS)] if \
+        scheduler.scheduler is not None else [chosen]
+    found = scheduler.compute([(sample_errors, (spec, [table.ids[i] for i in g], table.values[g],
+                                                [forms[i] for i in g])) for g in groups if g])
+    errors = np.concatenate(found) if found else np.zeros(0)
+    worst = float(np.max(errors[np.isfinite(errors)], initial=0.0))
     again = sorted(set(random.Random(seed).sample(sample, min(SAMPLE_MINIMUM, len(sample))))
-                   | governing)
+                   | tops)
     for i in again:
         form, numbers, _ = family.numbers_at(table.case(i))
         if form is not None:
             _same_as_one_case(table.ids[i], frame.iloc[i],
                               _row(engineering_results(family.problem, numbers, None), ())[0])
-    forms = sorted(set(frame["form"]))
-    return (f"{len(forms)} form(s): {', '.join(forms)}; each form derived in symbols was "
+    kinds = sorted(set(forms))
+    return (f"{len(kinds)} form(s): {', '.join(kinds)}; each form derived in symbols was "
             "checked in full (back-substitution, initial and jump conditions, numerical "
             "integration and inversion, limit theorems) at the first case it served",
             f"every case's values checked against its form's conditions ({len(table)} cases)",
             f"an independent numerical integration of {len(chosen)} cases (a seeded random "
             f"sample, seed {seed}, at least {SAMPLE_FRACTION:.0%} and at least "
-            f"{SAMPLE_MINIMUM}, and every governing case): {len(chosen) - len(alone)} "
-            "integrated together (SciPy solve_ivp, DOP853, each case restarted at its own "
-            f"switches), {len(alone)} on their own with numerical inversion and the limit "
+            f"{SAMPLE_MINIMUM}, and every governing case): each form's cases integrated "
+            "together (SciPy solve_ivp, DOP853, each case restarted at its own switches), a "
+            "case that route cannot take on its own with numerical inversion and the limit "
             f"theorems too; largest integration error {worst:.2e} of the peak",
             f"{len(again)} of these cases' results found again one case at a time and "
             "compared with the table (evaluated over arrays of cases)")
 
 
-def _integrated_together(family, table, frame, chosen, tolerance):
-    """(largest error, the cases left to check alone): each form's chosen cases integrated
-    together against its closed form; a disagreement stops the run naming the case."""
-    forms = frame["form"].to_numpy()
-    alone = [i for i in chosen if forms[i] not in _FORMS]
-    worst = 0.0
+_SAMPLE_TASKS = 8  # groups the sampled cases are integrated in, on a scheduler
+
+
+def sample_errors(spec: dict, ids, values: np.ndarray, forms) -> np.ndarray:
+    """Each case's integration error relative to its peak (NaN: derived with its numbers,
+    every check run then): each form's cases integrated together (:func:`integrate_cases`),
+    a case that route cannot take checked on its own; a disagreement stops the run naming
+    the case. A pure function of its arguments (any worker can run it)."""
+    family = _family(spec)
+    tol = {**NUMERIC_TOLERANCES, **(spec["tolerances"] or {})}
+    out = np.full(len(ids), math.nan)
+    forms = np.asarray(forms, dtype=object)
+    alone = [k for k in range(len(ids)) if forms[k] not in _FORMS]
     for form in _FORMS:
-        idx = np.array([i for i in chosen if forms[i] == form], dtype=int)
+        idx = np.nonzero(forms == form)[0]
         if not idx.size:
             continue
-        columns = family.si_columns(table.values[idx])
-        model = family._compiled.get(form)
-        got = None if columns is None or model is None else integrate_cases(
-            family.problem, model[1], columns)
+        if form not in family._compiled:  # a worker that has not met the form yet
+            family.numbers_at(dict(zip(family.vary, map(float, values[idx[0]]))))
+        columns = family.si_columns(values[idx])
+        got = None if columns is None else integrate_cases(
+            family.problem, family._compiled[form][1], columns)
         if got is None:
             alone += idx.tolist()
             continue
         rel, ran = got
-        bad = np.nonzero(ran & ~(rel <= tolerance))[0]
+        bad = np.nonzero(ran & ~(rel <= tol["integration"]))[0]
         if bad.size:
-            i = int(idx[bad[0]])
-            msg = (f"case {table.ids[i]}: the numerical integration disagrees with the closed "
-                   f"form (relative error {rel[bad[0]]:.3e} > {tolerance:g}); the load-case "
-                   "results are not verified")
+            msg = (f"case {ids[idx[bad[0]]]}: the numerical integration disagrees with the "
+                   f"closed form (relative error {rel[bad[0]]:.3e} > {tol['integration']:g}); "
+                   "the load-case results are not verified")
             raise VerificationFailedError(msg)
-        worst = max([worst] + rel[ran].tolist())
+        out[idx[ran]] = rel[ran]
         alone += idx[~ran].tolist()
-    return worst, sorted(alone)
+    for k in alone:
+        out[k] = _checked_alone(family, ids[k], dict(zip(family.vary, map(float, values[k]))),
+                                tol)
+    return out
 
 
-def _checked_alone(family, table, i: int, tol: dict) -> float:
+def _checked_alone(family, case, values: dict, tol: dict) -> float:
     """One case's independent checks (integration, inversion, limit theorems) on its own; the
-    integration error, relative to the peak. A case derived with its numbers ran every check
-    when it was derived."""
-    form, numbers, _ = family.numbers_at(table.case(i))
+    integration error relative to the peak (NaN for a case derived with its numbers, which
+    ran every check when it was derived)."""
+    form, numbers, _ = family.numbers_at(values)
     if form is None:
-        return 0.0
+        return math.nan
     end = window_end(numbers.every_pole, list(numbers.breakpoints), family._args["window"])
     checks, _ = independent_checks(numbers, tol, end)
     worst = 0.0
     for c in checks:
         if c.applicable and c.ran and not c.passed:
-            msg = (f"case {table.ids[i]}: {c.name} disagrees with the closed form "
+            msg = (f"case {case}: {c.name} disagrees with the closed form "
                    f"({c.detail or c.status}); the load-case results are not verified")
             raise VerificationFailedError(msg)
         if c.name == "Numerical integration" and c.ran:
