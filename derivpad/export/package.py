@@ -113,6 +113,15 @@ def cases_records(cases) -> list:
     return out
 
 
+def _inline_figures(files: dict, runs: int) -> list[str]:
+    """Each load-case run's figure file as an inline SVG element for the report."""
+    out = []
+    for i in range(1, runs + 1):
+        text = files.get(f"figures/cases-{i}.svg", b"").decode("utf-8")
+        out.append(text[text.find("<svg"):] if "<svg" in text else "")
+    return out
+
+
 def _case_files(cases) -> dict[str, bytes]:
     """Each load-case run's table as CSV (and as Parquet where pyarrow is installed), its
     envelope as CSV, under cases/, and its figure (the governing result against the inputs)
@@ -210,8 +219,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         report = stage / "report.html"
         report.write_text(report_html(calc.record, calc.derivations, calc.html,
                                       verified=verified, created=created, page_size=page_size,
-                                      cases=cases,
-                                      cases_fragments=calc.cases_html),
+                                      cases=cases, cases_fragments=calc.cases_html,
+                                      cases_figures=_inline_figures(files, len(cases))),
                           encoding="utf-8")
         if pdf:
             say("printing report.pdf")

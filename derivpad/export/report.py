@@ -138,10 +138,11 @@ def _num(x) -> str:
 
 
 def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
-                page_size: str = "A4", cases=(), cases_fragments=()) -> str:
+                page_size: str = "A4", cases=(), cases_fragments=(), cases_figures=()) -> str:
     """The report page: the first sheet (title block, purpose, inputs, key results against the
     acceptance criteria, status), contents, the rest of the record, the derivations with every
-    step open, then assumptions, references and cautions; no heading without content."""
+    step open, each load-case run with its figure (``cases_figures``: inline SVG), then
+    assumptions, references and cautions; no heading without content."""
     status = ("VERIFIED: every derivation passed all its checks" if verified else
               "NOT VERIFIED: packaged with failed or unrun checks")
     cover = (f'<div class="dp-cover"><h1>{_e(record["title"])}</h1><table>'
@@ -184,7 +185,14 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
     for i, (d, fragment) in enumerate(zip(derivations, fragments), 1):
         body.append(f'<h2 class="dp-section" id="derivation-{i}">Derivation {i}</h2>{fragment}')
     for i, fragment in enumerate(cases_fragments, 1):
-        body.append(f'<h2 class="dp-section" id="cases-{i}">Load cases {i}</h2>{fragment}')
+        figure = ""
+        if i <= len(cases_figures) and cases_figures[i - 1]:
+            caption = (f"Load cases {i}: the governing result against each input, the governing "
+                       f"case marked (figures/cases-{i}.svg in the package)")
+            figure = (f'<div class="derivpad"><figure>{cases_figures[i - 1]}'
+                      f"<figcaption>{_e(caption)}</figcaption></figure></div>")
+        body.append(f'<h2 class="dp-section" id="cases-{i}">Load cases {i}</h2>{fragment}'
+                    f"{figure}")
     if assumptions or references:
         part = ['<h2 class="dp-section" id="assumptions">Assumptions and references</h2>']
         for label, items in (("Assumptions", assumptions), ("References", references)):

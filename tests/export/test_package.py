@@ -211,6 +211,8 @@ def test_a_load_case_calc_packages_its_table_envelope_and_audits(tmp_path):
     assert (folder / "figures" / "cases-1.svg").read_text().startswith("<?xml")
     html = (folder / "report.html").read_text()
     assert "Load cases 1: 9 cases (underdamped)" in html and 'id="cases-1"' in html
+    section = html[html.index('id="cases-1"'):]
+    assert section.index("<svg") < section.index("figures/cases-1.svg in the package")
     report = audit_package(folder, rerun=True)
     assert report.holds, report.table()
 
