@@ -98,3 +98,41 @@ def joined(chunks) -> Chunk:
     notes = [x for c in chunks for x in c.notes]
     forms = [x for c in chunks for x in c.forms]
     return Chunk(tuple(keys), units, columns, notes, forms)
+
+
+@dataclass(frozen=True, eq=False)
+class ChunkSummary:
+    """What a run that keeps its rows in a store holds of a chunk: its file's key, its result
+    keys and units, each case's form (codes into ``form_names``), and per numeric result its
+    largest and smallest value with where they are (position within the chunk) and how many
+    cases have a value — enough for the envelope without the rows."""
+
+    key: str
+    size: int
+    keys: tuple
+    units: dict
+    forms: np.ndarray
+    form_names: tuple
+    extremes: dict
+
+    def __len__(self) -> int:
+        return self.size
+
+    @classmethod
+    def of(cls, chunk: Chunk, key: str) -> "ChunkSummary":
+        names = tuple(dict.fromkeys(chunk.forms))
+        code = {f: i for i, f in enumerate(names)}
+        extremes = {}
+        for k in chunk.keys:
+            if _is_text(k):
+                continue
+            col = np.asarray(chunk.columns[k], dtype=float)
+            has = ~np.isnan(col)
+            if has.any():
+                hi, lo = int(np.nanargmax(col)), int(np.nanargmin(col))
+                extremes[k] = (float(col[hi]), hi, float(col[lo]), lo, int(has.sum()))
+        return cls(key, len(chunk), chunk.keys, dict(chunk.units),
+                   np.array([code[f] for f in chunk.forms], dtype=np.int16), names, extremes)
+
+    def form_list(self) -> list:
+        return [self.form_names[c] for c in self.forms.tolist()]

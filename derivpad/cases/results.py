@@ -10,7 +10,7 @@ from types import MappingProxyType
 import numpy as np
 
 from ..errors import ExportError, ParameterError
-from .store import publish
+from .store import StoredTable, publish
 from .table import pandas
 
 __all__ = ["CASES_FORMAT_VERSION", "CaseResults", "envelope_of"]
@@ -49,13 +49,14 @@ class CaseResults:
 
     ``table``: one row per case (its name, its inputs in their columns' units, each result in
     its display unit, each criterion's utilisation and outcome, the form it used, and why a
-    result has no value); ``envelope``: the largest and smallest value of each result with
+    result has no value), a pandas DataFrame — held in ``rows``, which for a run kept in a
+    store is the store's ``cases.parquet``, read when ``table`` is first used; ``envelope``: the largest and smallest value of each result with
     the case it comes from; ``forms``: (form, Derivation) for each form derived in symbols,
     checked in full; ``units``: the unit of every column; ``verified``: what was checked;
     ``inputs``: the varied parameters' columns.
     """
 
-    table: object
+    rows: object
     envelope: object
     forms: tuple
     units: MappingProxyType
@@ -64,6 +65,18 @@ class CaseResults:
 
     def __post_init__(self):
         object.__setattr__(self, "units", MappingProxyType(dict(self.units)))
+
+    @property
+    def table(self):
+        """The table as a pandas DataFrame (a stored run's read from its store when first
+        used)."""
+        rows = self.rows
+        return rows.frame if isinstance(rows, StoredTable) else rows
+
+    @property
+    def cases(self) -> int:
+        """How many cases the run has (without reading a stored table)."""
+        return len(self.rows)
 
     def governing(self, key: str, which: str = "max"):
         """The row (inputs and results) of the case that governs ``key`` (``"max"`` or
@@ -140,7 +153,7 @@ class CaseResults:
             from ..render.cases import cases_bundle
             return cases_bundle(self, include, exclude)
         except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
-            return {"text/plain": f"CaseResults: {len(self.table)} cases (display failed: "
+            return {"text/plain": f"CaseResults: {self.cases} cases (display failed: "
                                   f"{exc})"}
 
 

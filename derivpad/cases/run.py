@@ -30,9 +30,9 @@ from ..core.checking.window import window_end
 from ..core.family import DerivationFamily
 from ..core.reading.read_problem import make_problem
 from ..errors import DerivpadError, ParameterError, VerificationFailedError
-from .chunk import Chunk, ChunkBuilder, joined
+from .chunk import Chunk, ChunkBuilder, ChunkSummary, joined
 from .results import CaseResults, envelope_of
-from .store import ChunkStore, publish
+from .store import ChunkStore, StoredTable, publish, write_stored_table
 from .table import pandas, read_cases
 
 __all__ = ["load_cases"]
@@ -100,30 +100,142 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     runner = _Runner(scheduler)
     try:
         found = _evaluate(spec, family, table, judged, on_error, progress, runner, chunks)
-        result = _results(spec, family, table, found, seed, runner)
+        if store is None:
+            return _results(spec, family, table, found, seed, runner)
+        result = _stored_results(spec, family, table, found, seed, runner, chunks)
     finally:
         runner.close()
-    if store is not None:  # the whole run published, each file by a rename
-        result.to_parquet(Path(store) / "cases.parquet")
-        publish(Path(store) / "envelope.csv", lambda p: result.envelope.to_csv(p, index=False))
+    # the whole run published, each file by a rename
+    publish(Path(store) / "envelope.csv", lambda p: result.envelope.to_csv(p, index=False))
     return result
 
 
 def _results(spec, family, table, found: Chunk, seed: int, runner) -> CaseResults:
-    """The CaseResults of the evaluated cases: the table, its envelope and what was
-    checked (the forms, the sampled integration)."""
+    """The CaseResults of the evaluated cases held in memory: the table, its envelope and
+    what was checked (the forms, the sampled integration)."""
     forms = found.forms
-    for form in dict.fromkeys(forms):  # each form checked in full here too (for .forms)
-        if form in _FORMS and form not in family.verified:
-            family.numbers_at(table.case(forms.index(form)))
+    kinds = _verify_forms(family, table, forms)
     frame = _frame(table, found)
-    units_of = dict(zip(table.names, table.units))
-    for key, unit in found.units.items():
-        units_of.setdefault(key, unit)
+    units_of = _units_of(table, found.units)
     envelope = envelope_of(frame, units_of, table.ids, table.names)
-    checked = _integration_sample(spec, table, frame, envelope, seed, runner)
-    used = tuple((f, d) for f, d in family.verified.items() if f in forms)
+    evaluated = np.nonzero(np.array([f != "failed" for f in forms], dtype=bool))[0]
+    checked = _integration_sample(spec, table, forms, evaluated, kinds, envelope, seed, runner,
+                                  lambda i: frame.iloc[i])
+    used = tuple((f, d) for f, d in family.verified.items() if f in kinds)
     return CaseResults(frame, envelope, used, units_of, checked, table.names)
+
+
+def _stored_results(spec, family, table, summaries, seed, runner, chunks) -> CaseResults:
+    """The CaseResults of a run whose rows are in its store: the envelope from the chunks'
+    summaries, ``cases.parquet`` written from the chunk files one at a time, the table read
+    from it only when used; memory bounded by a chunk, not by the number of cases."""
+    store = ChunkStore(*chunks)
+    names = tuple(dict.fromkeys(f for s in summaries for f in s.form_names))
+    code = {f: i for i, f in enumerate(names)}
+    codes = np.concatenate([np.array([code[f] for f in s.form_names], dtype=np.int16)[s.forms]
+                            for s in summaries])
+    forms = _Forms(codes, names)
+    kinds = _verify_forms(family, table, forms, (names, codes))
+    keys = tuple(dict.fromkeys(k for s in summaries for k in s.keys))
+    units_of = _units_of(table, {k: u for s in summaries for k, u in s.units.items()})
+    envelope = _envelope_of_chunks(summaries, keys, units_of, table)
+    path = write_stored_table(store.folder / "cases.parquet", store, summaries, table, keys,
+                              units_of)
+    rows = _StoredRows(store, summaries, table)
+    evaluated = np.nonzero(codes != code.get("failed", -1))[0]
+    checked = _integration_sample(spec, table, forms, evaluated, kinds, envelope, seed, runner,
+                                  rows.row)
+    used = tuple((f, d) for f, d in family.verified.items() if f in kinds)
+    return CaseResults(StoredTable(path, len(table)), envelope, used, units_of, checked,
+                       table.names)
+
+
+class _Forms:
+    """Each case's form as a small code, read as its name (``forms[i]``)."""
+
+    def __init__(self, codes, names):
+        self.codes, self.names = codes, names
+
+    def __getitem__(self, i):
+        return self.names[self.codes[i]]
+
+    def __len__(self) -> int:
+        return len(self.codes)
+
+
+class _StoredRows:
+    """Rows of a stored run read back from their chunk files (the last file kept)."""
+
+    def __init__(self, store, summaries, table):
+        self.store, self.summaries, self.table = store, summaries, table
+        self.starts = np.cumsum([0] + [s.size for s in summaries])
+        self._open = (None, None)
+
+    def row(self, i: int):
+        k = int(np.searchsorted(self.starts, i, side="right")) - 1
+        s = self.summaries[k]
+        if self._open[0] != s.key:
+            import pyarrow.parquet as pq
+            self._open = (s.key, pq.read_table(self.store.chunks / f"{s.key}.parquet"))
+        part = self._open[1]
+        j = i - int(self.starts[k])
+        pd = pandas()
+        return pd.Series({c[2:]: part.column(c)[j].as_py() for c in part.column_names
+                          if c.startswith("r:")})
+
+
+def _verify_forms(family, table, forms, coded=None) -> list:
+    """The forms the cases took, each form derived in symbols checked in full (for .forms)
+    at its first case."""
+    if coded is None:
+        kinds = list(dict.fromkeys(forms))
+        first = {f: forms.index(f) for f in kinds}
+    else:
+        names, codes = coded
+        kinds = [n for i, n in enumerate(names) if (codes == i).any()]
+        first = {n: int(np.argmax(codes == i)) for i, n in enumerate(names) if n in kinds}
+    for form in kinds:
+        if form in _FORMS and form not in family.verified:
+            family.numbers_at(table.case(first[form]))
+    return kinds
+
+
+def _units_of(table, found: dict) -> dict:
+    units = dict(zip(table.names, table.units))
+    for key, unit in found.items():
+        units.setdefault(key, unit)
+    return units
+
+
+def _envelope_of_chunks(summaries, keys, units: dict, table):
+    """The envelope (as :func:`envelope_of`) from the chunks' extremes: the largest value the
+    first case that has it, as over the whole table."""
+    pd = pandas()
+    rows = []
+    starts = np.cumsum([0] + [s.size for s in summaries])
+    for key in keys:
+        if key.endswith(": outcome"):
+            continue
+        best = None
+        for start, s in zip(starts, summaries):
+            e = s.extremes.get(key)
+            if e is None:
+                continue
+            hi, at_hi, lo, at_lo, count = e
+            if best is None:
+                best = [hi, start + at_hi, lo, start + at_lo, count]
+                continue
+            if hi > best[0]:
+                best[0], best[1] = hi, start + at_hi
+            if lo < best[2]:
+                best[2], best[3] = lo, start + at_lo
+            best[4] += count
+        if best is not None:
+            rows.append({"result": key, "unit": units.get(key, ""), "max": best[0],
+                         "case of max": table.ids[int(best[1])], "min": best[2],
+                         "case of min": table.ids[int(best[3])], "cases with a value": best[4]})
+    return pd.DataFrame(rows, columns=["result", "unit", "max", "case of max", "min",
+                                       "case of min", "cases with a value"])
 
 
 def _problem_spec(table, options: dict) -> dict:
@@ -267,17 +379,17 @@ def _batch_notes(reference, got, keys, keep) -> list:
 
 def run_chunk(spec: dict, ids, values, failed: dict, criteria, on_error: str, store=None):
     """A chunk through the store (``(folder, run key)``): loaded if it was finished before,
-    else evaluated and kept; without a store, evaluated."""
+    else evaluated and kept, and only its :class:`ChunkSummary` returned (the rows stay in
+    the store); without a store, evaluated and returned whole."""
     if store is None:
         return evaluate_chunk(spec, ids, values, failed, criteria, on_error)
     chunks = ChunkStore(*store)
     key = chunks.key(ids, values, failed)
     found = chunks.load(key)
-    if found is not None:
-        return found
-    result = evaluate_chunk(spec, ids, values, failed, criteria, on_error)
-    chunks.save(key, result)
-    return result
+    if found is None:
+        found = evaluate_chunk(spec, ids, values, failed, criteria, on_error)
+        chunks.save(key, found)
+    return ChunkSummary.of(found, key)
 
 
 def _run_key(spec: dict, criteria, on_error: str) -> str:
@@ -313,13 +425,13 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, stor
             tick(count())
             done.append(run_chunk(spec, ids, values, failed, criteria, on_error, store))
         tick(count())
-        return joined(done)
+        return joined(done) if store is None else done
     tasks = [(run_chunk, (spec, ids, values, failed, criteria, on_error, store))
              for ids, values, failed in _chunks(table)]
     for chunk in scheduler.compute(tasks):
         done.append(chunk)
         tick(count())
-    return joined(done)
+    return joined(done) if store is None else done
 
 
 class _Runner:
@@ -446,18 +558,17 @@ def _sample(n: int, seed: int) -> list[int]:
     return sorted(random.Random(seed).sample(range(n), size))
 
 
-def _integration_sample(spec, table, frame, envelope, seed, scheduler):
+def _integration_sample(spec, table, forms, evaluated, kinds, envelope, seed, scheduler,
+                        row_of):
     """The independent integration of a seeded random sample and of the governing cases
     against their closed forms (on the scheduler where there is one), and some of them found
     again one case at a time and compared with the table; returns what was checked, in
     words, and raises on any disagreement."""
     family = _family(spec)
-    forms = frame["form"].tolist()
-    evaluated = [i for i, form in enumerate(forms) if form != "failed"]
-    sample = [evaluated[k] for k in _sample(len(evaluated), seed)]
-    index = {case: i for i, case in enumerate(table.ids)}
-    tops = {index[c] for c in envelope["case of max"].tolist() + envelope["case of min"]
-            .tolist() if c in index and forms[index[c]] != "failed"}
+    sample = [int(evaluated[k]) for k in _sample(len(evaluated), seed)]
+    where = [table.position(c) for c in envelope["case of max"].tolist()
+             + envelope["case of min"].tolist()]
+    tops = {i for i in where if i is not None and forms[i] != "failed"}
     chosen = sorted(set(sample) | tops)
     groups = [chosen[k::_SAMPLE_TASKS] for k in range(_SAMPLE_TASKS)] if \
         scheduler.scheduler is not None else [chosen]
@@ -470,9 +581,9 @@ def _integration_sample(spec, table, frame, envelope, seed, scheduler):
     for i in again:
         form, numbers, _ = family.numbers_at(table.case(i))
         if form is not None:
-            _same_as_one_case(table.ids[i], frame.iloc[i],
+            _same_as_one_case(table.ids[i], row_of(i),
                               _row(engineering_results(family.problem, numbers, None), ())[0])
-    kinds = sorted(set(forms))
+    kinds = sorted(kinds)
     return (f"{len(kinds)} form(s): {', '.join(kinds)}; each form derived in symbols was "
             "checked in full (back-substitution, initial and jump conditions, numerical "
             "integration and inversion, limit theorems) at the first case it served",

@@ -88,3 +88,67 @@ def publish(path: Path, write) -> Path:
         Path(tmp).unlink(missing_ok=True)
         raise
     return path
+
+
+class StoredTable:
+    """A run's table kept in its store (``cases.parquet``), read into a pandas DataFrame the
+    first time it is used: a run of millions of cases returns at once, and its rows are in
+    memory only when asked for."""
+
+    def __init__(self, path: Path, rows: int):
+        self.path = Path(path)
+        self.rows = rows
+        self._frame = None
+
+    @property
+    def frame(self):
+        if self._frame is None:
+            from .table import pandas
+            self._frame = pandas().read_parquet(self.path)
+        return self._frame
+
+    def __len__(self) -> int:
+        return self.rows
+
+    def __getitem__(self, key):
+        return self.frame[key]
+
+    def __getattr__(self, name):
+        if name.startswith("_"):
+            raise AttributeError(name)
+        return getattr(self.frame, name)
+
+    def __repr__(self) -> str:
+        return f"<StoredTable {self.rows:,} cases in {self.path}>"
+
+
+def write_stored_table(path: Path, chunks: ChunkStore, summaries, table, keys, units) -> Path:
+    """``cases.parquet`` from the store's chunk files, one chunk at a time (memory bounded by
+    a chunk), with every run's column in ``keys``: each case's name, its inputs, its results,
+    form and notes. Written whole or not at all."""
+    (pa,) = import_extra(("pyarrow",), "keeping load-case chunks", "cases")
+    import pyarrow.parquet as pq
+    fields = [pa.field("case", pa.string())] + [pa.field(n, pa.float64()) for n in table.names]
+    fields += [pa.field(k, pa.string() if k.endswith(": outcome") else pa.float64())
+               for k in keys]
+    fields += [pa.field("form", pa.string()), pa.field("notes", pa.string())]
+    schema = pa.schema(fields)
+
+    def write(tmp):
+        with pq.ParquetWriter(tmp, schema) as out:
+            start = 0
+            for s in summaries:
+                part = pq.read_table(chunks.chunks / f"{s.key}.parquet")
+                stop = start + s.size
+                data = [pa.array(table.ids[start:stop], pa.string())]
+                data += [pa.array(table.values[start:stop, j]) for j in range(len(table.names))]
+                for k in keys:
+                    if f"r:{k}" in part.column_names:
+                        data.append(part.column(f"r:{k}").cast(schema.field(k).type))
+                    else:
+                        empty = "not evaluated" if k.endswith(": outcome") else None
+                        data.append(pa.array([empty] * s.size, schema.field(k).type))
+                data += [part.column("form"), part.column("notes")]
+                out.write_table(pa.Table.from_arrays(data, schema=schema))
+                start = stop
+    return publish(path, write)

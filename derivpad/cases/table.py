@@ -18,7 +18,7 @@ from ..errors import ParameterError, import_extra
 
 __all__ = ["CaseTable", "MAX_CASES", "read_cases"]
 
-MAX_CASES = 1_000_000
+MAX_CASES = 20_000_000
 """The most cases one call takes (a larger table is refused before any work)."""
 
 _HEADER = re.compile(r"^\s*([A-Za-z][A-Za-z_0-9]*)\s*(?:\[\s*([^\]]*?)\s*\])?\s*$")
@@ -28,6 +28,36 @@ def pandas():
     """pandas, or the install command of the extra that brings it."""
     (module,) = import_extra(("pandas",), "load cases", "cases")
     return module
+
+
+class NumberedIds:
+    """The names "1", "2", … of a table without a case column, made when asked for: ten
+    million cases need no ten million strings."""
+
+    __slots__ = ("n",)
+
+    def __init__(self, n: int):
+        self.n = n
+
+    def __len__(self) -> int:
+        return self.n
+
+    def __getitem__(self, i):
+        if isinstance(i, slice):
+            return [str(k + 1) for k in range(*i.indices(self.n))]
+        if not -self.n <= i < self.n:
+            raise IndexError(i)
+        return str(i % self.n + 1)
+
+    def __iter__(self):
+        return (str(k + 1) for k in range(self.n))
+
+    def position(self, case: str) -> int | None:
+        """The row of the case named ``case`` (None where there is none)."""
+        text = str(case)
+        if text.isdigit() and 1 <= int(text) <= self.n and text == str(int(text)):
+            return int(text) - 1
+        return None
 
 
 @dataclass(frozen=True)
@@ -46,6 +76,14 @@ class CaseTable:
     def case(self, i: int) -> dict:
         """Case ``i`` as {name: number in its column's unit}."""
         return {n: float(v) for n, v in zip(self.names, self.values[i])}
+
+    def position(self, case) -> int | None:
+        """The row of the case named ``case`` (None where there is none)."""
+        if isinstance(self.ids, NumberedIds):
+            return self.ids.position(case)
+        if "_positions" not in self.__dict__:
+            object.__setattr__(self, "_positions", {c: i for i, c in enumerate(self.ids)})
+        return self.__dict__["_positions"].get(str(case))
 
 
 def read_cases(cases, on_error: str = "raise") -> CaseTable:
@@ -70,8 +108,8 @@ def read_cases(cases, on_error: str = "raise") -> CaseTable:
         raise ParameterError("the case table has no rows", "cases")
     columns = [str(c) for c in frame.columns]
     ids = (tuple(str(v) for v in frame["case"]) if "case" in columns
-           else tuple(str(i) for i in range(1, len(frame) + 1)))
-    if len(set(ids)) != len(ids):
+           else NumberedIds(len(frame)))
+    if isinstance(ids, tuple) and len(set(ids)) != len(ids):
         raise ParameterError("the case column names a case twice; give each case its own "
                              "name", "case")
     names, units, data, failed = [], [], [], {}

@@ -38,7 +38,7 @@ def test_a_sample_is_numpys_seeded_draws():
     (lambda: derivpad.case_grid(td=[]), "list of numbers"),
     (lambda: derivpad.case_grid(td=[0.1, float("nan")]), "finite"),
     (lambda: derivpad.case_grid({"td": [1]}, td=[2]), "given twice"),
-    (lambda: derivpad.case_grid(a=range(1000), b=range(1001)), "more than"),
+    (lambda: derivpad.case_grid(a=range(5000), b=range(4001)), "more than"),
     (lambda: derivpad.case_sample(0, seed=1, m=("normal", 1, 1)), "whole number"),
     (lambda: derivpad.case_sample(5, seed=1, m=("gauss", 1, 1)), "give a distribution"),
     (lambda: derivpad.case_sample(5, seed=1, m=("normal", 1, -1)), "sd must be positive"),
