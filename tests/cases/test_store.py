@@ -7,6 +7,7 @@ import pandas as pd
 import pytest
 
 import derivpad
+from derivpad.cases.store import StoredTable
 from derivpad.cases import run
 
 PULSE = "m*x'' + k*x = F0*(u(t) - u(t - td))"
@@ -42,7 +43,11 @@ def test_a_stopped_run_resumes_without_recomputing_a_finished_chunk(tmp_path, mo
     resumed = derivpad.load_cases(PULSE, ZERO, PARAMS, cases=grid, criteria=LIMIT,
                             store=tmp_path / "run")
     assert len(computed) == 2 and not set(computed) & set(first)
+    # the rows stay in the store until asked for, and then equal the run held in memory
+    assert isinstance(resumed.rows, StoredTable) and resumed.rows._frame is None
+    assert resumed.cases == len(reference.table)
     pd.testing.assert_frame_equal(resumed.table, reference.table)
+    pd.testing.assert_frame_equal(resumed.envelope, reference.envelope)
     published = pd.read_parquet(tmp_path / "run" / "cases.parquet")
     pd.testing.assert_frame_equal(published, reference.table)
     assert pd.read_csv(tmp_path / "run" / "envelope.csv")["result"].tolist() == \
