@@ -120,6 +120,7 @@ class ChunkSummary:
 
     @classmethod
     def of(cls, chunk: Chunk, key: str) -> "ChunkSummary":
+        """The summary of ``chunk``, kept in the store's file ``key``."""
         names = tuple(dict.fromkeys(chunk.forms))
         code = {f: i for i, f in enumerate(names)}
         extremes = {}
@@ -135,4 +136,5 @@ class ChunkSummary:
                    np.array([code[f] for f in chunk.forms], dtype=np.int16), names, extremes)
 
     def form_list(self) -> list:
+        """Each case's form by name."""
         return [self.form_names[c] for c in self.forms.tolist()]

@@ -172,6 +172,7 @@ class _StoredRows:
         self._open = (None, None)
 
     def row(self, i: int):
+        """Case ``i``'s results as a pandas Series (key → value)."""
         k = int(np.searchsorted(self.starts, i, side="right")) - 1
         s = self.summaries[k]
         if self._open[0] != s.key:
@@ -335,7 +336,7 @@ def batched(family, values: np.ndarray, criteria):
         reference = _reference(family, form, values[idx[0]])
         if reference is None:
             continue
-        got = batch_engineering_results(family.problem, family._compiled[form][1],
+        got = batch_engineering_results(family.problem, family.compiled(form),
                                         [c[idx] for c in columns], reference,
                                         lambda name: writer_for(family.problem, name))
         keep = np.nonzero(~got.redo)[0]
@@ -466,6 +467,7 @@ class _Runner:
         return list(dask.compute(*jobs, scheduler=self._client or self.scheduler))
 
     def close(self) -> None:
+        """Shut the pool of worker processes, or the client this runner opened."""
         if self._pool is not None:
             self._pool.shutdown()
         if self._client is not None:
@@ -615,11 +617,11 @@ def sample_errors(spec: dict, ids, values: np.ndarray, forms) -> np.ndarray:
         idx = np.nonzero(forms == form)[0]
         if not idx.size:
             continue
-        if form not in family._compiled:  # a worker that has not met the form yet
+        if family.compiled(form) is None:  # a worker that has not met the form yet
             family.numbers_at(dict(zip(family.vary, map(float, values[idx[0]]))))
         columns = family.si_columns(values[idx])
         got = None if columns is None else integrate_cases(
-            family.problem, family._compiled[form][1], columns)
+            family.problem, family.compiled(form), columns)
         if got is None:
             alone += idx.tolist()
             continue

@@ -102,6 +102,7 @@ class StoredTable:
 
     @property
     def frame(self):
+        """The table as a pandas DataFrame (read on first use, then kept)."""
         if self._frame is None:
             from .table import pandas
             self._frame = pandas().read_parquet(self.path)

@@ -130,6 +130,12 @@ class DerivationFamily:
         values = np.asarray(values, dtype=float)
         return [values[:, j] * self._factors[n] for j, n in enumerate(self.vary)]
 
+    def compiled(self, form: str):
+        """The form's derivation compiled for numbers (ParametricNumbers), once it has served
+        a case; None before."""
+        got = self._compiled.get(form)
+        return None if got is None else got[1]
+
     def forms_of(self, columns) -> np.ndarray:
         """The form each case (columns from :meth:`si_columns`) is evaluated in, as
         :meth:`numbers_at` would choose it where every margin is plain; "" where only the

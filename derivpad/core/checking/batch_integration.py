@@ -72,7 +72,7 @@ def _stack(problem, model, columns):
         return None
     n = len(columns[0])
     responses = [tables[u].batch(columns) for u in problem.unknowns]
-    loaded = [(i, t.batch(columns)) for i, t in enumerate(loads) if t._rows]
+    loaded = [(i, t.batch(columns)) for i, t in enumerate(loads) if len(t)]
     system, gain, z, ok = _system(problem, model, columns)
     cuts = _cuts(responses, loaded, n)
     for r in responses:

@@ -42,6 +42,7 @@ class BatchExtreme:
 
     @property
     def size(self) -> np.ndarray:
+        """|y| at the supremum."""
         return np.abs(self.value)
 
 

@@ -51,6 +51,7 @@ class _Writer:
         self.redo = np.zeros(n, dtype=bool)
 
     def put(self, key: str, values, note=None) -> None:
+        """A figure's values for every case; a case without a finite value is sent back."""
         r = self.reference.get(key)
         if r is None or r.magnitude is None or isinstance(r.magnitude, (tuple, list, str)):
             self.redo[:] = True
@@ -201,7 +202,7 @@ def _load(out: _Writer, loads, columns) -> _LoadFigures:
         moving = (np.hypot(last.cos, last.sin) > 0) & ~(steady & (last.freq == 0))
         finals.append(np.where(moving.any(axis=1), math.nan, level))
         out.redo |= redo
-    loaded = [i for i, t in enumerate(loads) if t is None or t._rows]
+    loaded = [i for i, t in enumerate(loads) if t is None or len(t)]
     if len(loaded) != 1 or loads[loaded[0]] is None:
         return _LoadFigures(None, finals=tuple(finals))
     b = loads[loaded[0]].batch(columns)

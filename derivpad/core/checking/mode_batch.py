@@ -43,6 +43,7 @@ class Segment:
 
     @property
     def amplitude(self) -> np.ndarray:
+        """√(A² + B²) of each term (cases × terms)."""
         return np.hypot(self.cos, self.sin)
 
     def values(self, times: np.ndarray, order: int = 1):
@@ -132,9 +133,11 @@ class ModeBatch:
 
     @property
     def segments(self) -> int:
+        """How many intervals the switching times make (one after the last switch)."""
         return self.switches.shape[1]
 
     def rows(self, idx) -> "ModeBatch":
+        """The batch for the cases ``idx`` only."""
         return ModeBatch(self.power, self.switch_of, self.pole_of, self.switches[idx],
                          self.rate[idx], self.freq[idx], self.cos[idx], self.sin[idx],
                          self.bad[idx])

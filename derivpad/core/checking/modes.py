@@ -152,6 +152,10 @@ class ModeTable:
         self._exact = (sp.lambdify(args, fields, modules="mpmath") if rows else None)
         self._rows, self._args, self._numpy = rows, args, None
 
+    def __len__(self) -> int:
+        """How many modes the expression has (0: it is zero)."""
+        return len(self._rows)
+
     def batch(self, columns) -> "ModeBatch":
         """The modes for many cases at once: ``columns`` holds an array of numbers per symbol
         (in the order of ``symbols``); see :mod:`derivpad.core.checking.mode_batch`."""
