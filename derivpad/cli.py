@@ -84,9 +84,13 @@ def _parser() -> argparse.ArgumentParser:
                             "instead of stopping at it")
     cases.add_argument("--seed", type=int, default=0,
                        help="seed of the sample of cases integrated independently (default 0)")
-    cases.add_argument("--scheduler", metavar="WHERE",
+    where = cases.add_mutually_exclusive_group()
+    where.add_argument("--scheduler", metavar="WHERE",
                        help="run the chunks of cases on Dask: 'processes' for all local cores, "
                             "or a scheduler address such as tcp://host:8786 (the scale extra)")
+    where.add_argument("--workers", type=int, metavar="N",
+                       help="run the chunks of cases on N local worker processes (the scale "
+                            "extra)")
     cases.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
     package = sub.add_parser("package", help="execute a calc notebook and write its package")
@@ -135,6 +139,9 @@ def _cases(args) -> int:
     from .cases import load_cases
     from .render.cases import cases_text
     out = Path(args.out) if args.out else None
+    if args.workers is not None and args.workers < 1:
+        raise ParameterError(f"--workers {args.workers}: give the number of worker processes, "
+                             "1 or more, e.g. --workers 2", "workers")
     if out is not None and out.suffix.lower() not in (".csv", ".parquet"):
         raise ParameterError(f"cannot tell the format of --out {args.out!r}; end the name with "
                              ".csv or .parquet", "out")
@@ -143,7 +150,7 @@ def _cases(args) -> int:
                    units=_read_pairs(args.unit, "--unit", "x=mm"), cases=args.table,
                    criteria=args.criterion, seed=args.seed,
                    on_error="record" if args.record_failures else "raise", progress=None,
-                   scheduler=args.scheduler)
+                   scheduler=args.scheduler, workers=args.workers)
     if out is not None:
         (r.to_parquet if out.suffix.lower() == ".parquet" else r.to_csv)(out)
     import textwrap

@@ -135,6 +135,10 @@ def test_cases_prints_the_envelope_and_exits_1_when_a_case_is_not_ok(capsys, tmp
     assert (tmp_path / "out.parquet").is_file()
     assert main(args + ["--criterion", "dynamic_load_factor <= 2.1"]) == 0
     capsys.readouterr()
+    assert main(args + ["--criterion", "dynamic_load_factor <= 2.1", "--workers", "2"]) == 0
+    assert "dynamic_load_factor: max 2 (case half)" in capsys.readouterr().out
+    assert main(args + ["--workers", "0"]) == 2
+    assert "--workers 0: give the number of worker processes" in capsys.readouterr().err
     assert main(args[:-2] + ["--out", str(tmp_path / "out.txt")]) == 2
     assert "end the name with .csv or .parquet" in capsys.readouterr().err
     (tmp_path / "bad.csv").write_text("case,td [ms]\nshort,x\n")

@@ -45,7 +45,7 @@ PROGRESS_FROM = 500  # cases from which a run shows a progress bar (progress=Non
 def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=None,
                unknown=None, derived=None, regime: str = "underdamped", tolerances=None,
                window=None, seed: int = 0, on_error: str = "raise", progress=None,
-               scheduler=None, store=None) -> CaseResults:
+               scheduler=None, workers: int | None = None, store=None) -> CaseResults:
     """Evaluate a calc for every case of a table; the envelope and its governing cases.
 
     Parameters
@@ -65,6 +65,9 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     progress : None, bool or callable
         None: a progress bar (tqdm) from 500 cases; True/False: always/never; a callable is
         called with (cases done, cases).
+    workers : int, optional
+        With ``scheduler="processes"`` (taken as that where no scheduler is given): how many
+        worker processes (default: one per core).
     scheduler : None, "processes", str or distributed.Client
         Where the chunks of cases run: in this process (None); on all local cores through
         Dask's process scheduler ("processes"); on a Dask cluster, by its address
@@ -97,7 +100,7 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     if store is not None:
         chunks = (str(store), _run_key(spec, judged, on_error))
         ChunkStore(*chunks)  # the folder made (or refused) before any work
-    runner = _Runner(scheduler)
+    runner = _Runner(scheduler, _workers(workers, scheduler))
     try:
         found = _evaluate(spec, family, table, judged, on_error, progress, runner, chunks)
         if store is None:
@@ -435,13 +438,29 @@ def _evaluate(spec, family, table, criteria, on_error, progress, scheduler, stor
     return joined(done) if store is None else done
 
 
+def _workers(workers, scheduler) -> int | None:
+    """``workers=`` checked: a whole number of processes, for the local process pool."""
+    if workers is None:
+        return None
+    if isinstance(workers, bool) or not isinstance(workers, int) or workers < 1:
+        raise ParameterError(f"workers= must be a whole number of processes (1 or more), not "
+                             f"{workers!r}", "workers")
+    if scheduler not in (None, "processes"):
+        raise ParameterError("workers= sets the local process pool; a Dask cluster "
+                             f"({scheduler!r}) has its own workers: give one or the other",
+                             "workers")
+    return workers
+
+
 class _Runner:
     """Where pure tasks run: here (``scheduler=None``), on all local cores through Dask's
     process scheduler ("processes", one pool of worker processes for the whole run, so that
     each worker derives the forms once), or on a Dask cluster (an address or a
     ``distributed.Client``)."""
 
-    def __init__(self, scheduler):
+    def __init__(self, scheduler, workers: int | None = None):
+        if workers is not None and scheduler is None:
+            scheduler = "processes"
         self.scheduler = scheduler
         self._client = self._pool = None
         if scheduler is None:
@@ -451,7 +470,8 @@ class _Runner:
         if scheduler == "processes":
             import multiprocessing
             from concurrent.futures import ProcessPoolExecutor
-            self._pool = ProcessPoolExecutor(mp_context=multiprocessing.get_context("spawn"))
+            self._pool = ProcessPoolExecutor(max_workers=workers,
+                                             mp_context=multiprocessing.get_context("spawn"))
         elif isinstance(scheduler, str):
             (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
             self._client = distributed.Client(scheduler)

@@ -44,3 +44,25 @@ def test_dask_process_scheduler_gives_the_same_table(grid, monkeypatch):
     from derivpad.cases import run
     monkeypatch.setattr(run, "CHUNK", 8)
     pd.testing.assert_frame_equal(_run(grid).table, _run(grid, scheduler="processes").table)
+
+
+def test_local_worker_processes_give_the_same_table_over_arrays(monkeypatch):
+    """workers=2 (a pool of two processes) with a damped mount, whose cases are evaluated over
+    arrays: the table and envelope of the run in this process."""
+    from derivpad.cases import run
+    monkeypatch.setattr(run, "CHUNK", 30)
+    cases = derivpad.case_sample(120, seed=4, **{"td [ms]": ("uniform", 50, 900),
+                                                 "c [N*s/m]": ("uniform", 0.5, 20)})
+    args = ("m*x'' + c*x' + k*x = F0*(u(t) - u(t - td))", ZERO, PARAMS)
+    here = derivpad.load_cases(*args, cases=cases, criteria=["peak <= 50 mm"])
+    there = derivpad.load_cases(*args, cases=cases, criteria=["peak <= 50 mm"], workers=2)
+    pd.testing.assert_frame_equal(here.table, there.table)
+    pd.testing.assert_frame_equal(here.envelope, there.envelope)
+
+
+@pytest.mark.parametrize("workers, scheduler, match", [
+    (0, None, "whole number"), (1.5, None, "whole number"),
+    (2, "tcp://127.0.0.1:1", "has its own workers")])
+def test_bad_worker_counts_are_refused(grid, workers, scheduler, match):
+    with pytest.raises(derivpad.ParameterError, match=match):
+        _run(grid, workers=workers, scheduler=scheduler)
