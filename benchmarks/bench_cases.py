@@ -33,34 +33,43 @@ def hand_written_peaks(m, k, c, F0=6e3, t1=0.02, t2=0.07):
     """The reference: the demo's closed form written out by hand in NumPy for every case at
     once — x(t) = (F0/k)[s(t - t1) - s(t - t2)] with s the unit step response (damped or
     overdamped: single-degree-of-freedom vibration theory, from memory) — its peak |x| from a
-    grid of 40 points per damped period (or 400 points over five time constants) refined by
-    Newton's method on x'(t) = (F0/k)[h(t - t1) - h(t - t2)], h = s'. Returns peak |x| in m."""
+    grid of 161 points over two damped periods (or five time constants) after t1, refined by
+    Newton's method on x'(t) = (F0/k)[h(t - t1) - h(t - t2)], h = s'. The damped and the
+    overdamped cases are evaluated apart, each in its own form. Returns peak |x| in m and its
+    time."""
+    peaks, times = np.empty(len(m)), np.empty(len(m))
+    under = c < 2 * np.sqrt(k * m)
+    for part, damped in ((under, True), (~under, False)):
+        if part.any():
+            peaks[part], times[part] = _peaks_of(m[part], k[part], c[part], F0, t1, t2, damped)
+    return peaks, times
+
+
+def _peaks_of(m, k, c, F0, t1, t2, damped: bool):
+    """hand_written_peaks for cases all below (damped) or all above critical damping, in the
+    cos/sin or the cosh/sinh form (both free of cancellation near critical damping)."""
     wn = np.sqrt(k / m)
     z = c / (2 * np.sqrt(k * m))
-    under = z < 1
     wd = wn * np.sqrt(np.abs(1 - z ** 2))  # damped frequency, or the overdamped rate gap
+    cos, sin = (np.cos, np.sin) if damped else (np.cosh, np.sinh)
 
     def parts(tau, order):
-        """s, h = s' or h' at tau, in the cos/sin (damped) or cosh/sinh (overdamped) form,
-        both free of cancellation near critical damping."""
         tau = np.maximum(tau, 0.0)
-        with np.errstate(all="ignore"):
-            e = np.exp(-z * wn * tau)
-            co = np.where(under, np.cos(wd * tau), np.cosh(wd * tau))
-            sn = np.where(under, np.sin(wd * tau), np.sinh(wd * tau))
-            if order == 0:
-                out = 1 - e * (co + z * wn / wd * sn)
-            elif order == 1:
-                out = e * wn ** 2 / wd * sn
-            else:
-                out = e * wn ** 2 / wd * (wd * co - z * wn * sn)
+        e = np.exp(-z * wn * tau)
+        co, sn = cos(wd * tau), sin(wd * tau)
+        if order == 0:
+            out = 1 - e * (co + z * wn / wd * sn)
+        elif order == 1:
+            out = e * wn ** 2 / wd * sn
+        else:
+            out = e * wn ** 2 / wd * (wd * co - z * wn * sn)
         return np.where(tau > 0, out, 0.0)
 
     def x(t, order=0):
         return F0 / k * (parts(t - t1, order) - parts(t - t2, order))
 
-    slow = z * wn - np.where(under, 0.0, wd)  # the slowest decay rate
-    span = np.where(under, np.minimum(2 * 2 * np.pi / wd, 5 / slow), 5 / slow)
+    slow = z * wn - (0.0 if damped else wd)  # the slowest decay rate
+    span = np.minimum(2 * 2 * np.pi / wd, 5 / slow) if damped else 5 / slow
     t = t1 + span * np.linspace(0.0, 1.0, 161)[:, None]
     y = np.abs(x(t))
     i = np.argmax(y, axis=0)
