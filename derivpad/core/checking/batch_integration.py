@@ -169,13 +169,14 @@ def _interval(system, gain, loaded, z, lo, hi, u, scale):
     the cases integrated)."""
     n, d = z.shape
     length = hi - lo
+    loads = [(i, _acting(b, lo)) for i, b in loaded]
 
     def rhs(tau, flat):
         state = flat.reshape(n, d)
         t = (lo + tau * length)[:, None]
         push = np.einsum("nij,nj->ni", system, state)
-        for i, b in loaded:
-            push += gain[:, :, i] * b.at(t, lo)
+        for i, load in loads:
+            push += gain[:, :, i] * load(t)
         return (length[:, None] * push).ravel()
 
     sol = solve_ivp(rhs, (0.0, 1.0), z.ravel(), method="DOP853", t_eval=u, rtol=1e-12,
@@ -183,3 +184,16 @@ def _interval(system, gain, loaded, z, lo, hi, u, scale):
     if sol.status != 0 or sol.y.shape[1] != len(u):
         return np.full((n, d, len(u)), np.nan), np.zeros(n, dtype=bool)
     return sol.y.reshape(n, d, len(u)), np.ones(n, dtype=bool)
+
+
+def _acting(load, lo):
+    """The load on the interval starting at ``lo`` as a function of t (cases × 1): the terms of
+    the load's own interval there, added once (what the integrator calls thousands of times),
+    where every case is in the same one; else every mode with its switch."""
+    k = np.sum(load.switches <= lo[:, None], axis=1) - 1
+    if np.all(k == k[0]):
+        if k[0] < 0:
+            return lambda t: np.zeros_like(t)
+        seg = load.segment(int(k[0]))
+        return lambda t: seg.values(t, 0)[0]
+    return lambda t: load.at(t, lo)
