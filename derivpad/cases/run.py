@@ -145,7 +145,8 @@ def _stored_results(spec, family, table, summaries, seed, runner, chunks) -> Cas
     path = write_stored_table(store.folder / "cases.parquet", store, summaries, table, keys,
                               units_of)
     rows = _StoredRows(store, summaries, table)
-    evaluated = np.nonzero(codes != code.get("failed", -1))[0]
+    evaluated = np.flatnonzero(codes != code.get("failed", -1)).astype(np.int32 if len(codes)
+                                                                        < 2 ** 31 else np.int64)
     checked = _integration_sample(spec, table, forms, evaluated, kinds, envelope, seed, runner,
                                   rows.row)
     used = tuple((f, d) for f, d in family.verified.items() if f in kinds)

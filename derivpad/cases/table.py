@@ -112,7 +112,9 @@ def read_cases(cases, on_error: str = "raise") -> CaseTable:
     if isinstance(ids, tuple) and len(set(ids)) != len(ids):
         raise ParameterError("the case column names a case twice; give each case its own "
                              "name", "case")
-    names, units, data, failed = [], [], [], {}
+    names, units, failed = [], [], {}
+    # one array for every parameter column, filled in place (no second copy of a large table)
+    data = np.empty((len(frame), sum(1 for c in columns if c != "case")))
     for col in columns:
         if col == "case":
             continue
@@ -129,15 +131,15 @@ def read_cases(cases, on_error: str = "raise") -> CaseTable:
             if on_error == "raise":
                 raise ParameterError(why, name)
             failed.setdefault(i, why)
+        data[:, len(names)] = numbers
         names.append(name)
         units.append(unit)
-        data.append(numbers)
     if not names:
         raise ParameterError("the case table has no parameter columns", "cases")
     dupes = sorted({n for n in names if names.count(n) > 1})
     if dupes:
         raise ParameterError(f"parameter {dupes[0]!r} has two columns", dupes[0])
-    return CaseTable(ids, tuple(names), tuple(units), np.column_stack(data), failed)
+    return CaseTable(ids, tuple(names), tuple(units), data, failed)
 
 
 def _read_file(pd, path: Path):
