@@ -365,18 +365,13 @@ def _reference(family, form: str, case):
 
 
 def _batch_notes(reference, got, keys, keep) -> list:
-    """Each kept case's note as :func:`_row` writes it: each figure without a value, why."""
+    """Each kept case's note as :func:`_row` writes it: each figure without a value, with the
+    form's reason (a case with an unbounded or only approached value is never kept)."""
     parts = []
     for k in keys:
-        v = got.columns[k][keep]
-        absent = np.isnan(v)
+        absent = np.isnan(got.columns[k][keep])
         if absent.any():
             parts.append(np.where(absent, f"{k}: {reference[k].reason}", ""))
-        endless = np.isinf(v)
-        if endless.any():
-            note = got.notes.get(k)
-            why = note[keep] if note is not None else np.full(len(keep), reference[k].reason)
-            parts.append(np.where(endless, np.char.add(f"{k}: ", why.astype(str)), ""))
     if not parts:
         return [""] * len(keep)
     return ["; ".join(x for x in texts if x) for texts in zip(*parts)]

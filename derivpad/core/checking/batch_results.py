@@ -24,18 +24,15 @@ from .batch_response import batch_final_value, batch_split_suprema, batch_suprem
 
 __all__ = ["BatchResults", "batch_engineering_results"]
 
-_APPROACHED = "approached as t → ∞, not attained"
-
 
 @dataclass(frozen=True, eq=False)
 class BatchResults:
     """Per result key, an array of values in the result's display unit (NaN where it does not
-    apply); per key, a note array ("" where none); ``redo`` marks the cases left to the
-    one-case route."""
+    apply, as in the form's reference); ``redo`` marks the cases left to the one-case route
+    (among them every case with an unbounded value or a peak only approached as t → ∞)."""
 
     columns: dict
     units: dict
-    notes: dict
     redo: np.ndarray
 
 
@@ -47,10 +44,9 @@ class _Writer:
         self.reference = reference
         self.n = n
         self.columns: dict = {}
-        self.notes: dict = {}
         self.redo = np.zeros(n, dtype=bool)
 
-    def put(self, key: str, values, note=None) -> None:
+    def put(self, key: str, values) -> None:
         """A figure's values for every case; a case without a finite value is sent back."""
         r = self.reference.get(key)
         if r is None or r.magnitude is None or isinstance(r.magnitude, (tuple, list, str)):
@@ -59,8 +55,6 @@ class _Writer:
         values = np.asarray(values, dtype=float)
         self.redo |= ~np.isfinite(values)  # unbounded or lost: the one-case route says why
         self.columns[key] = values
-        if note is not None:
-            self.notes[key] = note
 
     def absent_as_reference(self, key: str) -> None:
         """A figure the reference has without a value: the same for every case of the form."""
@@ -114,7 +108,6 @@ def batch_engineering_results(problem, model, columns, reference, writer_of) -> 
         out.redo |= peak.redo
         out.put(key("peak"), y(peak.value))
         out.put(key("time_of_peak"), np.where(peak.attained, t(peak.time), math.inf))
-        out.notes[key("time_of_peak")] = np.where(peak.attained, "", _APPROACHED)
         final, redo = batch_final_value(batch, segs)
         out.redo |= redo
         out.put(key("final_value"), y(final))
@@ -125,8 +118,7 @@ def batch_engineering_results(problem, model, columns, reference, writer_of) -> 
         r = reference[key]
         if key not in out.columns and not isinstance(r.magnitude, (tuple, list, str)):
             out.redo[:] = True
-    return BatchResults(out.columns, {k: reference[k].unit for k in out.columns},
-                        out.notes, out.redo)
+    return BatchResults(out.columns, {k: reference[k].unit for k in out.columns}, out.redo)
 
 
 def _damping(out: _Writer, problem, model, columns) -> None:
@@ -255,7 +247,6 @@ def _load_factor(out: _Writer, key, y, t, split, peak, row, load: _LoadFigures):
         out.redo |= ext.redo
         out.put(key(f"peak_{part}"), y(ext.value))
         out.put(key(f"time_of_peak_{part}"), np.where(ext.attained, t(ext.time), math.inf))
-        out.notes[key(f"time_of_peak_{part}")] = np.where(ext.attained, "", _APPROACHED)
         with np.errstate(all="ignore"):
             out.put(key(f"dynamic_load_factor_{part}"), ext.size / static_peak)
 
