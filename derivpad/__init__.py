@@ -17,7 +17,8 @@ from .errors import (DerivpadError, EquationError, ExportError, ForcingError, In
                      ManifestMismatchError, MissingExtraError, NonlinearTermError,
                      PackageRefusedError, ParameterError, ParseError,
                      RenderSettingError, SolveError, UnitError, UnknownNameError,
-                     UnsafeInputError, VariableCoefficientError, VerificationFailedError)
+                     UnsafeInputError, VariableCoefficientError, VerificationFailedError,
+                     WorkerError)
 
 __version__ = "0.1.0"
 
@@ -26,7 +27,7 @@ __all__ = sorted([
     "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
-    "VariableCoefficientError", "Verification", "VerificationFailedError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",
+    "VariableCoefficientError", "Verification", "VerificationFailedError", "WorkerError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",
     "forcing", "load_cases", "load_ipython_extension",
 ])
 

@@ -21,7 +21,8 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
-    └── VerificationFailedError (ArithmeticError)  the engine's own check rejected a solution
+    ├── VerificationFailedError (ArithmeticError)  the engine's own check rejected a solution
+    └── WorkerError (RuntimeError)     a worker process of a load-case run stopped or was lost
 """
 
 from __future__ import annotations
@@ -45,6 +46,7 @@ __all__ = [
     "UnsafeInputError",
     "VariableCoefficientError",
     "VerificationFailedError",
+    "WorkerError",
 ]
 
 
@@ -247,4 +249,13 @@ class VerificationFailedError(DerivpadError, ArithmeticError):
 
     def __init__(self, message: str, checks: tuple = ()):
         self.checks = tuple(checks)
+        super().__init__(message)
+
+
+class WorkerError(DerivpadError, RuntimeError):
+    """A worker process of a load-case run stopped before its chunk was done (a script that
+    starts workers without a ``__main__`` guard, memory running out, the process killed)."""
+
+    def __init__(self, message: str, scheduler=None):
+        self.scheduler = scheduler
         super().__init__(message)

@@ -29,7 +29,7 @@ from ..core.checking.results import engineering_results, writer_for
 from ..core.checking.window import window_end
 from ..core.family import DerivationFamily
 from ..core.reading.read_problem import make_problem
-from ..errors import DerivpadError, ParameterError, VerificationFailedError
+from ..errors import DerivpadError, ParameterError, VerificationFailedError, WorkerError
 from .chunk import Chunk, ChunkBuilder, ChunkSummary, joined
 from .results import CaseResults, envelope_of
 from .store import ChunkStore, StoredTable, publish, write_stored_table
@@ -95,13 +95,14 @@ def load_cases(equation, ics=None, params=None, *, cases, criteria=None, units=N
     spec = _problem_spec(table, dict(equation=equation, ics=ics, params=params,
                                       unknown=unknown, units=units, regime=regime,
                                       tolerances=tolerances, window=window, derived=derived))
-    family = _family(spec)
     chunks = None
     if store is not None:
         chunks = (str(store), _run_key(spec, judged, on_error))
         ChunkStore(*chunks)  # the folder made (or refused) before any work
     runner = _Runner(scheduler, _workers(workers, scheduler))
     try:
+        runner.warm(spec, table.values[:_WARM_CASES])  # workers derive while this process does
+        family = _family(spec)
         found = _evaluate(spec, family, table, judged, on_error, progress, runner, chunks)
         if store is None:
             return _results(spec, family, table, found, seed, runner)
@@ -448,6 +449,23 @@ def _workers(workers, scheduler) -> int | None:
     return workers
 
 
+_WARM_CASES = 400
+
+
+def warm(spec: dict, values) -> None:
+    """A worker's first task: the forms its cases will need derived and checked (as a
+    chunk's first cases would), while the calling process derives them too."""
+    family = _family(spec)
+    columns = family.si_columns(np.asarray(values, dtype=float))
+    if columns is None:
+        return
+    forms = family.forms_of(columns)
+    for form in _FORMS:
+        idx = np.nonzero(forms == form)[0]
+        if idx.size:
+            _reference(family, form, np.asarray(values, dtype=float)[idx[0]])
+
+
 class _Runner:
     """Where pure tasks run: here (``scheduler=None``), on all local cores through Dask's
     process scheduler ("processes", one pool of worker processes for the whole run, so that
@@ -466,11 +484,20 @@ class _Runner:
         if scheduler == "processes":
             import multiprocessing
             from concurrent.futures import ProcessPoolExecutor
-            self._pool = ProcessPoolExecutor(max_workers=workers,
+            import os
+            self._count = workers or os.cpu_count() or 1
+            self._pool = ProcessPoolExecutor(max_workers=self._count,
                                              mp_context=multiprocessing.get_context("spawn"))
         elif isinstance(scheduler, str):
             (distributed,) = import_extra(("distributed",), "a Dask cluster", "scale")
             self._client = distributed.Client(scheduler)
+
+    def warm(self, spec: dict, values) -> None:
+        """Start each local worker process on :func:`warm` (nothing elsewhere: a cluster's
+        workers derive the forms with their first chunk)."""
+        if self._pool is not None:
+            for _ in range(self._count):
+                self._pool.submit(warm, spec, values)
 
     def compute(self, tasks) -> list:
         """The results of ``tasks`` ((function, arguments) pairs), in order."""
@@ -479,7 +506,16 @@ class _Runner:
         dask = self._dask
         jobs = [dask.delayed(fn, pure=True)(*args) for fn, args in tasks]
         if self._pool is not None:
-            return list(dask.compute(*jobs, scheduler="processes", pool=self._pool))
+            from concurrent.futures.process import BrokenProcessPool
+            try:
+                return list(dask.compute(*jobs, scheduler="processes", pool=self._pool))
+            except BrokenProcessPool as exc:
+                msg = ("a worker process stopped before its chunk of cases was done. In a "
+                       "script, put the call to load_cases (or whatever starts it) under "
+                       "'if __name__ == \"__main__\":' — each worker process starts by "
+                       "importing the script; otherwise memory may have run out: use fewer "
+                       "workers, or store= so that a new run resumes from the finished chunks")
+                raise WorkerError(msg, self.scheduler) from exc
         return list(dask.compute(*jobs, scheduler=self._client or self.scheduler))
 
     def close(self) -> None:

@@ -66,3 +66,21 @@ def test_local_worker_processes_give_the_same_table_over_arrays(monkeypatch):
 def test_bad_worker_counts_are_refused(grid, workers, scheduler, match):
     with pytest.raises(derivpad.ParameterError, match=match):
         _run(grid, workers=workers, scheduler=scheduler)
+
+
+def test_a_script_without_a_main_guard_gets_a_worker_error_saying_the_fix(tmp_path):
+    """Worker processes start by importing the calling script: one that calls load_cases at
+    its top level cannot start them; the run stops with WorkerError naming the fix (no
+    hang, no bare BrokenProcessPool)."""
+    import subprocess
+    import sys
+    script = tmp_path / "calc.py"
+    script.write_text(
+        "import pandas as pd\nimport derivpad\n"
+        "derivpad.load_cases(\"m*x'' + k*x = F0*(u(t) - u(t - td))\", {'x(0)': 0, \"x'(0)\": 0},"
+        " {'m': '1 kg', 'k': '40 N/m', 'F0': '1 N'},"
+        " cases=pd.DataFrame({'td [ms]': [100, 200, 300]}), workers=1)\n")
+    done = subprocess.run([sys.executable, str(script)], capture_output=True, text=True,
+                          timeout=300, cwd=tmp_path)
+    assert done.returncode != 0
+    assert "WorkerError" in done.stderr and "if __name__ == " in done.stderr
