@@ -141,7 +141,7 @@ def write_stored_table(path: Path, chunks: ChunkStore, summaries, table, keys, u
             for s in summaries:
                 part = pq.read_table(chunks.chunks / f"{s.key}.parquet")
                 stop = start + s.size
-                data = [pa.array(table.ids[start:stop], pa.string())]
+                data = [pa.array(list(table.ids[start:stop]), pa.string())]
                 data += [pa.array(table.values[start:stop, j]) for j in range(len(table.names))]
                 for k in keys:
                     if f"r:{k}" in part.column_names:

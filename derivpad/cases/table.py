@@ -31,32 +31,48 @@ def pandas():
 
 
 class NumberedIds:
-    """The names "1", "2", … of a table without a case column, made when asked for: ten
-    million cases need no ten million strings."""
+    """The names "1", "2", … (from ``first``) of a table without a case column, made when
+    asked for: ten million cases need no ten million strings, and a chunk's names are a
+    NumberedIds of their own (a slice)."""
 
-    __slots__ = ("n",)
+    __slots__ = ("n", "first")
 
-    def __init__(self, n: int):
-        self.n = n
+    def __init__(self, n: int, first: int = 1):
+        self.n, self.first = n, first
 
     def __len__(self) -> int:
         return self.n
 
     def __getitem__(self, i):
         if isinstance(i, slice):
-            return [str(k + 1) for k in range(*i.indices(self.n))]
+            start, stop, step = i.indices(self.n)
+            if step == 1:
+                return NumberedIds(max(stop - start, 0), self.first + start)
+            return [str(self.first + k) for k in range(start, stop, step)]
         if not -self.n <= i < self.n:
             raise IndexError(i)
-        return str(i % self.n + 1)
+        return str(self.first + i % self.n)
 
     def __iter__(self):
-        return (str(k + 1) for k in range(self.n))
+        return (str(self.first + k) for k in range(self.n))
+
+    def __eq__(self, other) -> bool:
+        return list(self) == list(other) if not isinstance(other, NumberedIds) else \
+            (self.n, self.first) == (other.n, other.first)
+
+    def __hash__(self) -> int:
+        return hash((self.n, self.first))
+
+    def __dask_tokenize__(self):
+        """The names' identity for Dask's task keys (a chunk of numbered cases)."""
+        return ("NumberedIds", self.n, self.first)
 
     def position(self, case: str) -> int | None:
         """The row of the case named ``case`` (None where there is none)."""
         text = str(case)
-        if text.isdigit() and 1 <= int(text) <= self.n and text == str(int(text)):
-            return int(text) - 1
+        if text.isdigit() and text == str(int(text)) and \
+                self.first <= int(text) < self.first + self.n:
+            return int(text) - self.first
         return None
 
 
