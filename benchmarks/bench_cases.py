@@ -94,7 +94,7 @@ def main(argv=None) -> None:
         "m [kg]": ("normal", 1200, 60), "k [kN/m]": ("uniform", 400, 560),
         "c [kN*s/m]": ("uniform", 20, 80)})  # critical damping 2√(km) ≈ 44–52 kN·s/m
     import derivpad.cases.run as run
-    sample = run._integration_sample
+    sample = run.sampled_checks
     spent = []
 
     def timed(*a):
@@ -102,7 +102,7 @@ def main(argv=None) -> None:
         out = sample(*a)
         spent.append(time.perf_counter() - t0)
         return out
-    run._integration_sample = timed
+    run.sampled_checks = timed
     start = time.perf_counter()
     r = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, units=DEMO_UNITS, cases=cases,
                             progress=False)
