@@ -38,7 +38,13 @@ def _parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"derivpad {__version__}",
                         help="print the version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for add in (_demo_command, _solve_command, _cases_command, _package_commands):
+        add(sub)
+    return parser
 
+
+def _demo_command(sub) -> None:
+    """``derivpad demo``: the built-in scenario."""
     demo = sub.add_parser("demo", help="derive the built-in scenario and print it",
                           description="Derive the built-in scenario (a pump skid on spring "
                           "isolators under a pressure-surge pulse; data of our own) and print "
@@ -46,6 +52,9 @@ def _parser() -> argparse.ArgumentParser:
     demo.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
     demo.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
+
+def _solve_command(sub) -> None:
+    """``derivpad solve``: one ODE or a system given on the command line."""
     solve = sub.add_parser("solve", help="derive one ODE given on the command line")
     solve.add_argument("equation", nargs="+",
                        help="the ODE, e.g. \"y'' + 4*y' + 13*y = 2*u(t - 1)\"; several "
@@ -66,6 +75,9 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
     solve.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
+
+def _cases_command(sub) -> None:
+    """``derivpad cases``: one ODE for every case of a table."""
     cases = sub.add_parser("cases", help="evaluate one ODE for every case of a table",
                            description="Derive once per form and evaluate every case of a "
                            "table (CSV or Parquet; a column per varied parameter, its unit in "
@@ -93,6 +105,9 @@ def _parser() -> argparse.ArgumentParser:
                             "extra)")
     cases.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
 
+
+def _package_commands(sub) -> None:
+    """``derivpad package`` and ``derivpad audit``: the calc package and its check."""
     package = sub.add_parser("package", help="execute a calc notebook and write its package")
     package.add_argument("notebook", help="the calculation notebook (.ipynb)")
     package.add_argument("-o", "--output", default=".", help="folder to write the package in")
@@ -110,7 +125,6 @@ def _parser() -> argparse.ArgumentParser:
                        help="re-execute the notebook and compare its results with the package's")
     audit.add_argument("--notebook", help="with --rerun: run this notebook instead of the "
                                           "packaged one (a working copy)")
-    return parser
 
 
 def _problem_options(command, param_help: str) -> None:

@@ -172,41 +172,48 @@ def test_the_json_form_reads_back_to_the_same_results():
     assert back.forms[0][1].verification.passed
 
 
-def test_the_array_route_gives_the_one_case_table_over_damping_through_critical(monkeypatch):
-    """The table found over arrays of cases equals the one found one case at a time (each
-    value to 1e-9), with under- and overdamped cases mixed, criteria judged; and the array
-    route carries nearly every case."""
+def _both_routes(monkeypatch, *problem, **options):
+    """(table over arrays, cases the array route carried, table one case at a time) of one
+    run: the second with the array route switched off and the families derived afresh."""
     import derivpad.cases.run as run
-    from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS
-    cases = derivpad.case_sample(240, seed=11, **{
-        "m [kg]": ("normal", 1200, 60), "k [kN/m]": ("uniform", 400, 560),
-        "c [kN*s/m]": ("uniform", 20, 80)})
-    args = dict(units=DEMO_UNITS, cases=cases, criteria=["peak <= 3 mm"], progress=False)
     carried = []
     real = run.batched
+
     def counted(*a):
         got = list(real(*a))
         carried.append(sum(len(g[0]) for g in got))
         return iter(got)
     monkeypatch.setattr(run, "batched", counted)
-    fast = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, **args).table
-    assert sum(carried) >= 0.95 * len(cases)
+    fast = derivpad.load_cases(*problem, **options).table
     monkeypatch.setattr(run, "batched", lambda *a: iter(()))
     run._FAMILIES.clear()
-    slow = derivpad.load_cases(DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, **args).table
+    slow = derivpad.load_cases(*problem, **options).table
     assert list(fast.columns) == list(slow.columns)
-    assert set(fast["form"]) == {"underdamped", "overdamped"}
     for col in fast.columns:
         if fast[col].dtype.kind == "f":
-            np.testing.assert_allclose(fast[col], slow[col], rtol=1e-9, atol=1e-14)
+            np.testing.assert_allclose(fast[col], slow[col], rtol=1e-9, atol=1e-14, err_msg=col)
         else:
             assert fast[col].tolist() == slow[col].tolist(), col
+    return fast, sum(carried), slow
+
+
+def test_the_array_route_gives_the_one_case_table_over_damping_through_critical(monkeypatch):
+    """The table found over arrays of cases equals the one found one case at a time (each
+    value to 1e-9), with under- and overdamped cases mixed, criteria judged; and the array
+    route carries nearly every case."""
+    from derivpad.demo import DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, DEMO_UNITS
+    cases = derivpad.case_sample(240, seed=11, **{
+        "m [kg]": ("normal", 1200, 60), "k [kN/m]": ("uniform", 400, 560),
+        "c [kN*s/m]": ("uniform", 20, 80)})
+    args = dict(units=DEMO_UNITS, cases=cases, criteria=["peak <= 3 mm"], progress=False)
+    fast, carried, _ = _both_routes(monkeypatch, DEMO_EQUATION, DEMO_ICS, DEMO_PARAMS, **args)
+    assert carried >= 0.95 * len(cases)
+    assert set(fast["form"]) == {"underdamped", "overdamped"}
 
 
 def test_the_array_route_serves_a_system_as_it_serves_one_equation(monkeypatch):
     """A 2-DOF system under a pulse (each unknown and a derived quantity): the same table over
     arrays as one case at a time."""
-    import derivpad.cases.run as run
     eqs = ["m1*x1'' + c1*x1' + (k1 + k2)*x1 - k2*x2 = F0*(u(t) - u(t - td))",
            "m2*x2'' + k2*(x2 - x1) = 0"]
     ics = {"x1(0)": 0, "x1'(0)": 0, "x2(0)": 0, "x2'(0)": 0}
@@ -215,20 +222,5 @@ def test_the_array_route_serves_a_system_as_it_serves_one_equation(monkeypatch):
     args = dict(units={"x1": "mm", "x2": "mm", "t": "s"}, derived={"stroke": "x2 - x1"},
                 cases=pd.DataFrame({"td [ms]": np.linspace(5, 60, 12),
                                     "F0 [kN]": np.linspace(1, 3, 12)}), progress=False)
-    carried = []
-    real = run.batched
-    def counted(*a):
-        got = list(real(*a))
-        carried.append(sum(len(g[0]) for g in got))
-        return iter(got)
-    monkeypatch.setattr(run, "batched", counted)
-    fast = derivpad.load_cases(eqs, ics, params, **args).table
-    assert sum(carried) >= 10 and "peak_stroke" in fast.columns
-    monkeypatch.setattr(run, "batched", lambda *a: iter(()))
-    run._FAMILIES.clear()
-    slow = derivpad.load_cases(eqs, ics, params, **args).table
-    for col in fast.columns:
-        if fast[col].dtype.kind == "f":
-            np.testing.assert_allclose(fast[col], slow[col], rtol=1e-9, atol=1e-14, err_msg=col)
-        else:
-            assert fast[col].tolist() == slow[col].tolist(), col
+    fast, carried, _ = _both_routes(monkeypatch, eqs, ics, params, **args)
+    assert carried >= 10 and "peak_stroke" in fast.columns

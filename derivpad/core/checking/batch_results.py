@@ -181,28 +181,31 @@ class _LoadFigures:
 
 
 def _load(out: _Writer, loads, columns) -> _LoadFigures:
+    """Each equation's final load level (NaN where it does not settle to a constant), and for
+    the one loaded equation its supremum |f| and, for a pulse, when it ends."""
     n = len(columns[0])
-    finals = []
+    finals, batches = [], []
     for table in loads:
         if table is None:
             finals.append(np.full(n, math.nan))
+            batches.append(None)
             continue
         b = table.batch(columns)
-        level, redo = batch_final_value(b)
-        last = b.segment(b.segments - 1)
-        _, steady, _ = last.classify()
-        moving = (np.hypot(last.cos, last.sin) > 0) & ~(steady & (last.freq == 0))
+        segs = [b.segment(j) for j in range(b.segments)]
+        level, redo = batch_final_value(b, segs)
+        _, steady, _ = segs[-1].classify()
+        moving = (segs[-1].amplitude > 0) & ~(steady & (segs[-1].freq == 0))
         finals.append(np.where(moving.any(axis=1), math.nan, level))
+        batches.append((b, segs))
         out.redo |= redo
     loaded = [i for i, t in enumerate(loads) if t is None or len(t)]
     if len(loaded) != 1 or loads[loaded[0]] is None:
         return _LoadFigures(None, finals=tuple(finals))
-    b = loads[loaded[0]].batch(columns)
-    peak = batch_supremum(b)
+    b, segs = batches[loaded[0]]
+    peak = batch_supremum(b, segs=segs)
     out.redo |= peak.redo | b.bad
     final = finals[loaded[0]]
-    positive = np.where(b.switches > 0, b.switches, -np.inf)
-    last = np.max(positive, axis=1)
+    last = np.max(np.where(b.switches > 0, b.switches, -np.inf), axis=1)
     ends = np.where((final == 0.0) & np.isfinite(last) & (peak.size > 0), last, math.nan)
     return _LoadFigures(loaded[0], peak.size, final, ends, tuple(finals))
 
