@@ -13,6 +13,7 @@ messages. Messages say what is wrong, where, and how to fix it.
     │   └── UnknownNameError           a name that is neither t, the unknown, a parameter nor a function
     ├── InitialConditionError (ValueError)   missing, extra, malformed or not-at-zero conditions
     ├── ForcingError (ValueError)      forcing whose transform the engine cannot form
+    │   └── LoadHistoryError           a measured load record that cannot be used; .row, .column
     ├── ParameterError (ValueError)    a parameter value that is not a number or cannot be used
     ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
     ├── ExportError (OSError)          a file cannot be written as asked (format, place)
@@ -33,6 +34,7 @@ __all__ = [
     "ExportError",
     "ForcingError",
     "InitialConditionError",
+    "LoadHistoryError",
     "ManifestMismatchError",
     "MissingExtraError",
     "NonlinearTermError",
@@ -152,6 +154,16 @@ class ForcingError(DerivpadError, ValueError):
     def __init__(self, message: str, term: str = ""):
         self.term = term
         super().__init__(message)
+
+
+class LoadHistoryError(ForcingError):
+    """A measured load record that cannot be used as given: ``row`` is the point's index (arrays
+    and tables) or the file's line number, ``column`` the column where one applies."""
+
+    def __init__(self, message: str, row: int | None = None, column: str = ""):
+        self.row = row
+        self.column = column
+        super().__init__(message, term="history")
 
 
 class ParameterError(DerivpadError, ValueError):

@@ -8,8 +8,9 @@ forcings add, and a Forcing given as a parameter value replaces that name on the
     derivpad.derive("m*x'' + k*x = F", ics=..., params={"m": 900, "k": 3.6e6, "F": load})
 """
 
+from .core.reading.history import history, read_history
 from .core.reading.forcing import (Forcing, impulse, pulse, ramp, step, switched_cosine, switched_exp,
                            switched_sine, table, triangle, window)
 
 __all__ = sorted(["Forcing", "impulse", "pulse", "ramp", "step", "switched_cosine",
-                  "switched_exp", "switched_sine", "table", "triangle", "window"])
+                  "switched_exp", "switched_sine", "table", "triangle", "window", "history", "read_history"])

@@ -100,6 +100,13 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     >>> d.solution
     sin(3*t)/3
     """
+    from .history_engine import derive_history, record_in  # a load record takes its own route
+    found = record_in(params)
+    if found is not None:
+        return derive_history(equation, ics, params, *found, unknown=unknown, units=units,
+                              values=values, regime=regime, tolerances=tolerances,
+                              window=window, checks=checks, derived=derived,
+                              on_failure=on_failure, definitions=definitions, criteria=criteria)
     problem = make_problem(equation, ics, params, unknown, units, derived)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,

@@ -20,7 +20,8 @@ from .numeric_model import Numbers
 from ..model.result import Result
 from .response import SearchLimit, crossing_time, final_value, growth, settled_after, settling_time, supremum
 
-__all__ = ["Result", "ResultWriter", "engineering_results", "response_results", "writer_for"]
+__all__ = ["Result", "ResultWriter", "engineering_results", "response_results", "system_results",
+           "writer_for"]
 
 _VIB = "single-degree-of-freedom vibration theory (e.g. Thomson, Theory of Vibration; from memory)"
 _CTRL = "second-order system time-response definitions (control texts, e.g. Ogata; from memory)"
@@ -103,11 +104,9 @@ def writer_for(problem, name: str) -> ResultWriter:
                         key=(lambda k: k) if plain else (lambda k: f"{k}_{name}"))
 
 
-def engineering_results(problem, numbers: Numbers, definitions=None):
-    """The results mapping (read-only) of a derivation with numbers for every parameter: the
-    poles and their figures, the modal figures of a mechanical system, then each unknown's
-    and derived quantity's response figures (keys suffixed ``_<name>`` except for the one
-    unknown of a single equation). Each figure of a response holds over all t ≥ 0."""
+def system_results(problem, numbers: Numbers) -> dict:
+    """The figures of the system itself, whatever loads it: poles, stability, time constants,
+    damping and natural frequencies, and a mechanical system's modes."""
     w = ResultWriter(problem.units)
     zs = list(numbers.system_poles)
     single = problem.size == 1
@@ -117,7 +116,15 @@ def engineering_results(problem, numbers: Numbers, definitions=None):
     else:
         _pair_results(w, zs)
         _modal_results(w, problem, numbers)
-    out = dict(w.out)
+    return dict(w.out)
+
+
+def engineering_results(problem, numbers: Numbers, definitions=None):
+    """The results mapping (read-only) of a derivation with numbers for every parameter: the
+    poles and their figures, the modal figures of a mechanical system, then each unknown's
+    and derived quantity's response figures (keys suffixed ``_<name>`` except for the one
+    unknown of a single equation). Each figure of a response holds over all t ≥ 0."""
+    out = system_results(problem, numbers)
     at_rest = not any(v for vals in numbers.initial for v in vals)
     statics = _static_gains(numbers)
     loads: dict = {}  # each load's figures, found once for all the unknowns it loads

@@ -1,0 +1,96 @@
+"""Suprema of a response to a load record over the whole response: the record and after it.
+
+Every segment of the record is one case of the generic segment's closed form (load
+F_i + Ḟ_i·τ from the state the march gives at its start), so a segment's supremum is found by
+the same rules as any response (core/checking/batch_response.py over arrays, the one-case
+route where that route cannot stand behind a case). Only the segments that can hold the peak
+are searched: those whose ends come near the best value at the knots with y' changing sign
+between them, and those too long for their ends to bound the inside (longer than 1/40 of the
+period of the system's fastest rate). After the record the response is the generic form from
+the last state under the load that follows (zero, or the last value held), searched over all
+later t as any response is.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .batch_response import batch_supremum
+from .response import Extreme, SearchLimit, final_value, growth, supremum
+
+__all__ = ["RecordExtremes", "record_extremes"]
+
+_NEAR = 0.05
+_SHORT = 2 * math.pi / 40
+
+
+@dataclass(frozen=True, slots=True)
+class RecordExtremes:
+    """One quantity's figures: sup |y| over the whole response (``whole``), while the record
+    acts (``during``: 0 ≤ t ≤ t_end) and after it (``after``), and lim y as t → ∞ (None with
+    ``final_note`` saying why); times are absolute."""
+
+    whole: Extreme
+    during: Extreme
+    after: Extreme | None
+    grows: object
+    final: float | None
+    final_note: str
+
+
+def _segment_extremes(table, columns: list, lengths: np.ndarray):
+    """sup |y| on [0, h] of each candidate segment (values, local times)."""
+    batch = table.batch(columns)
+    got = batch_supremum(batch, 0, 0.0, lengths)
+    value, time = got.value.copy(), got.time.copy()
+    for i in np.nonzero(got.redo)[0]:
+        modes = table.at(tuple(float(c[i]) for c in columns))
+        ext = supremum(modes, 0.0, float(lengths[i]))
+        value[i], time[i] = ext.value, ext.time
+    return value, time
+
+
+def record_extremes(table, segment_columns, knots, node_values, slopes_at,
+                    lengths_ok, rate, tail_columns, system_poles) -> RecordExtremes:
+    """The figures of one quantity from its values at the knots (``node_values``), y' at each
+    live segment's two ends (``slopes_at``: (start, end) arrays), the candidate segments'
+    generic-form numbers (``segment_columns(idx)`` → columns in the order of ``symbols``) and
+    the numbers after the record (``tail_columns``). ``lengths_ok``: (live segment index into
+    knots, length) of the segments of positive length; ``rate``: the system's fastest |λ|."""
+    starts, lengths = lengths_ok
+    y = np.asarray(node_values, dtype=float)
+    size = np.abs(y)
+    k = int(np.argmax(size))
+    best_v, best_t = float(y[k]), float(knots[k])
+    ends = np.maximum(size[starts], size[starts + 1])
+    d0, d1 = slopes_at
+    turning = (np.sign(d0) * np.sign(d1) < 0) | (d0 == 0) | (d1 == 0)
+    candidates = np.nonzero((turning & (ends >= (1 - _NEAR) * size[k]))
+                            | (lengths * rate > _SHORT))[0]
+    if candidates.size:
+        values, times = _segment_extremes(table, segment_columns(candidates),
+                                          lengths[candidates])
+        j = int(np.argmax(np.abs(values)))
+        if abs(values[j]) > abs(best_v):
+            best_v, best_t = float(values[j]), float(knots[starts[candidates[j]]] + times[j])
+    during = Extreme(best_v, best_t)
+    tail = table.at(tuple(tail_columns))
+    grows = growth(tail, system_poles)
+    end = float(knots[-1])
+    try:
+        after = supremum(tail, 0.0)
+    except SearchLimit:
+        after = None
+    if after is not None:
+        after = Extreme(after.value, end + after.time, after.attained, after.note)
+    final, why = final_value(tail, system_poles)
+    if grows is not None:
+        whole = Extreme(math.inf, math.inf, False, "unbounded")
+    elif after is not None and after.size > during.size:
+        whole = after
+    else:
+        whole = during
+    return RecordExtremes(whole, during, after, grows, final, why)
