@@ -14,6 +14,7 @@ from .core.symbolic.rules import RULES
 from .core.model.steps import Line, Rule, Step
 from .core.model.checks import Check, Verification
 from .errors import (DerivpadError, EquationError, ExportError, ForcingError, InitialConditionError,
+                     LoadHistoryError,
                      ManifestMismatchError, MissingExtraError, NonlinearTermError,
                      PackageRefusedError, ParameterError, ParseError,
                      RenderSettingError, SolveError, UnitError, UnknownNameError,
@@ -24,7 +25,7 @@ __version__ = "0.1.0"
 
 __all__ = sorted([
     "CalcRecord", "CaseResults", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
-    "InitialConditionError", "Line", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
+    "InitialConditionError", "Line", "LoadHistoryError", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "WorkerError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",

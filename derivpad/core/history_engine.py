@@ -207,15 +207,21 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
     verification = Verification(_segment_checks(segment) + extra, samples)
     if checks == "all":  # checks="engine" returns, as derive() does, marked not verified
         refuse_failed(verification, problem.text, on_failure)
-    results = (record_results(problem, numbers, model, rm, state, load, value_map)
-               if verification.passed and checks == "all" else
-               withheld(verification) if not verification.passed else MappingProxyType({}))
+    if checks == "engine":
+        results = MappingProxyType({})
+    elif verification.passed:
+        results = record_results(problem, numbers, model, rm, state, load, value_map)
+    else:
+        results = withheld(verification)
     acceptance = (judge(criteria, results) if verification.passed and checks == "all"
-                  else unjudged(criteria, "no results"))
+                  else unjudged(criteria, "checks='engine': no results" if checks == "engine"
+                                else "verification failed: no results"))
     steps = record_steps(problem, stages, segment, record, rm, name, state, load)
     fields = {f.name: getattr(segment, f.name) for f in dataclasses.fields(segment)
-              if f.name not in ("steps", "verification", "results", "acceptance", "_cache")}
-    out = HistoryDerivation(**fields, steps=steps, verification=verification, results=results,
+              if f.name not in ("steps", "verification", "results", "acceptance", "_cache",
+                                "assumptions")}
+    out = HistoryDerivation(**fields, assumptions=_assumptions(segment, state, load),
+                            steps=steps, verification=verification, results=results,
                             acceptance=acceptance, record=record, march=rm, load_name=name)
     out._cache["numpy"] = {q: (lambda times, q=q: record_values(rm, times)[q])
                            for q in problem.names}
@@ -300,3 +306,13 @@ def _record_checks(problem, numbers, model, rm, state, load, value_map, toleranc
                    for c, u in zip(finals, problem.unknowns))
     return (recurrence, integration) + finals, record_samples(rm, problem.unknowns, grid, pair,
                                                              None)
+
+
+def _assumptions(segment, state, load) -> tuple[str, ...]:
+    """The segment's assumptions, with its own state and load named as what they are: any
+    real numbers (the closed form is linear in them), not positive parameters."""
+    generic = ", ".join([x for row in state for x in row] + list(load))
+    out = [a for a in segment.assumptions if not a.startswith("symbolic parameters (")]
+    out.append(f"the segment's state and load ({generic}) are any real numbers: the closed "
+               "form is linear in them")
+    return tuple(out)

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import sympy as sp
 
+from .checking.results import writer_for
 from .model.steps import Line, Rule, Step
 from .model.symbols import T
 
@@ -69,9 +70,12 @@ def _knots_step(problem, rm) -> Step:
                                          if i >= _SHOWN]
     lines = []
     for i in idx:
-        t = sp.Float(float(rm.knot_times[i]), 6)
         for u in problem.unknowns:
-            lines.append(Line(sp.Function(u)(t), sp.Float(float(rm.node_values(u)[i]), 6)))
+            w = writer_for(problem, u)
+            t = sp.Float(float(w.to_t(float(rm.knot_times[i]))), 6)
+            value = sp.Float(float(w.to_y(float(rm.node_values(u)[i]))), 6)
+            lines.append(Line(sp.Function(u)(t), value,
+                              label=f"{w.y_unit} at t in {w.t_unit}" if w.y_unit else ""))
     return Step("The response at the knots", RECURRENCE, tuple(lines),
                 note=f"The recurrence carried the state through all {n} knots (a jump in the "
                      "load is a knot twice, the state unchanged); the first and last are shown. "

@@ -156,9 +156,10 @@ def _peaks(w, ext, end: float) -> None:
         w.add("time_of_peak", "time of peak",
               w.to_t(ext.whole.time) if ext.whole.attained else math.inf, w.t_unit, _REFINE,
               _MODES, note=ext.whole.note)
-    parts = [("primary", ext.during, f"while the record acts, 0 ≤ t ≤ {end:.6g} s")]
+    shown = f"{w.to_t(end):.6g} {w.t_unit or 's'}"
+    parts = [("primary", ext.during, f"while the record acts, 0 ≤ t ≤ {shown}")]
     if ext.after is not None and ext.grows is None:
-        parts.append(("residual", ext.after, f"after the record, t ≥ {end:.6g} s"))
+        parts.append(("residual", ext.after, f"after the record, t ≥ {shown}"))
     for part, e, when in parts:
         w.add(f"peak_{part}", f"{part} peak ({when})", w.to_y(e.value), w.y_unit,
               f"sup |y(t)| {when}", _SHOCK, note=e.note)
