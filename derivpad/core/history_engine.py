@@ -122,8 +122,9 @@ def _loading(problem, value_map: dict, load: tuple[str, str], gain: np.ndarray):
     return gain @ np.array(e), gain @ np.array(r)
 
 
-def _picks(problem, offsets) -> list:
-    """Each quantity (unknowns, then derived) as (coefficient, state index, differentiated?)."""
+def _picks(problem, offsets, load) -> list:
+    """Each quantity (unknowns, then derived) as (coefficient, state index, differentiated?);
+    state index -1 is the record's load itself (a derived quantity may name it)."""
     out = [[(1.0, int(offsets[j]), False)] for j in range(problem.size)]
     for name, expr in problem.derived:
         terms = []
@@ -140,6 +141,12 @@ def _picks(problem, offsets) -> list:
                     terms.append((float(coeff), int(offsets[j] + k), False))
                 else:
                     terms.append((float(coeff), int(offsets[j] + k - 1), True))
+        load_part = sp.expand(expr)
+        coeff = load_part.coeff(sp.Symbol(load[0], positive=True))
+        f_i, fdot_i = (sp.Symbol(x, positive=True) for x in load)
+        if coeff != 0 and sp.expand(load_part - coeff * (f_i + fdot_i * T)) == 0:
+            terms.append((float(coeff), -1, False))   # the record itself: y = ... + D f
+            expr = 0
         if expr != 0:
             raise ParameterError(f"the derived quantity {name!r} is not a linear combination of "
                                  "the unknowns and their derivatives; it cannot be reported "
@@ -154,7 +161,7 @@ def _record_march(problem, numbers, value_map, load, given, record) -> RecordMar
     z0 = np.concatenate([np.array([float(v) for v in vals]) for vals in given.initial_values])
     kt, kf = record.knots()
     states = march(system, drive, constant, z0, kt, kf)
-    C, D, E = output_rows(system, drive, constant, _picks(problem, offsets))
+    C, D, E = output_rows(system, drive, constant, _picks(problem, offsets, load))
     outputs = {name: (C[r], float(D[r]), float(E[r])) for r, name in enumerate(problem.names)}
     return RecordMarch(system, drive, constant, kt, kf, states, outputs, record.final_level)
 

@@ -57,11 +57,22 @@ def _coefficients(problem, stages, state, load) -> tuple[Line, ...]:
         expr = stages.intervals[u][0][1]
         for k in range(problem.orders[j]):
             form = sp.diff(expr, T, k) if k else expr
-            rhs = sum((sp.simplify(sp.diff(form, x).subs(T, h)) * x for x in inputs),
+            rhs = sum((sp.factor_terms(sp.diff(form, x).subs(T, h)) * x for x in inputs),
                       sp.Integer(0))
-            lhs = sp.Symbol(state[j][k].replace("_i", "_i+1"))
-            lines.append(Line(lhs, rhs))
+            lhs = sp.Function(state[j][k][:-2])(sp.Symbol("t_i", positive=True) + h)
+            lines.append(Line(lhs, _readable(rhs)))
     return tuple(lines)
+
+
+def _readable(expr):
+    """Exact numbers with long denominators (parameters given as decimals such as 2π to 16
+    digits) shown to 10 significant digits; short ones kept exact."""
+    long = [r for r in expr.atoms(sp.Rational) if abs(r.q) > 10 ** 6 or abs(r.p) > 10 ** 12]
+    if not long:
+        return expr
+    numbers = {a: a.evalf(10) for a in expr.atoms(sp.Rational, sp.Pow)
+               if a.is_number and not a.is_Integer}
+    return expr.xreplace(numbers)
 
 
 def _knots_step(problem, rm) -> Step:

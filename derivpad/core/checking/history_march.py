@@ -151,7 +151,8 @@ def march(system, drive, constant, z0, times, values) -> np.ndarray:
 def output_rows(system, drive, constant, picks) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(C, D, E) of quantities y = C z + D f + E written as Σ coefficient · (state index or the
     derivative of one): ``picks`` per quantity is a list of (coefficient, state index,
-    differentiated?) — a differentiated state is read from z' = A z + g f + c."""
+    differentiated?) — a differentiated state is read from z' = A z + g f + c, and index -1
+    is the load f itself."""
     a = np.asarray(system, dtype=float)
     g = np.asarray(drive, dtype=float)
     c = np.asarray(constant, dtype=float)
@@ -160,7 +161,9 @@ def output_rows(system, drive, constant, picks) -> tuple[np.ndarray, np.ndarray,
     E = np.zeros(len(picks))
     for r, terms in enumerate(picks):
         for coeff, index, differentiated in terms:
-            if differentiated:
+            if index < 0:
+                D[r] += coeff
+            elif differentiated:
                 C[r] += coeff * a[index]
                 D[r] += coeff * g[index]
                 E[r] += coeff * c[index]

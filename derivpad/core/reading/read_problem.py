@@ -75,6 +75,8 @@ def make_problem(equations, ics=None, params=None, unknown: str | None = None, u
         contexts = unit_contexts(term_lists, positions, unknowns, names, quantities,
                                  ic_quantities, units, derived_raw, loads)
     load_subs = {sp.Symbol(k, positive=True): f.expr for k, f in loads.items()}
+    if load_subs:  # a derived quantity may name a load (absolute acceleration z'' + a_g)
+        derived_exprs = [(n, sp.expand(e.subs(load_subs))) for n, e in derived_exprs]
     operators, forcings = _substituted(raw, len(unknowns), subs, load_subs, texts)
     _check_order_kept(unknowns, operators, orders)
     initial = tuple(tuple(ic_values[(j, k)].subs(subs) for k in range(orders[j]))
