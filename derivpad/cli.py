@@ -74,6 +74,49 @@ def _solve_command(sub) -> None:
                        help="also print the solution's value at time T (repeat)")
     solve.add_argument("--format", choices=FORMATS, default="text", help=_FORMAT_HELP)
     solve.add_argument("--width", type=int, metavar="COLUMNS", help=_WIDTH_HELP)
+    _load_file_options(solve)
+
+
+def _load_file_options(solve) -> None:
+    """``solve --load-file``: a measured load record from a CSV or text file."""
+    rec = solve.add_argument_group("measured load record (see docs/load-history.md)")
+    rec.add_argument("--load-file", metavar="PATH",
+                     help="a CSV/text file of (time, value) with a header naming the columns "
+                          "and units, e.g. 't [ms], F [kN]'")
+    rec.add_argument("--load-name", metavar="NAME",
+                     help="the name in the equation the record stands for (default: the value "
+                          "column's name in the header)")
+    rec.add_argument("--time-column", metavar="COLUMN", help="the time column (default: first)")
+    rec.add_argument("--load-column", metavar="COLUMN",
+                     help="the value column (default: second)")
+    rec.add_argument("--time-unit", metavar="UNIT",
+                     help="unit of the times when the header gives none (default s)")
+    rec.add_argument("--load-unit", metavar="UNIT",
+                     help="unit of the values when the header gives none, e.g. kN")
+    rec.add_argument("--hold-last", action="store_true",
+                     help="keep the last value after the record (default: zero after it)")
+
+
+def _load_record(args, params: dict) -> dict:
+    """params= with the record of --load-file under its name (the column's, or --load-name)."""
+    if not args.load_file:
+        for flag in ("load_name", "time_column", "load_column", "time_unit", "load_unit"):
+            if getattr(args, flag):
+                raise ParameterError(f"--{flag.replace('_', '-')} applies to a record: give "
+                                     "--load-file PATH too", flag)
+        return params
+    from .core.reading.history import read_history
+    rec = read_history(args.load_file, time=args.time_column, value=args.load_column,
+                       time_unit=args.time_unit, unit=args.load_unit, hold_last=args.hold_last)
+    name = args.load_name or rec.name
+    if not name or not name.isidentifier():
+        raise ParameterError(f"the record's value column is named {rec.name!r}, which is not a "
+                             "name in an equation; say which name it stands for with "
+                             "--load-name NAME", "load_name")
+    if name in params:
+        raise ParameterError(f"{name!r} is given both by --param and by --load-file; give it "
+                             "once", name)
+    return {**params, name: rec}
 
 
 def _cases_command(sub) -> None:
@@ -241,6 +284,9 @@ def _emit(derivation, fmt: str, times, title: str | None = None, width: int = 80
     for u, solution in derivation.solutions.items():
         si = p.unit_context(u).unknown_si if p.units else ""
         written = f" (SI: {u} in {si}, t in s)" if si else " (t in s)"
+        if getattr(derivation, "record", None) is not None:  # under a load record
+            written = (f" on one segment of the record, t standing for the time since the "
+                       f"segment's start{written}")
         out.append(f"Solution{written}:")
         out.append(wrap_terms(f"{u}(t) = ", text_expr(solution,
                                                         decimals=dict(p.written_decimals)),
@@ -324,7 +370,8 @@ def _main(argv=None) -> int:
             from .core.engine import derive
             system = len(args.equation) > 1
             d = derive(args.equation if system else args.equation[0], ics=_read_ics(args.ic),
-                       params=_read_pairs(args.param, "--param", "k=800"),
+                       params=_load_record(args, _read_pairs(args.param, "--param",
+                                                              "k=800")),
                        units=_read_pairs(args.unit, "--unit", "x=mm"),
                        values=_read_pairs(args.value, "--value", "m=2"),
                        unknown=args.unknown, regime=args.regime, on_failure="return",

@@ -144,3 +144,27 @@ def test_cases_prints_the_envelope_and_exits_1_when_a_case_is_not_ok(capsys, tmp
     (tmp_path / "bad.csv").write_text("case,td [ms]\nshort,x\n")
     assert main(args[:-4] + ["--table", str(tmp_path / "bad.csv")]) == 2
     assert "case short: 'x' is not a finite number" in capsys.readouterr().err
+
+
+def test_solve_with_a_load_file(tmp_path, capsys):
+    # a half-sine pressure pulse logged in ms and kN; the record's column name is the load's
+    path = tmp_path / "record.csv"
+    path.write_text("t [ms],P [kN]\n0,0\n10,7.0710678\n20,10\n30,7.0710678\n40,0\n")
+    code = main(["solve", "m*x'' + k*x = P", "--ic", "x(0)=0", "--ic", "x'(0)=0",
+                 "--param", "m=850 kg", "--param", "k=1.6 MN/m", "--unit", "x=mm",
+                 "--load-file", str(path)])
+    out = capsys.readouterr().out
+    assert code == 0 and "From knot to knot" in out and "peak response" in out
+    assert "on one segment of the record" in out
+
+
+def test_load_file_errors_name_the_line(tmp_path, capsys):
+    path = tmp_path / "bad.csv"
+    path.write_text("t [s],F [N]\n0,0\n1,x\n")
+    code = main(["solve", "x'' + x = F", "--ic", "x(0)=0", "--ic", "x'(0)=0",
+                 "--load-file", str(path)])
+    err = capsys.readouterr().err
+    assert code == 2 and "line 3" in err and "Traceback" not in err
+    code = main(["solve", "x'' + x = F", "--ic", "x(0)=0", "--ic", "x'(0)=0",
+                 "--load-unit", "kN"])
+    assert code == 2 and "--load-file" in capsys.readouterr().err

@@ -35,6 +35,7 @@ class LoadHistory:
     given_unit: str = ""    # the unit the record was written in ("kN")
     time_unit: str = "s"    # the unit its times were written in
     source: str = "array"
+    name: str = ""          # the value column's name, where the record named it
 
     def __post_init__(self):
         object.__setattr__(self, "times", _frozen(self.times))

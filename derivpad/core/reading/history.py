@@ -8,6 +8,7 @@ corners. Sizes are checked before any arithmetic.
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import math
 import os
@@ -92,8 +93,9 @@ def read_history(path, *, time=None, value=None, time_unit=None, unit=None,
     ti, fi, (tname, tu), (fname, fu) = _pick(names, time, value, path)
     data = _numbers(body, delimiter, len(names), path, names)
     source = f"file {os.path.basename(path)}, columns {tname!r} and {fname!r}"
-    return checked(data[:, ti], data[:, fi], time_unit or tu or "s", unit or fu or "",
-                   hold_last, source, first_row=2, row_word="line ")
+    rec = checked(data[:, ti], data[:, fi], time_unit or tu or "s", unit or fu or "",
+                  hold_last, source, first_row=2, row_word="line ")
+    return dataclasses.replace(rec, name=fname)
 
 
 def checked(t, f, time_unit: str, unit: str, hold_last: bool, source: str, *,
@@ -205,9 +207,10 @@ def _from_frame(frame, time, value, time_unit, unit, hold_last) -> LoadHistory:
     ti, fi, (tname, tu), (fname, fu) = _pick(names, time, value, "the table")
     t = _column(frame.iloc[:, ti].to_numpy(), f"column {tname!r}", "pandas")
     f = _column(frame.iloc[:, fi].to_numpy(), f"column {fname!r}", "pandas")
-    return checked(t, f, time_unit or tu or "s", unit or fu or "", hold_last,
-                   f"pandas table, columns {tname!r} and {fname!r}", first_row=0,
-                   row_word="row ")
+    rec = checked(t, f, time_unit or tu or "s", unit or fu or "", hold_last,
+                  f"pandas table, columns {tname!r} and {fname!r}", first_row=0,
+                  row_word="row ")
+    return dataclasses.replace(rec, name=fname)
 
 
 def _delimiter(header: str) -> str:
