@@ -7,6 +7,7 @@ from . import forcing
 from .cases import CaseResults, case_grid, case_sample, load_cases
 from .core.model.derivation import Derivation
 from .core.engine import derive, derive_state_space
+from .core.response_spectrum import ResponseSpectrum, response_spectrum
 from .core.model.problem import Problem
 from .core.reading.record import CalcRecord
 from .core.model.result import Result
@@ -26,10 +27,10 @@ __version__ = "0.1.0"
 __all__ = sorted([
     "CalcRecord", "CaseResults", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "LoadHistoryError", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
-    "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "Result", "Rule",
+    "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "ResponseSpectrum", "Result", "Rule",
     "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "WorkerError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",
-    "forcing", "load_cases", "load_ipython_extension",
+    "forcing", "load_cases", "load_ipython_extension", "response_spectrum",
 ])
 
 

@@ -56,7 +56,7 @@ def _suffix(k: int) -> str:
     return {0: "", 1: "dot", 2: "ddot"}.get(k, f"d{k}")
 
 
-def _generic(equation, ics, params, name, record, unknown, units, derived):
+def generic_problems(equation, ics, params, name, record, unknown, units, derived):
     """(the problem as given with the record's load set to zero — its initial values are the
     march's start —, the generic segment's problem, its state symbols, its load symbols)."""
     rest = {k: v for k, v in params.items() if str(k) != name}
@@ -102,9 +102,9 @@ def _check_units(problem, name: str, record: LoadHistory) -> None:
                         f"{dimension_text(want)}", name=name)
 
 
-def _loading(problem, value_map: dict, load: tuple[str, str], gain: np.ndarray):
-    """(g, c): how the record and the constant loads enter z' = A z + g f + c. Each right side
-    must be linear in the record, with only constant loads beside it."""
+def equation_loads(problem, value_map: dict, load: tuple[str, str]):
+    """(e, r) per equation: its right side is e·f(t) + r, f the record. Each right side must
+    be linear in the record, with only constant loads beside it."""
     f_i, fdot_i = (sp.Symbol(x, positive=True) for x in load)
     subs = {sp.Symbol(k, positive=True): v for k, v in value_map.items()
             if k not in load}
@@ -119,7 +119,7 @@ def _loading(problem, value_map: dict, load: tuple[str, str], gain: np.ndarray):
                                term=str(f))
         e.append(float(coeff))
         r.append(float(rest))
-    return gain @ np.array(e), gain @ np.array(r)
+    return np.array(e), np.array(r)
 
 
 def _picks(problem, offsets, load) -> list:
@@ -155,9 +155,11 @@ def _picks(problem, offsets, load) -> list:
     return out
 
 
-def _record_march(problem, numbers, value_map, load, given, record) -> RecordMarch:
+def record_march(problem, numbers, loads, load, given, record) -> RecordMarch:
+    """The march through the record for the numbers of one case (``loads``: the equations'
+    (e, r) from :func:`equation_loads`)."""
     system, gain, _, _, offsets = first_order_form(numbers.lead, numbers.lower, numbers.orders)
-    drive, constant = _loading(problem, value_map, load, gain)
+    drive, constant = gain @ loads[0], gain @ loads[1]
     z0 = np.concatenate([np.array([float(v) for v in vals]) for vals in given.initial_values])
     kt, kf = record.knots()
     states = march(system, drive, constant, z0, kt, kf)
@@ -186,7 +188,7 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
     """derive() when ``params[name]`` is a load record: see the module docstring."""
     tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     criteria = read_criteria(criteria)
-    given, problem, state, load = _generic(equation, ics, params, name, record, unknown, units,
+    given, problem, state, load = generic_problems(equation, ics, params, name, record, unknown, units,
                                            derived)
     user = _user_values(problem, values, state, load)
     open_names = [s for s in problem.symbols if s not in user and s not in
@@ -199,7 +201,8 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
              load[0]: sp.Integer(0), load[1]: sp.Integer(0)}
     stages = stages_for_values(problem, regime, probe)
     model = compile_numbers(problem, stages, problem.symbols)
-    rm = _record_march(problem, model.at(probe), probe, load, given, record)
+    rm = record_march(problem, model.at(probe), equation_loads(problem, probe, load), load,
+                      given, record)
     value_map = {**user, **_busiest(rm, state, load)}
     own = self_check(problem, stages, tolerances.get("back_substitution"), value_map)
     segment = complete(problem, stages, own, value_map, tolerances=tolerances, window=window,

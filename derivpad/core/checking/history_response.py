@@ -53,6 +53,26 @@ def _segment_extremes(table, columns: list, lengths: np.ndarray):
     return value, time
 
 
+def _reach(table, columns: list, lengths: np.ndarray, ends: np.ndarray) -> np.ndarray:
+    """An upper bound of |y| on [0, h] for each segment: the larger end plus h²/8·max|y''|
+    (the error of the chord through the ends), max|y''| ≤ Σ |A_m| |λ_m|² max(1, e^{a h})
+    over its exponential modes (a constant or linear term has y'' = 0); a mode with a power
+    of τ adds its whole size instead."""
+    seg = table.batch(columns).segment(0)
+    amp = seg.amplitude
+    h = lengths[:, None]
+    with np.errstate(over="ignore", invalid="ignore"):
+        grow = np.exp(np.maximum(seg.rate, 0.0) * h)
+        lam2 = seg.rate ** 2 + seg.freq ** 2
+        plain = (seg.power[None, :] == 0)
+        curve = np.sum(np.where(plain, amp * lam2 * grow, 0.0), axis=1) * lengths ** 2 / 8
+        powered = (seg.power[None, :] > 0) & ((lam2 > 0) | (seg.power[None, :] >= 2))
+        whole = np.sum(np.where(powered, amp * grow * np.maximum(h ** seg.power[None, :], 1.0),
+                                0.0), axis=1)
+        bound = ends + curve + whole
+    return np.where(np.isfinite(bound), bound, np.inf)
+
+
 def record_extremes(table, segment_columns, knots, node_values, slopes_at,
                     lengths_ok, rate, tail_columns, system_poles) -> RecordExtremes:
     """The figures of one quantity from its values at the knots (``node_values``), y' at each
@@ -68,8 +88,12 @@ def record_extremes(table, segment_columns, knots, node_values, slopes_at,
     ends = np.maximum(size[starts], size[starts + 1])
     d0, d1 = slopes_at
     turning = (np.sign(d0) * np.sign(d1) < 0) | (d0 == 0) | (d1 == 0)
-    candidates = np.nonzero((turning & (ends >= (1 - _NEAR) * size[k]))
-                            | (lengths * rate > _SHORT))[0]
+    near = turning & (ends >= (1 - _NEAR) * size[k])
+    long = np.nonzero(~near & (lengths * rate > _SHORT))[0]
+    if long.size:  # a long segment is searched only where its modes could reach the best
+        reach = _reach(table, segment_columns(long), lengths[long], ends[long])
+        near[long[reach >= size[k]]] = True
+    candidates = np.nonzero(near)[0]
     if candidates.size:
         values, times = _segment_extremes(table, segment_columns(candidates),
                                           lengths[candidates])

@@ -78,7 +78,7 @@ def _slopes_at(rm, name, starts, slopes):
     return d0, d1
 
 
-def quantity_extremes(model, rm, name, state, load, value_map):
+def quantity_extremes(model, rm, name, state, load, value_map, system_poles):
     """record_extremes of one quantity (None where its closed form is not a sum of modes)."""
     table = model.mode_tables()[0].get(name)
     if table is None:
@@ -92,7 +92,7 @@ def quantity_extremes(model, rm, name, state, load, value_map):
                            _slopes_at(rm, name, starts, slopes), (starts, lengths),
                            fastest_rate(rm.system),
                            _tail_columns(symbols, value_map, rm, state, load),
-                           tuple(model.at(value_map).system_poles))
+                           tuple(system_poles))
 
 
 def _static_gain(rm, name) -> tuple[float | None, str]:
@@ -117,7 +117,8 @@ def record_results(problem, numbers, model, rm, state, load, value_map):
     end = float(rm.knot_times[-1])
     for name in problem.names:
         w = writer_for(problem, name)
-        ext = quantity_extremes(model, rm, name, state, load, value_map)
+        ext = quantity_extremes(model, rm, name, state, load, value_map,
+                                numbers.system_poles)
         if ext is None:
             w.absent("peak", "peak response", w.y_unit, "the closed form is not a sum of modes")
             out.update(w.out)

@@ -1,0 +1,62 @@
+"""A response spectrum drawn and tabulated: reads a ResponseSpectrum, computes nothing."""
+
+from __future__ import annotations
+
+import html as _html
+
+from .figure import _figure_class, _svg_text
+
+__all__ = ["spectrum_bundle", "spectrum_figure", "spectrum_text"]
+
+_ROWS = (("SD", "displacement", "spectral displacement SD", "m"),
+         ("PSV", "pseudo_velocity", "pseudo-velocity PSV", "m/s"),
+         ("PSA", "pseudo_acceleration", "pseudo-acceleration PSA", "m/s²"))
+
+
+def _units(spec) -> tuple[str, str, str]:
+    """SD, PSV, PSA units: SI where the record had a unit of acceleration, else none."""
+    return ("m", "m/s", "m/s²") if spec.record.unit == "m/s²" else ("", "", "")
+
+
+def spectrum_figure(spec, width: float = 7.5, height: float = 7.0):
+    """SD, PSV and PSA against the natural period, each on log-log axes."""
+    fig = _figure_class()(figsize=(width, height))
+    fig.subplots_adjust(left=0.13, right=0.97, top=0.93, bottom=0.08, hspace=0.12)
+    axes = fig.subplots(3, 1, sharex=True)
+    units = _units(spec)
+    for ax, (short, attr, label, _), unit in zip(axes, _ROWS, units):
+        ax.loglog(spec.periods, getattr(spec, attr), color="#1f3f8f", lw=1.3)
+        ax.set_ylabel(f"{short} [{unit}]" if unit else short)
+        ax.grid(True, which="both", lw=0.3, color="0.85")
+    axes[-1].set_xlabel("natural period T [s]")
+    kind = "support acceleration" if spec.kind == "support" else "force per unit mass"
+    axes[0].set_title(f"Response spectrum of the {kind} record, ζ = {spec.damping:g}",
+                      fontsize=10, loc="left")
+    return fig
+
+
+def spectrum_text(spec, width: int = 80) -> str:
+    """The spectrum as a table: period, frequency, SD, PSV, PSA, load factor, time of peak."""
+    units = _units(spec)
+    head = (f"Response spectrum, ζ = {spec.damping:g} ({spec.kind} record of "
+            f"{len(spec.record)} points); each value the supremum over the whole response")
+    cols = ["T [s]", "f [Hz]"] + [f"{s} [{u}]" if u else s for (s, *_), u in
+                                  zip(_ROWS, units)] + ["load factor", "t_peak [s]"]
+    lines = [head, "  ".join(f"{c:>12}" for c in cols)]
+    for i, t in enumerate(spec.periods):
+        row = [t, 1 / t, spec.displacement[i], spec.pseudo_velocity[i],
+               spec.pseudo_acceleration[i], spec.load_factor[i], spec.peak_times[i]]
+        lines.append("  ".join(f"{x:12.6g}" for x in row))
+    return "\n".join(lines)
+
+
+def spectrum_bundle(spec) -> dict:
+    """The display bundle: the figure (SVG, where matplotlib is installed) and the table."""
+    text = spectrum_text(spec)
+    out = {"text/plain": text}
+    try:
+        svg = _svg_text(spectrum_figure(spec))
+    except ImportError:
+        svg = ""
+    out["text/html"] = svg + "<pre>" + _html.escape(text) + "</pre>"
+    return out
