@@ -9,8 +9,10 @@ forcings add, and a Forcing given as a parameter value replaces that name on the
 """
 
 from .core.reading.history import history, read_history
+from .core.reading.periodic import PeriodicLoad, periodic
 from .core.reading.forcing import (Forcing, impulse, pulse, ramp, step, switched_cosine, switched_exp,
                            switched_sine, table, triangle, window)
 
 __all__ = sorted(["Forcing", "impulse", "pulse", "ramp", "step", "switched_cosine",
-                  "switched_exp", "switched_sine", "table", "triangle", "window", "history", "read_history"])
+                  "switched_exp", "switched_sine", "table", "triangle", "window", "history", "read_history",
+                  "PeriodicLoad", "periodic"])

@@ -107,6 +107,14 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
                               values=values, regime=regime, tolerances=tolerances,
                               window=window, checks=checks, derived=derived,
                               on_failure=on_failure, definitions=definitions, criteria=criteria)
+    from .periodic_engine import derive_periodic, periodic_in
+    repeating = periodic_in(params)
+    if repeating is not None:
+        return derive_periodic(equation, ics, params, *repeating, unknown=unknown, units=units,
+                               values=values, regime=regime, tolerances=tolerances,
+                               window=window, checks=checks, derived=derived,
+                               on_failure=on_failure, definitions=definitions,
+                               criteria=criteria)
     problem = make_problem(equation, ics, params, unknown, units, derived)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,

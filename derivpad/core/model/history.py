@@ -14,7 +14,7 @@ import numpy as np
 
 from .derivation import Derivation
 
-__all__ = ["HistoryDerivation", "LoadHistory", "RecordMarch"]
+__all__ = ["HistoryDerivation", "LoadHistory", "PeriodicDerivation", "RecordMarch"]
 
 
 def _frozen(x) -> np.ndarray:
@@ -131,3 +131,24 @@ class HistoryDerivation(Derivation):
         status = "verification passed" if self.verification.passed else "NOT VERIFIED"
         return (f"<Derivation of {self.problem.text!r} under a load record of "
                 f"{len(self.record)} points: {len(self.steps)} steps, {status}>")
+
+
+@dataclass(frozen=True, slots=True)
+class PeriodicDerivation(Derivation):
+    """The derivation of a response to a load that repeats for ever.
+
+    Its steps show the periodic load's transform, one generic period (the period's load from
+    the state it starts in), the map from period to period, the periodic steady state and
+    the transient. ``solution`` is the generic period's closed form in τ; calling the
+    derivation evaluates the whole response y_ss(t − kT) + y_tr(t).
+    """
+
+    periodic_load: object = None
+    load_name: str = ""
+    period_map: tuple = ()        # (Φ_T, q_T)
+    steady_state: tuple = ()      # z_ss, the state each steady period starts in
+
+    def __repr__(self) -> str:
+        status = "verification passed" if self.verification.passed else "NOT VERIFIED"
+        return (f"<Derivation of {self.problem.text!r} under a periodic load (T = "
+                f"{self.periodic_load.period}): {len(self.steps)} steps, {status}>")
