@@ -22,7 +22,7 @@ from .checking.results import _quantity
 from .symbolic.rules import rule
 from .model.steps import Line, Rule, Step
 from .reading.units import Quantity, UnitContext, registry
-from .model.checks import Check, Verification
+from .model.checks import Check, Samples, Verification
 
 __all__ = ["FORMAT", "READABLE_VERSIONS", "derivation_from_dict"]
 
@@ -56,7 +56,8 @@ def derivation_from_dict(data: dict) -> Derivation:
         acceptance=tuple(_judgement(j) for j in data.get("acceptance", ())),
         assumptions=tuple(data["assumptions"]),
         conditions=tuple(from_tree(c) for c in data["conditions"]),
-        verification=Verification(tuple(_check(c) for c in data["verification"]["checks"])),
+        verification=Verification(tuple(_check(c) for c in data["verification"]["checks"]),
+                                  _samples(data.get("samples"))),
         notes=tuple(data["notes"]),
         results=MappingProxyType({k: _result(r, problem) for k, r in data["results"].items()}),
         parts={u: tuple((from_tree(c), from_tree(r)) for c, r in ps)
@@ -65,6 +66,19 @@ def derivation_from_dict(data: dict) -> Derivation:
                      for name, v in data["values_for_checks"].items()),
         derived={name: from_tree(e["tree"]) for name, e in data["derived"].items()},
         determinant=from_tree(data["determinant"]["tree"]))
+
+
+def _samples(data):
+    """The figure's samples where the JSON keeps them (a derivation under a load record or a
+    periodic load, whose figure cannot be drawn again from the generic closed form alone)."""
+    if not isinstance(data, dict):
+        return None
+    import numpy as np
+
+    def arrays(block):
+        return {str(k): np.asarray(v, dtype=float) for k, v in dict(block).items()}
+    return Samples(np.asarray(data["times"], dtype=float), arrays(data["closed_form"]),
+                   arrays(data["integrated"]), arrays(data["forcing"]), ())
 
 
 def _judgement(j: dict) -> Judgement:

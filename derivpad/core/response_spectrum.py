@@ -23,6 +23,7 @@ import sympy as sp
 from ..errors import ParameterError
 from .checking.history_results import quantity_extremes
 from .engine import compile_numbers, stages_for_values
+from .model import display_hook
 from .model.history import LoadHistory
 
 __all__ = ["ResponseSpectrum", "response_spectrum"]
@@ -61,18 +62,15 @@ class ResponseSpectrum:
 
     def figure(self, **settings):
         """SD, PSV and PSA against the period (matplotlib, the figures extra)."""
-        from ..render.spectrum import spectrum_figure
-        return spectrum_figure(self, **settings)
+        return display_hook.spectrum_figure(self, **settings)
 
     def to_text(self, width: int = 80) -> str:
         """The spectrum as a plain-text table."""
-        from ..render.spectrum import spectrum_text
-        return spectrum_text(self, width)
+        return display_hook.spectrum_text(self, width)
 
     def _repr_mimebundle_(self, include=None, exclude=None):
         try:
-            from ..render.spectrum import spectrum_bundle
-            return spectrum_bundle(self)
+            return display_hook.spectrum_bundle(self)
         except Exception as exc:  # noqa: BLE001 - display must never raise into the notebook
             return {"text/plain": f"derivpad could not display the spectrum: {exc}"}
 

@@ -6,6 +6,7 @@ tree form of ``derivpad.core.exprtree`` that reads back into SymPy without evalu
 
 from __future__ import annotations
 
+import numpy as np
 
 from ..core.model.derivation import Derivation
 from ..core.model.exprtree import to_tree
@@ -85,7 +86,36 @@ def derivation_to_dict(d: Derivation) -> dict:
         "value_table": [list(row) for row in d.value_rows],
         "rules": {r.id: r.to_dict() for s in d.steps for r in s.all_rules},
         "caution": CAUTION,
+        **_load_entries(d),
     }
+
+
+def _load_entries(d) -> dict:
+    """A derivation under a load record or a periodic load: the load's summary (the record's
+    SHA-256, so a re-run proves it read the same record) and the figure's samples, which the
+    generic closed form alone cannot give again."""
+    record, repeating = getattr(d, "record", None), getattr(d, "periodic_load", None)
+    if record is None and repeating is None:
+        return {}
+    samples = d.verification.samples
+    out = {}
+    if samples is not None:
+        def listed(block):
+            return {k: [float(x) if np.isfinite(x) else None for x in v] for k, v in
+                    block.items()}
+        out["samples"] = {"times": [float(x) for x in samples.times],
+                          "closed_form": listed(samples.closed_form),
+                          "integrated": listed(samples.integrated),
+                          "forcing": listed(samples.forcing)}
+    if record is not None:
+        out["load"] = {"kind": "record", "name": d.load_name, "description": record.description,
+                       "points": len(record), "unit": record.unit, "source": record.source,
+                       "hold_last": record.hold_last, "sha256": record.sha256}
+    else:
+        out["load"] = {"kind": "periodic", "name": d.load_name,
+                       "description": repeating.description,
+                       "period": float(repeating.period)}
+    return out
 
 
 def _problem_dict(p) -> dict:

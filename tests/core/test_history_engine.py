@@ -139,3 +139,16 @@ def test_engine_checks_only_return_unverified():
     d = derivpad.derive(SDOF, REST, {"m": 1, "c": 1, "k": 100,
                                      "F": forcing.history([0, 1], [0, 1])}, checks="engine")
     assert not d.verification.passed and not d.results
+
+
+def test_json_keeps_the_record_summary_and_the_figure_samples():
+    t = np.linspace(0.0, 0.05, 11)
+    rec = forcing.history(t, 100 * np.sin(60 * t))
+    d = derivpad.derive(SDOF, REST, {"m": 10, "c": 300, "k": 4e5, "F": rec})
+    data = d.to_dict()
+    assert data["load"]["kind"] == "record" and data["load"]["sha256"] == rec.sha256
+    back = derivpad.Derivation.from_dict(data)
+    s0, s1 = d.verification.samples, back.verification.samples
+    assert np.array_equal(s0.times, s1.times)
+    assert np.array_equal(s0.closed_form["x"], s1.closed_form["x"])
+    assert back.results["peak"].magnitude == d.results["peak"].magnitude

@@ -4,8 +4,8 @@ body, so loading the core never loads printing, plotting or the notebook (as Sym
 
 from __future__ import annotations
 
-__all__ = ["bundle", "figure", "html", "latex", "record_bundle", "save_figure", "step_latex",
-           "text", "to_dict"]
+__all__ = ["bundle", "figure", "html", "latex", "record_bundle", "save_figure", "spectrum_bundle",
+           "spectrum_figure", "spectrum_text", "step_latex", "text", "to_dict"]
 
 
 def step_latex(step) -> str:
@@ -51,3 +51,18 @@ def text(obj, **settings) -> str:
 def bundle(obj, include=None, exclude=None) -> dict:
     from ...render.mimebundle import mimebundle
     return mimebundle(obj, include, exclude)
+
+
+def spectrum_figure(spectrum, **settings):
+    from ...render.spectrum import spectrum_figure as draw  # matplotlib is an extra
+    return draw(spectrum, **settings)
+
+
+def spectrum_text(spectrum, width: int = 80) -> str:
+    from ...render.spectrum import spectrum_text as write
+    return write(spectrum, width)
+
+
+def spectrum_bundle(spectrum) -> dict:
+    from ...render.spectrum import spectrum_bundle as build
+    return build(spectrum)

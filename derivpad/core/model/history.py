@@ -8,6 +8,7 @@ make a jump. Before the first point the load is zero; after the last it is zero 
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass
 
 import numpy as np
@@ -48,6 +49,13 @@ class LoadHistory:
     def duration(self) -> float:
         """The time of the last point (s)."""
         return float(self.times[-1])
+
+    @property
+    def sha256(self) -> str:
+        """SHA-256 of the times and values (SI, float64): the record's fingerprint in a calc
+        package, so that a re-run can prove it read the same record."""
+        return hashlib.sha256(np.ascontiguousarray(self.times).tobytes()
+                              + np.ascontiguousarray(self.values).tobytes()).hexdigest()
 
     @property
     def jumps(self) -> int:
