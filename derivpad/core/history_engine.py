@@ -99,7 +99,9 @@ def _check_units(problem, name: str, record: LoadHistory) -> None:
         from .reading.units import dimension_text
         raise UnitError(f"the load record {name!r} is in {record.given_unit or record.unit} "
                         f"({dimension_text(got)}), but {name} in the equation is "
-                        f"{dimension_text(want)}", name=name)
+                        f"{dimension_text(want)}; check the units of the parameters in its "
+                        "term, and give the unknowns' units (units={'x': 'mm'}) so that the "
+                        "load's dimension follows from the equation", name=name)
 
 
 def equation_loads(problem, value_map: dict, load: tuple[str, str]):

@@ -33,11 +33,14 @@ def unit_contexts(term_lists, positions, unknowns, names, quantities, ic_quantit
     for u in unknowns:
         known.setdefault(u, one)
     dims.update(known)
-    for terms in term_lists:  # a load history carries its equation's dimension
+    for terms in term_lists:  # a load carries the dimension its term needs (F, or a_g in m·a_g)
         inside = [tm for tm in terms if any(tm.expr.has(f) for f in funcs)]
         for name in loads:
-            if any(sp.Symbol(name, positive=True) in tm.expr.free_symbols for tm in terms):
-                dims[name] = dimension_of(inside[0].expr, dims, unknowns[0], "")
+            symbol = sp.Symbol(name, positive=True)
+            holding = [tm for tm in terms if symbol in tm.expr.free_symbols]
+            if holding:
+                per = dimension_of(holding[0].expr, {**dims, name: one}, unknowns[0], "")
+                dims[name] = dimension_of(inside[0].expr, dims, unknowns[0], "") / per
     forcing_dims = []
     for i, (terms, text) in enumerate(zip(term_lists, positions)):
         try:
