@@ -152,3 +152,21 @@ def test_json_keeps_the_record_summary_and_the_figure_samples():
     assert np.array_equal(s0.times, s1.times)
     assert np.array_equal(s0.closed_form["x"], s1.closed_form["x"])
     assert back.results["peak"].magnitude == d.results["peak"].magnitude
+
+
+def test_record_checks_catch_a_wrong_state():
+    # the energy balance and the segment integration are independent of the march: a state
+    # 1e-6 off at one knot must fail both (a check that cannot fail proves nothing)
+    import dataclasses
+    from derivpad.core.checking.history_checks import energy_check, integration_check
+    t = np.linspace(0.0, 0.05, 51)
+    d = derivpad.derive(SDOF, REST, {"m": 10, "c": 300, "k": 4e5,
+                                     "F": forcing.history(t, 1000 * np.sin(60 * t))})
+    assert d.verification.passed
+    states = d.march.states.copy()
+    states[20] *= 1 + 1e-6
+    bad = dataclasses.replace(d.march, states=states)
+    m = np.array([[10.0]])
+    assert not energy_check(bad, (m, np.array([[300.0]]), np.array([[4e5]])),
+                            (np.array([1.0]), np.array([0.0])), np.array([0, 2])).passed
+    assert not integration_check(bad, ("x",), np.linspace(0, 0.06, 50))[0].passed

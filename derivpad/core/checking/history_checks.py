@@ -22,7 +22,8 @@ from .history_march import record_values
 from .numeric_checks import not_run
 from .response import final_value
 
-__all__ = ["final_value_check", "integration_check", "recurrence_check", "record_samples"]
+__all__ = ["energy_check", "final_value_check", "integration_check", "mechanical_matrices",
+           "recurrence_check", "record_samples"]
 
 _FIRST, _LAST = 20, 5
 
@@ -64,7 +65,8 @@ def _links(rm, times: np.ndarray):
     return i, times - kt[i]
 
 
-def integrate_links(rm, starts: np.ndarray, spans: np.ndarray, rtol: float = 1e-12):
+def integrate_links(rm, starts: np.ndarray, spans: np.ndarray, rtol: float = 1e-12,
+                    power=None):
     """The state ``spans`` after each knot in ``starts``, every one integrated by solve_ivp
     (DOP853) from the march's state at that knot under the load from there — all at once, as
     one stacked system on a common scaled time u ∈ [0, 1] (dz/du = h (A z + g f + c)). The
@@ -82,15 +84,78 @@ def integrate_links(rm, starts: np.ndarray, spans: np.ndarray, rtol: float = 1e-
     h = spans.astype(float)
     scale = max(float(np.max(np.abs(rm.states))), 1e-300)
 
+    extra = 0 if power is None else 2
+
     def rhs(u, flat):
-        z = flat.reshape(n, d)
+        z = flat.reshape(n, d + extra)[:, :d]
         load = level + slope * h * u
-        return (h[:, None] * (z @ A.T + load[:, None] * g[None, :] + c[None, :])).ravel()
-    sol = solve_ivp(rhs, (0.0, 1.0), z0.ravel(), method="DOP853", rtol=rtol,
+        dz = z @ A.T + load[:, None] * g[None, :] + c[None, :]
+        if extra:
+            dz = np.concatenate([dz, power(z, load)], axis=1)
+        return (h[:, None] * dz).ravel()
+    start = np.concatenate([z0, np.zeros((n, extra))], axis=1)
+    sol = solve_ivp(rhs, (0.0, 1.0), start.ravel(), method="DOP853", rtol=rtol,
                     atol=1e-15 * scale)
     if not sol.success:
         raise ArithmeticError(sol.message)
-    return sol.y[:, -1].reshape(n, d)
+    end = sol.y[:, -1].reshape(n, d + extra)
+    return end if extra else end[:, :d]
+
+
+def energy_check(rm, mck, loads, offsets, tolerance=1e-8) -> Check:
+    """The energy balance of a mechanical system M x'' + C x' + K x = e f(t) + r (M and K
+    symmetric) on every segment: the work the loads do and the energy the damping takes,
+    integrated by solve_ivp along each segment, against the change of ½vᵀMv + ½xᵀKx between
+    the recurrence's states at its ends."""
+    M, Cd, K = mck
+    e, r = loads
+    pos = np.asarray(offsets[:-1])
+    vel = pos + 1
+    kt = rm.knot_times
+    live = np.nonzero(np.diff(kt) > 0)[0]
+
+    def power(z, load):
+        v = z[:, vel]
+        work = v @ e * load + v @ r
+        loss = np.einsum("ni,ij,nj->n", v, Cd, v)
+        return np.stack([work, loss], axis=1)
+
+    def energy(z):
+        x, v = z[:, pos], z[:, vel]
+        return 0.5 * np.einsum("ni,ij,nj->n", v, M, v) + 0.5 * np.einsum("ni,ij,nj->n", x, K, x)
+    what = "Energy balance on every segment"
+    method = ("The work of the loads ∫vᵀ(e f + r) dt and the energy the damping takes "
+              "∫vᵀCv dt on each segment, integrated by SciPy solve_ivp (DOP853, rtol 1e-12) "
+              "along it, against the change of the stored energy ½vᵀMv + ½xᵀKx between the "
+              "recurrence's states at its ends, relative to the largest stored energy or work")
+    try:
+        end = integrate_links(rm, live, kt[live + 1] - kt[live], power=power)
+    except (ArithmeticError, MemoryError) as exc:
+        return not_run(what, method + ".", tolerance, f"the integrator stopped: {exc}")
+    d = rm.states.shape[1]
+    change = energy(rm.states[live + 1]) - energy(rm.states[live])
+    balance = end[:, d] - end[:, d + 1]
+    scale = max(float(np.max(energy(rm.states))), float(np.max(np.abs(end[:, d:]))), 1e-300)
+    err = float(np.max(np.abs(change - balance), initial=0.0)) / scale
+    return Check(what, method + ".", tolerance, err, err <= tolerance,
+                 detail=f"largest imbalance {err:.3e} of the largest energy")
+
+
+def mechanical_matrices(numbers):
+    """(M, C, K) where every unknown is of second order and M and K are symmetric (the
+    energy balance applies); None otherwise."""
+    if any(o != 2 for o in numbers.orders):
+        return None
+    n = len(numbers.orders)
+    M, K = np.asarray(numbers.lead, float), np.asarray(numbers.static, float)
+    C = np.zeros((n, n))
+    for i, j, k, a in numbers.lower:
+        if k == 1:
+            C[i, j] += a
+    if not (np.allclose(M, M.T, rtol=1e-12, atol=0) and np.allclose(K, K.T, rtol=1e-12,
+                                                                       atol=0)):
+        return None
+    return M, C, K
 
 
 def integration_check(rm, names, grid, tolerance=1e-7):
