@@ -50,6 +50,21 @@ class ResponseSpectrum:
     derivation: object = None
     notes: tuple = field(default=())
 
+    @property
+    def units(self) -> tuple[str, str, str]:
+        """SD, PSV and PSA units: SI where the record is an acceleration in a unit, else none
+        (the numbers then are in the record's own units)."""
+        return ("m", "m/s", "m/s²") if self.record.unit == "m/s²" else ("", "", "")
+
+    @property
+    def points(self) -> int:
+        """The record's number of points."""
+        return len(self.record)
+
+    def to_dict(self) -> dict:
+        """The JSON form: every column, the record's fingerprint, the checks."""
+        return display_hook.spectrum_dict(self)
+
     def table(self):
         """The spectrum as a pandas DataFrame (the cases extra), one row per period."""
         from ..errors import import_extra

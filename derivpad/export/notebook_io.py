@@ -19,6 +19,7 @@ from ..errors import DerivpadError, ExportError, PackageRefusedError, import_ext
 from ..render.cases import CASES_MIME_TYPE
 from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
+from ..render.spectrum import SPECTRUM_MIME_TYPE
 
 __all__ = ["ExecutedCalc", "CellFailure", "execute_notebook", "PackageRefusedError"]
 
@@ -44,6 +45,8 @@ class ExecutedCalc:
     failures: tuple[CellFailure, ...]
     cases: tuple = ()             # each load-case run's JSON form (CaseResults.to_dict)
     cases_html: tuple = ()        # and the HTML the notebook displayed for it
+    spectra: tuple = ()           # each response spectrum's JSON form
+    spectra_html: tuple = ()      # and the HTML the notebook displayed for it (figure, table)
 
 
 def _libs():
@@ -74,7 +77,7 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
                 if out.output_type == "error":
                     failures.append(CellFailure(n, f"{out.ename}: {out.evalue}"))
     record, record_cell, derivations, html, cells = None, 0, [], [], []
-    cases, cases_html = [], []
+    cases, cases_html, spectra, spectra_html = [], [], [], []
     for n, cell in enumerate(code_cells, 1):
         for out in cell.outputs:
             data = out.get("data", {}) if out.output_type in ("display_data", "execute_result") \
@@ -84,6 +87,13 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
             if CASES_MIME_TYPE in data:
                 cases.append(dict(data[CASES_MIME_TYPE]))
                 cases_html.append(data.get("text/html", ""))
+            if SPECTRUM_MIME_TYPE in data:
+                spectra.append(dict(data[SPECTRUM_MIME_TYPE]))
+                spectra_html.append(data.get("text/html", ""))
+                if not spectra[-1].get("verified", False):
+                    failures.append(CellFailure(n, "response spectrum not verified (its "
+                                                   "generic oscillator's checks)",
+                                                unverified=True))
             if DERIVATION_MIME_TYPE in data:
                 d = Derivation.from_dict(dict(data[DERIVATION_MIME_TYPE]))
                 derivations.append(d)
@@ -98,7 +108,8 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
                                                    f"verified: {what}", unverified=True))
     derivations, problems = _judged_on_record(record, record_cell, derivations)
     return ExecutedCalc(nb, record, tuple(derivations), tuple(html), tuple(cells),
-                        tuple(failures + problems), tuple(cases), tuple(cases_html))
+                        tuple(failures + problems), tuple(cases), tuple(cases_html),
+                        tuple(spectra), tuple(spectra_html))
 
 
 def _judged_on_record(record, cell: int, derivations):

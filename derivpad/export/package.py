@@ -222,7 +222,8 @@ def make_package(notebook, out_dir=".", *, allow_failed: bool = False, force: bo
         report.write_text(report_html(calc.record, calc.derivations, calc.html,
                                       verified=verified, created=created, page_size=page_size,
                                       cases=cases, cases_fragments=calc.cases_html,
-                                      cases_figures=_inline_figures(files, len(cases))),
+                                      cases_figures=_inline_figures(files, len(cases)),
+                                      spectra_fragments=calc.spectra_html),
                           encoding="utf-8")
         if pdf:
             say("printing report.pdf")
@@ -254,9 +255,9 @@ def _packageable(calc, allow_failed: bool) -> bool:
     if calc.record is None:
         raise PackageRefusedError("not packaged: the notebook displays no derivpad.CalcRecord; "
                                   "put one (with calc_number and revision) in its first cell")
-    if not calc.derivations and not calc.cases:
-        raise PackageRefusedError("not packaged: the notebook displays no derivation and no "
-                                  "load cases")
+    if not calc.derivations and not calc.cases and not calc.spectra:
+        raise PackageRefusedError("not packaged: the notebook displays no derivation, no load "
+                                  "cases and no response spectrum")
     failed_cases = [(i, c["table"]["form"].count("failed")) for i, c in enumerate(calc.cases, 1)
                     if "failed" in c["table"]["form"]]
     if failed_cases and not allow_failed:
@@ -282,7 +283,22 @@ def _package_files(calc, cases: list, notebook_name: str, created: str) -> dict[
             "inputs.json": _json(_inputs(calc.record, calc.derivations)).encode(),
             "environment.json": _json(environment_info(created)).encode(),
             notebook_name: _notebook_bytes(calc.notebook),
-            **_figures(calc.derivations)}
+            **_figures(calc.derivations), **_spectrum_files(calc.spectra)}
+
+
+def _spectrum_files(spectra) -> dict[str, bytes]:
+    """Each response spectrum's JSON (spectra.json), its table as CSV under spectra/, and its
+    figure (SD, PSV, PSA against the period) under figures/."""
+    if not spectra:
+        return {}
+    from ..render.figure import svg_file
+    from ..render.spectrum import SpectrumData, spectrum_figure
+    out = {"spectra.json": _json(list(spectra)).encode()}
+    for i, sp in enumerate(spectra, 1):
+        columns = ["period_s", "SD", "PSV", "PSA", "load_factor", "time_of_peak_s"]
+        out[f"spectra/spectrum-{i}.csv"] = _csv(columns, zip(*(sp[k] for k in columns)))
+        out[f"figures/spectrum-{i}.svg"] = svg_file(spectrum_figure(SpectrumData(sp)))
+    return out
 
 
 def _notebook_bytes(nb) -> bytes:

@@ -138,7 +138,8 @@ def _num(x) -> str:
 
 
 def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
-                page_size: str = "A4", cases=(), cases_fragments=(), cases_figures=()) -> str:
+                page_size: str = "A4", cases=(), cases_fragments=(), cases_figures=(),
+                spectra_fragments=()) -> str:
     """The report page: the first sheet (title block, purpose, inputs, key results against the
     acceptance criteria, status), contents, the rest of the record, the derivations with every
     step open, each load-case run with its figure (``cases_figures``: inline SVG), then
@@ -165,6 +166,8 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
                  "</a></li>" for i, d in enumerate(derivations, 1)]
     contents += [f'<li><a href="#cases-{i}">Load cases {i}: {c["cases"]} cases</a></li>'
                  for i, c in enumerate(cases, 1)]
+    contents += [f'<li><a href="#spectrum-{i}">Response spectrum {i}</a></li>'
+                 for i in range(1, len(spectra_fragments) + 1)]
     assumptions = list(record.get("assumptions", []))
     for d in derivations:
         assumptions += [a for a in d.assumptions if a not in assumptions]
@@ -193,6 +196,9 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
                       f"<figcaption>{_e(caption)}</figcaption></figure></div>")
         body.append(f'<h2 class="dp-section" id="cases-{i}">Load cases {i}</h2>{fragment}'
                     f"{figure}")
+    body += [f'<h2 class="dp-section" id="spectrum-{i}">Response spectrum {i}</h2>{fragment}'
+             f"<p>figures/spectrum-{i}.svg and spectra/spectrum-{i}.csv in the package</p>"
+             for i, fragment in enumerate(spectra_fragments, 1)]
     if assumptions or references:
         part = ['<h2 class="dp-section" id="assumptions">Assumptions and references</h2>']
         for label, items in (("Assumptions", assumptions), ("References", references)):

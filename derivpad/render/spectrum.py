@@ -5,8 +5,17 @@ from __future__ import annotations
 import html as _html
 
 from .figure import _figure_class, _svg_text
+from .latex import CAUTION
 
-__all__ = ["spectrum_bundle", "spectrum_figure", "spectrum_text"]
+__all__ = ["SPECTRUM_MIME_TYPE", "SpectrumData", "spectrum_bundle", "spectrum_figure",
+           "spectrum_text", "spectrum_to_dict"]
+
+SPECTRUM_MIME_TYPE = "application/vnd.derivpad.spectrum+json"
+"""Our own type for a response spectrum in a notebook's outputs (read by the packager)."""
+
+_COLUMNS = (("periods", "period_s"), ("displacement", "SD"), ("pseudo_velocity", "PSV"),
+            ("pseudo_acceleration", "PSA"), ("load_factor", "load_factor"),
+            ("peak_times", "time_of_peak_s"))
 
 _ROWS = (("SD", "displacement", "spectral displacement SD", "m"),
          ("PSV", "pseudo_velocity", "pseudo-velocity PSV", "m/s"),
@@ -14,8 +23,35 @@ _ROWS = (("SD", "displacement", "spectral displacement SD", "m"),
 
 
 def _units(spec) -> tuple[str, str, str]:
-    """SD, PSV, PSA units: SI where the record had a unit of acceleration, else none."""
-    return ("m", "m/s", "m/s²") if spec.record.unit == "m/s²" else ("", "", "")
+    """SD, PSV, PSA units (SI, or none where the record's values had no unit)."""
+    return tuple(spec.units)
+
+
+class SpectrumData:
+    """A spectrum read back from its JSON form (a package's): the attributes the figure and
+    the table read."""
+
+    def __init__(self, data: dict):
+        for attr, key in _COLUMNS:
+            setattr(self, attr, [float("nan") if x is None else float(x) for x in data[key]])
+        self.damping, self.kind = float(data["damping"]), str(data["kind"])
+        self.units, self.points = tuple(data["units"]), int(data["record"]["points"])
+
+
+def spectrum_to_dict(spec) -> dict:
+    """The spectrum's JSON form: every column, the record's fingerprint, the generic
+    oscillator's verification."""
+    import math
+    out = {"format_version": 1, "kind": spec.kind, "damping": spec.damping,
+           "units": list(spec.units),
+           "record": {"points": spec.points, "sha256": spec.record.sha256,
+                      "source": spec.record.source, "unit": spec.record.unit},
+           "verified": bool(spec.derivation.verification.passed),
+           "checks": [c.to_dict() for c in spec.derivation.verification.checks],
+           "caution": CAUTION}
+    for attr, key in _COLUMNS:
+        out[key] = [float(x) if math.isfinite(x) else None for x in getattr(spec, attr)]
+    return out
 
 
 def spectrum_figure(spec, width: float = 7.5, height: float = 7.0):
@@ -39,7 +75,7 @@ def spectrum_text(spec, width: int = 80) -> str:
     """The spectrum as a table: period, frequency, SD, PSV, PSA, load factor, time of peak."""
     units = _units(spec)
     head = (f"Response spectrum, ζ = {spec.damping:g} ({spec.kind} record of "
-            f"{len(spec.record)} points); each value the supremum over the whole response")
+            f"{spec.points} points); each value the supremum over the whole response")
     cols = ["T [s]", "f [Hz]"] + [f"{s} [{u}]" if u else s for (s, *_), u in
                                   zip(_ROWS, units)] + ["load factor", "t_peak [s]"]
     lines = [head, "  ".join(f"{c:>12}" for c in cols)]
@@ -51,12 +87,17 @@ def spectrum_text(spec, width: int = 80) -> str:
 
 
 def spectrum_bundle(spec) -> dict:
-    """The display bundle: the figure (SVG, where matplotlib is installed) and the table."""
+    """The display bundle: the figure (SVG, where matplotlib is installed), the table, the
+    cautions, and the spectrum's JSON under our own type (read back by the packager)."""
     text = spectrum_text(spec)
-    out = {"text/plain": text}
+    out = {"text/plain": text + "\n" + CAUTION}
     try:
         svg = _svg_text(spectrum_figure(spec))
     except ImportError:
         svg = ""
-    out["text/html"] = svg + "<pre>" + _html.escape(text) + "</pre>"
+    status = ("the generic oscillator's derivation passed all its checks"
+              if spec.derivation.verification.passed else "NOT VERIFIED")
+    out["text/html"] = (f'<div class="derivpad dp-spectrum">{svg}<p>{_html.escape(status)}</p>'
+                        f"<pre>{_html.escape(text)}</pre><p>{_html.escape(CAUTION)}</p></div>")
+    out[SPECTRUM_MIME_TYPE] = spectrum_to_dict(spec)
     return out

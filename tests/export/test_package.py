@@ -1,6 +1,7 @@
 """Calc packages: made from a fresh run, atomic, never overwriting, audited."""
 
 import json
+import math
 import shutil
 from pathlib import Path
 
@@ -227,3 +228,33 @@ def test_load_cases_with_a_failed_row_are_refused_unless_allowed(tmp_path):
     result = make_package(path, tmp_path / "out", pdf=False, allow_failed=True, **quiet)
     assert not result.verified
     assert json.loads((result.folder / "cases.json").read_text())[0]["failed"] == 1
+
+
+def test_a_record_and_its_spectrum_package(tmp_path):
+    # a derivation under a load record and a response spectrum: the derivation's figure drawn
+    # from the samples its JSON keeps, the spectrum's table and figure as files, both in the
+    # report
+    path = _notebook(tmp_path, (
+        "import numpy as np\nfrom derivpad import forcing\n"
+        "t = np.linspace(0, 0.05, 26)\nrec = forcing.history(t, 1000 * np.sin(60 * t))\n"
+        "derivpad.derive(\"m*x'' + c*x' + k*x = F\", {'x(0)': 0, \"x'(0)\": 0}, "
+        "{'m': 10, 'c': 300, 'k': 4e5, 'F': rec})\n"))
+    nb = nbformat.read(path, as_version=4)
+    nb.cells.append(nbformat.v4.new_code_cell(
+        "derivpad.response_spectrum(forcing.history([0, 0.1], [1.0, 1.0]), [0.1, 0.2, 0.4], "
+        "0.0, kind='force')"))
+    nbformat.write(nb, path)
+    result = make_package(path, tmp_path / "out", pdf=False, **quiet)
+    folder = result.folder
+    assert result.verified
+    rows = (folder / "spectra" / "spectrum-1.csv").read_text().splitlines()
+    assert rows[0].startswith("period_s,SD,PSV,PSA,load_factor")
+    # rectangular pulse of 0.1 s, undamped: t_d/T = 1, 0.5, 0.25 give the load factors 2, 2,
+    # 2 sin(π/4) (J. M. Biggs, Introduction to Structural Dynamics; from memory)
+    factors = [float(r.split(",")[4]) for r in rows[1:]]
+    assert factors == pytest.approx([2.0, 2.0, 2 * math.sin(math.pi / 4)], rel=1e-9)
+    assert (folder / "figures" / "spectrum-1.svg").read_text().startswith("<?xml")
+    assert (folder / "figures" / "derivation-1.svg").read_text().startswith("<?xml")
+    html = (folder / "report.html").read_text()
+    assert 'id="spectrum-1"' in html and "From knot to knot" in html
+    assert audit_manifest(folder).intact

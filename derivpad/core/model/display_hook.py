@@ -5,7 +5,7 @@ body, so loading the core never loads printing, plotting or the notebook (as Sym
 from __future__ import annotations
 
 __all__ = ["bundle", "figure", "html", "latex", "record_bundle", "save_figure", "spectrum_bundle",
-           "spectrum_figure", "spectrum_text", "step_latex", "text", "to_dict"]
+           "spectrum_dict", "spectrum_figure", "spectrum_text", "step_latex", "text", "to_dict"]
 
 
 def step_latex(step) -> str:
@@ -66,3 +66,8 @@ def spectrum_text(spectrum, width: int = 80) -> str:
 def spectrum_bundle(spectrum) -> dict:
     from ...render.spectrum import spectrum_bundle as build
     return build(spectrum)
+
+
+def spectrum_dict(spectrum) -> dict:
+    from ...render.spectrum import spectrum_to_dict
+    return spectrum_to_dict(spectrum)
