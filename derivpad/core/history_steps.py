@@ -14,10 +14,9 @@ __all__ = ["RECURRENCE", "record_steps"]
 
 RECURRENCE = Rule(
     "record_recurrence", "Exact recurrence for a piecewise-linear load",
-    r"z_{i+1} = e^{A h} z_i + K_0(h)\,(g F_i + c) + K_1(h)\,g \dot{F}_i,\quad "
-    r"K_0 = \int_0^h e^{A\sigma} d\sigma,\ K_1 = \int_0^h e^{A\sigma}(h - \sigma)\, d\sigma",
-    "load linear on each segment [t_i, t_i + h]; z the unknowns and their derivatives below "
-    "the highest",
+    r"z_{i+1} = e^{A h} z_i + K_0(h)\,(g F_i + c) + K_1(h)\,g \dot{F}_i",
+    "K₀(h) = ∫₀ʰ e^{Aσ} dσ, K₁(h) = ∫₀ʰ e^{Aσ}(h − σ) dσ; the load linear on each segment "
+    "[t_i, t_i + h]; z the unknowns and their derivatives below the highest",
     "N. C. Nigam and P. C. Jennings, Bull. Seismological Soc. America 59 (1969), and A. K. "
     "Chopra, Dynamics of Structures, §5.2 (from memory); blocks by C. F. Van Loan, IEEE Trans. "
     "Automatic Control 23 (1978) (from memory)")

@@ -42,11 +42,10 @@ __all__ = ["PERIODIC", "derive_periodic", "periodic_in"]
 
 PERIODIC = Rule(
     "periodic", "Transform of a periodic function",
-    r"f(t + T) = f(t) \;\Rightarrow\; \mathcal{L}\{f\}(s) = \frac{F_1(s)}{1 - e^{-sT}},\quad "
-    r"F_1(s) = \int_0^T f(t)\,e^{-st}\,dt",
-    "f periodic with period T > 0, of exponential order; Re s > 0",
-    "Abramowitz & Stegun, Handbook of Mathematical Functions, 29.2.? (periodic functions), and "
-    "E. Kreyszig, Advanced Engineering Mathematics, ch. 6; from memory")
+    r"\mathcal{L}\{f\}(s) = \frac{F_1(s)}{1 - e^{-sT}}",
+    "f(t + T) = f(t), T > 0; F₁(s) = ∫₀ᵀ f(t) e^{−st} dt, the transform of one period; f of "
+    "exponential order, Re s > 0",
+    "E. Kreyszig, Advanced Engineering Mathematics, ch. 6 (periodic functions), from memory")
 _MAX_PERIODS = 100_000
 
 
