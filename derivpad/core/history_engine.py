@@ -191,8 +191,8 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
     """derive() when ``params[name]`` is a load record: see the module docstring."""
     tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     criteria = read_criteria(criteria)
-    given, problem, state, load = generic_problems(equation, ics, params, name, record, unknown, units,
-                                           derived)
+    given, problem, state, load = generic_problems(equation, ics, params, name, record,
+                                                   unknown, units, derived)
     user = _user_values(problem, values, state, load)
     open_names = [s for s in problem.symbols if s not in user and s not in
                   {x for row in state for x in row} | set(load)]
@@ -327,8 +327,8 @@ def _record_checks(problem, numbers, model, rm, state, load, value_map, toleranc
                    for u in problem.unknowns)
     finals = tuple(dataclasses.replace(c, name=f"{c.name} ({u})") if problem.size > 1 else c
                    for c, u in zip(finals, problem.unknowns))
-    return (recurrence, integration, energy) + finals, record_samples(rm, problem.unknowns, grid, pair,
-                                                             None)
+    samples = record_samples(rm, problem.unknowns, grid, pair, None)
+    return (recurrence, integration, energy) + finals, samples
 
 
 def _assumptions(segment, state, load) -> tuple[str, ...]:

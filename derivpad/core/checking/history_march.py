@@ -11,7 +11,8 @@ Am. 59, 1969; A. K. Chopra, Dynamics of Structures, §5.2) for any number of unk
 blocks come from one matrix exponential of [[A, I, 0], [0, 0, I], [0, 0, 0]]·h (C. F. Van Loan,
 IEEE Trans. Automat. Control 23, 1978). Segments of nearly equal length (the
 rounding of recorded times, a jittering clock) share one exponential, carried to each length
-by its Taylor series in the difference, summed to far below rounding. The march itself composes the segments' affine maps pairwise (a work-efficient
+by its Taylor series in the difference, summed to far below rounding. The march itself
+composes the segments' affine maps pairwise (a work-efficient
 scan), so the whole record is a few dozen array operations, not one Python step per point.
 """
 

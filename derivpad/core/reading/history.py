@@ -87,7 +87,8 @@ def read_history(path, *, time=None, value=None, time_unit=None, unit=None,
     delimiter = delimiter or _delimiter(header)
     names = [n.strip() for n in (header.split(delimiter) if delimiter != " " else header.split())]
     if not any(re.search(r"[A-Za-z_]", n) for n in names):
-        raise LoadHistoryError(f"{path}: line 1 is {header.strip()[:60]!r}, not a header; the first "
+        raise LoadHistoryError(
+            f"{path}: line 1 is {header.strip()[:60]!r}, not a header; the first "
                            "line names the columns with their units, e.g. 't [s], F [kN]'",
                            row=1)
     ti, fi, (tname, tu), (fname, fu) = _pick(names, time, value, path)
@@ -112,26 +113,30 @@ def checked(t, f, time_unit: str, unit: str, hold_last: bool, source: str, *,
     for name, x in (("time", t), ("value", f)):
         bad = np.nonzero(~np.isfinite(x))[0]
         if bad.size:
-            raise LoadHistoryError(f"the {name} at {row(bad[0])} is {float(x[bad[0]])!r}, not a finite "
+            raise LoadHistoryError(
+                f"the {name} at {row(bad[0])} is {float(x[bad[0]])!r}, not a finite "
                                "number; mend or remove that point (nothing is filled in)",
                                row=int(bad[0]) + first_row, column=name)
     dt = np.diff(t)
     back = np.nonzero(dt < 0)[0]
     if back.size:
         i = back[0] + 1
-        raise LoadHistoryError(f"the times must not decrease: {row(i)} has t = {float(t[i]):g} after "
+        raise LoadHistoryError(
+            f"the times must not decrease: {row(i)} has t = {float(t[i]):g} after "
                            f"t = {float(t[i - 1]):g}; sort the record or mend that time",
                            row=int(i) + first_row, column="time")
     triple = np.nonzero((dt[:-1] == 0) & (dt[1:] == 0))[0]
     if triple.size:
         i = triple[0]
-        raise LoadHistoryError(f"three points at t = {float(t[i]):g} ({row(i)} on); a jump is two points at "
+        raise LoadHistoryError(
+            f"three points at t = {float(t[i]):g} ({row(i)} on); a jump is two points at "
                            "one time: keep the value before and the value after",
                            row=int(i) + first_row, column="time")
     t_si, _ = _to_si(t, time_unit, "time")
     f_si, si_unit = _to_si(f, unit, "value") if unit else (np.asarray(f, dtype=float), "")
     if t_si[0] < 0:
-        raise LoadHistoryError(f"the first time ({row(0)}) is {float(t[0]):g}, before t = 0; the record "
+        raise LoadHistoryError(
+            f"the first time ({row(0)}) is {float(t[0]):g}, before t = 0; the record "
                            "must start at t = 0 or later (shift its times)", row=first_row,
                            column="time")
     return LoadHistory(t_si, f_si, hold_last=bool(hold_last), unit=si_unit, given_unit=unit,
@@ -183,7 +188,8 @@ def _split_header(name: str) -> tuple[str, str]:
 def _pick(names, time, value, where):
     heads = [_split_header(n) for n in names]
     if len(heads) < 2:
-        raise LoadHistoryError(f"{where}: the header names {len(heads)} column; a record has a time "
+        raise LoadHistoryError(
+            f"{where}: the header names {len(heads)} column; a record has a time "
                            "column and a value column, e.g. 't [s], F [kN]'", row=1)
 
     def find(wanted, default):
@@ -224,7 +230,8 @@ def _numbers(body: str, delimiter: str, width: int, path: str, names) -> np.ndar
     """The file's numbers (rows × columns); the first line that is not numbers is named."""
     lines = body.count("\n") + 1
     if lines > MAX_HISTORY_POINTS + 1:
-        raise LoadHistoryError(f"{path} has {lines:,} lines, more than {MAX_HISTORY_POINTS:,} points; "
+        raise LoadHistoryError(
+            f"{path} has {lines:,} lines, more than {MAX_HISTORY_POINTS:,} points; "
                            "split the record into parts")
     try:
         with np.errstate(all="ignore"):
@@ -248,7 +255,8 @@ def _first_bad_line(body: str, delimiter: str, width: int, path: str, names) -> 
         if not cells:
             continue
         if len(cells) != width:
-            raise LoadHistoryError(f"{path}, line {line}: {len(cells)} fields where the header names "
+            raise LoadHistoryError(
+                f"{path}, line {line}: {len(cells)} fields where the header names "
                                f"{width}; each line holds one number per column", row=line)
         for c, cell in enumerate(cells):
             try:
