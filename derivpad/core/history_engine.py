@@ -73,7 +73,7 @@ def generic_problems(equation, ics, params, name, record, unknown, units, derive
                              "record; rename that parameter", clash[0])
     f_i, fdot_i = (sp.Symbol(x, positive=True) for x in load)
     segment_load = Forcing(f_i + fdot_i * T, f"the record on one segment: {name} = "
-                                            f"{load[0]} + {load[1]}·τ")
+                                            f"{load[0]} + {load[1]}·τ", _dimension(record))
     generic_ics = {f"{u}{chr(39) * k}(0)": state[j][k] for j, u in enumerate(given.unknowns)
                    for k in range(given.orders[j])}
     generic = make_problem(equation, generic_ics, {**rest, name: segment_load}, unknown, units,
@@ -81,6 +81,14 @@ def generic_problems(equation, ics, params, name, record, unknown, units, derive
     generic = dataclasses.replace(generic, symbols=generic.symbols + load)
     _check_units(generic, name, record)
     return given, generic, state, load
+
+
+def _dimension(record: LoadHistory):
+    """The record's dimension (pint), None where its values have no unit."""
+    if not record.unit:
+        return None
+    from .reading.units import read_quantity
+    return read_quantity(f"1 {record.unit}", "the record's unit").dimensionality
 
 
 def _check_units(problem, name: str, record: LoadHistory) -> None:

@@ -43,6 +43,7 @@ class Forcing:
 
     expr: sp.Expr
     description: str
+    dimension: object = None   # a measured record's dimension (pint), where it has a unit
 
     def __add__(self, other: "Forcing") -> "Forcing":
         if not isinstance(other, Forcing):

@@ -36,6 +36,8 @@ def unit_contexts(term_lists, positions, unknowns, names, quantities, ic_quantit
     for terms in term_lists:  # a load carries the dimension its term needs (F, or a_g in m·a_g)
         inside = [tm for tm in terms if any(tm.expr.has(f) for f in funcs)]
         for name in loads:
+            if getattr(loads[name], "dimension", None) is not None:
+                continue  # a record's own dimension: the homogeneity check judges it
             symbol = sp.Symbol(name, positive=True)
             holding = [tm for tm in terms if symbol in tm.expr.free_symbols]
             if holding:
@@ -89,8 +91,8 @@ def _parameter_dimensions(names, quantities, units, loads, time_dim, one):
     for name in names:
         if name in quantities:
             dims[name] = quantities[name].dimensionality
-        elif name in loads:
-            dims[name] = None  # a load history: takes the dimension its equation needs
+        elif name in loads:  # a load: its record's dimension, else the one its term needs
+            dims[name] = getattr(loads[name], "dimension", None)
         elif name in units:  # a symbolic parameter with a declared unit
             dims[name] = read_quantity(f"1 {units[name]}", name).dimensionality
             symbol_units.append((name, units[name]))
@@ -111,7 +113,8 @@ def _declared(unknowns, units, ic_quantities) -> dict:
 
 def _infer(term_lists, unknowns, funcs, dims, known, loads, one) -> None:
     """Unknowns' dimensions from terms whose parameters carry units, equation by equation,
-    until nothing more can be learned."""
+    until nothing more can be learned (a load whose record gives its dimension counts)."""
+    loads = [n for n in loads if dims.get(n) is None]
     load_free = {n: one for n in loads}
     progress = True
     while progress and len(known) < len(unknowns):
