@@ -21,7 +21,7 @@ import sympy as sp
 
 from ..errors import ForcingError, ParameterError, UnitError
 from .checking.acceptance import judge, read_criteria, unjudged
-from .checking.history_checks import (energy_check, figure_grid, final_value_check,
+from .checking.history_checks import (EnergyBalance, figure_grid, final_value_check,
                                      integration_check, mechanical_matrices, record_samples,
                                      recurrence_check)
 from .checking.numeric_checks import not_run
@@ -318,17 +318,17 @@ def _record_checks(problem, numbers, model, rm, state, load, value_map, toleranc
                                   "Energy balance on every segment",
                                   "Final-value theorem on the whole transform"))
         return (recurrence,) + skipped, record_samples(rm, problem.unknowns, grid, None, None)
-    integration, pair = integration_check(rm, problem.unknowns, grid,
-                                          tolerances.get("integration", 1e-7))
     mck = mechanical_matrices(numbers)
-    energy = (energy_check(rm, mck, equation_loads(problem, value_map, load),
-                           first_order_form(numbers.lead, numbers.lower, numbers.orders)[4])
-              if mck is not None else
-              Check("Energy balance on every segment", "The work of the loads against the "
-                    "change of stored energy and the energy the damping takes.", 1e-8,
-                    float("nan"), True, applicable=False,
-                    detail="applies to mechanical systems M x'' + C x' + K x = f with M and K "
-                           "symmetric"))
+    balance = (EnergyBalance(mck, equation_loads(problem, value_map, load),
+                             first_order_form(numbers.lead, numbers.lower, numbers.orders)[4], rm)
+               if mck is not None else None)
+    integration, pair, energy = integration_check(rm, problem.unknowns, grid,
+                                                  tolerances.get("integration", 1e-7), balance)
+    if energy is None:
+        energy = Check(EnergyBalance.NAME, "The work of the loads against the change of stored "
+                       "energy and the energy the damping takes.", 1e-8, float("nan"), True,
+                       applicable=False, detail="applies to mechanical systems "
+                       "M x'' + C x' + K x = f with M and K symmetric")
     finals = tuple(final_value_check(rm, model, u, tail_modes(model, rm, u, state, load,
                                                              value_map),
                                      numbers.system_poles, tolerances.get("limits", 1e-9))

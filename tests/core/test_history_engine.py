@@ -159,7 +159,7 @@ def test_record_checks_catch_a_wrong_state():
     # the energy balance and the segment integration are independent of the march: a state
     # 1e-6 off at one knot must fail both (a check that cannot fail proves nothing)
     import dataclasses
-    from derivpad.core.checking.history_checks import energy_check, integration_check
+    from derivpad.core.checking.history_checks import EnergyBalance, integration_check
     t = np.linspace(0.0, 0.05, 51)
     d = derivpad.derive(SDOF, REST, {"m": 10, "c": 300, "k": 4e5,
                                      "F": forcing.history(t, 1000 * np.sin(60 * t))})
@@ -167,7 +167,7 @@ def test_record_checks_catch_a_wrong_state():
     states = d.march.states.copy()
     states[20] *= 1 + 1e-6
     bad = dataclasses.replace(d.march, states=states)
-    m = np.array([[10.0]])
-    assert not energy_check(bad, (m, np.array([[300.0]]), np.array([[4e5]])),
-                            (np.array([1.0]), np.array([0.0])), np.array([0, 2])).passed
-    assert not integration_check(bad, ("x",), np.linspace(0, 0.06, 50))[0].passed
+    mck = (np.array([[10.0]]), np.array([[300.0]]), np.array([[4e5]]))
+    balance = EnergyBalance(mck, (np.array([1.0]), np.array([0.0])), np.array([0, 2]), bad)
+    check, _, energy = integration_check(bad, ("x",), np.linspace(0, 0.06, 50), 1e-7, balance)
+    assert not check.passed and not energy.passed

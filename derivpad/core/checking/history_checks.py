@@ -22,7 +22,7 @@ from .history_march import record_values
 from .numeric_checks import not_run
 from .response import final_value
 
-__all__ = ["energy_check", "final_value_check", "integration_check", "mechanical_matrices",
+__all__ = ["EnergyBalance", "final_value_check", "integration_check", "mechanical_matrices",
            "recurrence_check", "record_samples"]
 
 _FIRST, _LAST = 20, 5
@@ -66,7 +66,7 @@ def _links(rm, times: np.ndarray):
 
 
 def integrate_links(rm, starts: np.ndarray, spans: np.ndarray, rtol: float = 1e-12,
-                    power=None):
+                    power=None, power_scale: float = 1.0):
     """The state ``spans`` after each knot in ``starts``, every one integrated by solve_ivp
     (DOP853) from the march's state at that knot under the load from there — all at once, as
     one stacked system on a common scaled time u ∈ [0, 1] (dz/du = h (A z + g f + c)). The
@@ -94,51 +94,58 @@ def integrate_links(rm, starts: np.ndarray, spans: np.ndarray, rtol: float = 1e-
             dz = np.concatenate([dz, power(z, load)], axis=1)
         return (h[:, None] * dz).ravel()
     start = np.concatenate([z0, np.zeros((n, extra))], axis=1)
+    atol = np.full((n, d + extra), 1e-15 * scale)
+    if extra:  # the accumulators' own scale: the largest energy the states hold or the loads do
+        atol[:, d:] = 1e-15 * power_scale
     sol = solve_ivp(rhs, (0.0, 1.0), start.ravel(), method="DOP853", rtol=rtol,
-                    atol=1e-15 * scale)
+                    atol=atol.ravel())
     if not sol.success:
         raise ArithmeticError(sol.message)
     end = sol.y[:, -1].reshape(n, d + extra)
     return end if extra else end[:, :d]
 
 
-def energy_check(rm, mck, loads, offsets, tolerance=1e-8) -> Check:
+class EnergyBalance:
     """The energy balance of a mechanical system M x'' + C x' + K x = e f(t) + r (M and K
-    symmetric) on every segment: the work the loads do and the energy the damping takes,
-    integrated by solve_ivp along each segment, against the change of ½vᵀMv + ½xᵀKx between
-    the recurrence's states at its ends."""
-    M, Cd, K = mck
-    e, r = loads
-    pos = np.asarray(offsets[:-1])
-    vel = pos + 1
-    kt = rm.knot_times
-    live = np.nonzero(np.diff(kt) > 0)[0]
+    symmetric): the work of the loads ∫vᵀ(e f + r) dt and the energy the damping takes
+    ∫vᵀCv dt, integrated along each segment beside its state (``power``), against the change
+    of the stored energy ½vᵀMv + ½xᵀKx between the recurrence's states at its ends."""
 
-    def power(z, load):
-        v = z[:, vel]
-        work = v @ e * load + v @ r
-        loss = np.einsum("ni,ij,nj->n", v, Cd, v)
+    NAME = "Energy balance on every segment"
+
+    def __init__(self, mck, loads, offsets, rm):
+        self.M, self.C, self.K = mck
+        self.e, self.r = loads
+        self.pos = np.asarray(offsets[:-1])
+        self.vel = self.pos + 1
+        work = float(np.max(np.abs(rm.knot_loads))) * max(float(np.max(np.abs(rm.states))),
+                                                          1e-300)
+        self.scale = max(float(np.max(self.energy(rm.states))), work, 1e-300)
+
+    def power(self, z, load):
+        v = z[:, self.vel]
+        work = v @ self.e * load + v @ self.r
+        loss = np.einsum("ni,ij,nj->n", v, self.C, v)
         return np.stack([work, loss], axis=1)
 
-    def energy(z):
-        x, v = z[:, pos], z[:, vel]
-        return 0.5 * np.einsum("ni,ij,nj->n", v, M, v) + 0.5 * np.einsum("ni,ij,nj->n", x, K, x)
-    what = "Energy balance on every segment"
-    method = ("The work of the loads ∫vᵀ(e f + r) dt and the energy the damping takes "
-              "∫vᵀCv dt on each segment, integrated by SciPy solve_ivp (DOP853, rtol 1e-12) "
-              "along it, against the change of the stored energy ½vᵀMv + ½xᵀKx between the "
-              "recurrence's states at its ends, relative to the largest stored energy or work")
-    try:
-        end = integrate_links(rm, live, kt[live + 1] - kt[live], power=power)
-    except (ArithmeticError, MemoryError) as exc:
-        return not_run(what, method + ".", tolerance, f"the integrator stopped: {exc}")
-    d = rm.states.shape[1]
-    change = energy(rm.states[live + 1]) - energy(rm.states[live])
-    balance = end[:, d] - end[:, d + 1]
-    scale = max(float(np.max(energy(rm.states))), float(np.max(np.abs(end[:, d:]))), 1e-300)
-    err = float(np.max(np.abs(change - balance), initial=0.0)) / scale
-    return Check(what, method + ".", tolerance, err, err <= tolerance,
-                 detail=f"largest imbalance {err:.3e} of the largest energy")
+    def energy(self, z):
+        x, v = z[:, self.pos], z[:, self.vel]
+        return (0.5 * np.einsum("ni,ij,nj->n", v, self.M, v)
+                + 0.5 * np.einsum("ni,ij,nj->n", x, self.K, x))
+
+    def check(self, rm, live, ends, tolerance=1e-8) -> Check:
+        d = rm.states.shape[1]
+        change = self.energy(rm.states[live + 1]) - self.energy(rm.states[live])
+        balance = ends[:, d] - ends[:, d + 1]
+        scale = max(self.scale, float(np.max(np.abs(ends[:, d:]), initial=0.0)))
+        err = float(np.max(np.abs(change - balance), initial=0.0)) / scale
+        method = ("The work of the loads ∫vᵀ(e f + r) dt and the energy the damping takes "
+                  "∫vᵀCv dt on each segment, integrated by SciPy solve_ivp (DOP853, rtol 1e-12) "
+                  "along it with its state, against the change of the stored energy "
+                  "½vᵀMv + ½xᵀKx between the recurrence's states at its ends, relative to the "
+                  "largest stored energy or work.")
+        return Check(self.NAME, method, tolerance, err, err <= tolerance,
+                     detail=f"largest imbalance {err:.3e} of the largest energy")
 
 
 def mechanical_matrices(numbers):
@@ -158,10 +165,12 @@ def mechanical_matrices(numbers):
     return M, C, K
 
 
-def integration_check(rm, names, grid, tolerance=1e-7):
+def integration_check(rm, names, grid, tolerance=1e-7, balance: EnergyBalance | None = None):
     """Every segment of the record, and every time of the figure's grid, integrated by
     solve_ivp from the state at the knot before it, against the march; the figure's samples
-    too (the grid after the record in stretches of at most one record length)."""
+    too (the grid after the record in stretches of at most one record length). With
+    ``balance``, the energy balance is integrated in the same pass. Returns (the integration
+    check, the samples' pair, the energy check or None)."""
     kt = rm.knot_times
     live = np.nonzero(np.diff(kt) > 0)[0]
     g_start, g_span = _links(rm, grid)
@@ -172,17 +181,21 @@ def integration_check(rm, names, grid, tolerance=1e-7):
               "crosses a corner of the record — and compared with the recurrence's next state")
     what = "Numerical integration of every segment of the record"
     try:
-        ends = integrate_links(rm, live, kt[live + 1] - kt[live])
+        ends = integrate_links(rm, live, kt[live + 1] - kt[live],
+                               power=balance.power if balance else None,
+                               power_scale=balance.scale if balance else 1.0)
         at_grid = _grid_links(rm, g_start, g_span)
     except (ArithmeticError, MemoryError) as exc:
-        return not_run(what, method + ".", tolerance, f"the integrator stopped: {exc}"), None
+        why = f"the integrator stopped: {exc}"
+        return (not_run(what, method + ".", tolerance, why), None,
+                not_run(EnergyBalance.NAME, "", 1e-8, why) if balance else None)
     worst, detail, integrated = 0.0, [], {}
     loads = rm_load(rm, grid)
     for name in names:
         C, D, E = rm.outputs[name]
         mine = rm.node_values(name)
         scale = max(float(np.max(np.abs(mine))), 1e-300)
-        ref = ends @ C + D * rm.knot_loads[live + 1] + E
+        ref = ends[:, :len(C)] @ C + D * rm.knot_loads[live + 1] + E
         err = float(np.max(np.abs(ref - mine[live + 1]), initial=0.0)) / scale
         worst = max(worst, err)
         detail.append(f"{name} {err:.3e}")
@@ -190,7 +203,8 @@ def integration_check(rm, names, grid, tolerance=1e-7):
     check = Check(what, f"{method}; relative to each quantity's largest value at a knot.",
                   tolerance, worst, worst <= tolerance,
                   detail="max relative error: " + ", ".join(detail))
-    return check, (record_values(rm, grid), integrated)
+    energy = balance.check(rm, live, ends) if balance else None
+    return check, (record_values(rm, grid), integrated), energy
 
 
 def _grid_links(rm, starts, spans) -> np.ndarray:
