@@ -14,13 +14,12 @@ thousands of symbolic terms.
 from __future__ import annotations
 
 import dataclasses
-from types import MappingProxyType
 
 import numpy as np
 import sympy as sp
 
 from ..errors import ForcingError, ParameterError, UnitError
-from .checking.acceptance import judge, read_criteria, unjudged
+from .checking.acceptance import read_criteria
 from .checking.history_checks import (EnergyBalance, figure_grid, final_value_check,
                                      integration_check, mechanical_matrices, record_samples,
                                      recurrence_check)
@@ -29,14 +28,14 @@ from .checking.history_march import march, output_rows, record_values
 from .checking.history_results import record_results, segment_columns, tail_modes
 from .checking.numeric_checks import first_order_form
 from .checking.own_check import self_check
-from .engine import check_options, complete, compile_numbers, refuse_failed, stages_for_values, \
-    withheld
+from .engine import check_options, complete, compile_numbers, stages_for_values
+from .generic_segment import assembled, outcome, user_values
+from .generic_segment import generic_problems as shared_problems
 from .history_steps import record_steps
 from .model.checks import Check, Verification
 from .model.history import HistoryDerivation, LoadHistory, RecordMarch
 from .model.symbols import T
 from .reading.forcing import Forcing
-from .reading.read_problem import make_problem
 
 __all__ = ["derive_history", "record_in"]
 
@@ -53,31 +52,15 @@ def record_in(params) -> tuple[str, LoadHistory] | None:
     return found[0] if found else None
 
 
-def _suffix(k: int) -> str:
-    return {0: "", 1: "dot", 2: "ddot"}.get(k, f"d{k}")
-
-
 def generic_problems(equation, ics, params, name, record, unknown, units, derived):
     """(the problem as given with the record's load set to zero — its initial values are the
     march's start —, the generic segment's problem, its state symbols, its load symbols)."""
-    rest = {k: v for k, v in params.items() if str(k) != name}
-    given = make_problem(equation, ics, {**rest, name: Forcing(sp.Integer(0), "the record")},
-                         unknown, units, derived)
-    state = [[f"{u}{_suffix(k)}_i" for k in range(given.orders[j])]
-             for j, u in enumerate(given.unknowns)]
     load = (f"{name}_i", f"{name}dot_i")
-    taken = set(given.symbols) | {p for p, _ in given.parameters} | set(given.unknowns)
-    clash = sorted(taken & ({s for row in state for s in row} | set(load)))
-    if clash:
-        raise ParameterError(f"the name {clash[0]!r} is used by the generic segment of the "
-                             "record; rename that parameter", clash[0])
     f_i, fdot_i = (sp.Symbol(x, positive=True) for x in load)
     segment_load = Forcing(f_i + fdot_i * T, f"the record on one segment: {name} = "
                                             f"{load[0]} + {load[1]}·τ", _dimension(record))
-    generic_ics = {f"{u}{chr(39) * k}(0)": state[j][k] for j, u in enumerate(given.unknowns)
-                   for k in range(given.orders[j])}
-    generic = make_problem(equation, generic_ics, {**rest, name: segment_load}, unknown, units,
-                           derived)
+    given, generic, state = shared_problems(equation, ics, params, name, segment_load, "i",
+                                            unknown, units, derived, reserved=load)
     generic = dataclasses.replace(generic, symbols=generic.symbols + load)
     _check_units(generic, name, record)
     return given, generic, state, load
@@ -201,13 +184,8 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
     criteria = read_criteria(criteria)
     given, problem, state, load = generic_problems(equation, ics, params, name, record,
                                                    unknown, units, derived)
-    user = _user_values(problem, values, state, load)
-    open_names = [s for s in problem.symbols if s not in user and s not in
-                  {x for row in state for x in row} | set(load)]
-    if open_names:
-        raise ParameterError(f"a load record needs a number for every parameter; "
-                             f"{', '.join(open_names)} has none (give it in params=)",
-                             open_names[0])
+    generic_names = [x for row in state for x in row] + list(load)
+    user = user_values(problem, values, generic_names, "a load record")
     probe = {**user, **{s: sp.Integer(0) for row in state for s in row},
              load[0]: sp.Integer(0), load[1]: sp.Integer(0)}
     stages = stages_for_values(problem, regime, probe)
@@ -226,35 +204,15 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
                                     tolerances, checks)
     extra = (extra[0], route) + extra[1:]
     verification = Verification(_segment_checks(segment) + extra, samples)
-    if checks == "all":  # checks="engine" returns, as derive() does, marked not verified
-        refuse_failed(verification, problem.text, on_failure)
-    if checks == "engine":
-        results = MappingProxyType({})
-    elif verification.passed:
-        results = record_results(problem, numbers, model, rm, state, load, value_map)
-    else:
-        results = withheld(verification)
-    acceptance = (judge(criteria, results) if verification.passed and checks == "all"
-                  else unjudged(criteria, "checks='engine': no results" if checks == "engine"
-                                else "verification failed: no results"))
+    results, acceptance = outcome(
+        verification, checks, on_failure, problem.text,
+        lambda: record_results(problem, numbers, model, rm, state, load, value_map), criteria)
     steps = record_steps(problem, stages, segment, record, rm, name, state, load)
-    fields = {f.name: getattr(segment, f.name) for f in dataclasses.fields(segment)
-              if f.name not in ("steps", "verification", "results", "acceptance", "_cache",
-                                "assumptions")}
-    out = HistoryDerivation(**fields, assumptions=_assumptions(segment, state, load),
-                            steps=steps, verification=verification, results=results,
-                            acceptance=acceptance, record=record, march=rm, load_name=name)
+    out = assembled(HistoryDerivation, segment, generic_names, steps, verification, results,
+                    acceptance, record=record, march=rm, load_name=name)
     out._cache["numpy"] = {q: (lambda times, q=q: record_values(rm, times)[q])
                            for q in problem.names}
     return out
-
-
-def _user_values(problem, values, state, load) -> dict:
-    """The caller's values= for the problem's own symbolic parameters (not the segment's)."""
-    from .engine import parameter_values
-    own = dataclasses.replace(problem, symbols=tuple(
-        s for s in problem.symbols if s not in set(load) | {x for row in state for x in row}))
-    return parameter_values(own, values)
 
 
 def _segment_checks(segment) -> tuple:
@@ -286,7 +244,7 @@ def _symbolic_route_check(equation, ics, params, name, record, rm, unknown, unit
     try:
         d = derive(equation, ics, {**params, name: table(list(zip(t.tolist(), f.tolist())),
                                                             hold_last=True)},
-                   unknown=unknown, units=_si_units(units), checks="engine")
+                   unknown=unknown, units=units, checks="engine")
     except Exception as exc:  # noqa: BLE001 - any failure of the other route is reported
         return not_run(what, method, tol, f"the symbolic route could not be derived ({exc})")
     times = np.linspace(0.0, float(t[-1]), 200)
@@ -300,10 +258,6 @@ def _symbolic_route_check(equation, ics, params, name, record, rm, unknown, unit
         detail.append(f"{u} {err:.3e}")
     return Check(what, method, tol, worst, worst <= tol,
                  detail="max relative error: " + ", ".join(detail))
-
-
-def _si_units(units):
-    return units
 
 
 def _record_checks(problem, numbers, model, rm, state, load, value_map, tolerances, checks):
@@ -338,12 +292,3 @@ def _record_checks(problem, numbers, model, rm, state, load, value_map, toleranc
     samples = record_samples(rm, problem.unknowns, grid, pair, None)
     return (recurrence, integration, energy) + finals, samples
 
-
-def _assumptions(segment, state, load) -> tuple[str, ...]:
-    """The segment's assumptions, with its own state and load named as what they are: any
-    real numbers (the closed form is linear in them), not positive parameters."""
-    generic = ", ".join([x for row in state for x in row] + list(load))
-    out = [a for a in segment.assumptions if not a.startswith("symbolic parameters (")]
-    out.append(f"the segment's state and load ({generic}) are any real numbers: the closed "
-               "form is linear in them")
-    return tuple(out)

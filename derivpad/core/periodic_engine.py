@@ -20,22 +20,20 @@ import sympy as sp
 from scipy.integrate import solve_ivp
 
 from ..errors import ParameterError
-from .checking.acceptance import judge, read_criteria, unjudged
+from .checking.acceptance import read_criteria
 from .checking.modes import Modes
 from .checking.numeric_checks import first_order_form, not_run
 from .checking.own_check import self_check
 from .checking.response import Extreme, SearchLimit, supremum
 from .checking.results import _MODES, _REFINE, system_results, writer_for
-from .engine import check_options, complete, compile_numbers, refuse_failed, stages_for_values, \
-    withheld
-from .history_engine import _suffix
+from .engine import check_options, complete, compile_numbers, stages_for_values
+from .generic_segment import assembled, generic_problems, outcome, user_values
 from .model.checks import Check, Samples, Verification
 from .model.history import PeriodicDerivation
 from .model.steps import Line, Rule, Step
 from .model.symbols import S, T, TAU
-from .reading.forcing import Forcing, heaviside_pieces
+from .reading.forcing import heaviside_pieces
 from .reading.periodic import PeriodicLoad
-from .reading.read_problem import make_problem
 from .symbolic.transform import transform_groups
 
 __all__ = ["PERIODIC", "derive_periodic", "periodic_in"]
@@ -58,22 +56,6 @@ def periodic_in(params):
         raise ParameterError("two periodic loads; give one (add them over a common period)",
                              found[1][0])
     return found[0] if found else None
-
-
-def _problems(equation, ics, params, name, load, unknown, units, derived):
-    rest = {k: v for k, v in params.items() if str(k) != name}
-    given = make_problem(equation, ics, {**rest, name: Forcing(sp.Integer(0), "none")},
-                         unknown, units, derived)
-    state = [f"{u}{_suffix(k)}_k" for j, u in enumerate(given.unknowns)
-             for k in range(given.orders[j])]
-    generic_ics, m = {}, 0
-    for j, u in enumerate(given.unknowns):
-        for k in range(given.orders[j]):
-            generic_ics[f"{u}{chr(39) * k}(0)"] = state[m]
-            m += 1
-    generic = make_problem(equation, generic_ics, {**rest, name: load.one_period}, unknown,
-                           units, derived)
-    return given, generic, state
 
 
 def _state_at(tables, problem, columns: tuple, at: float) -> np.ndarray:
@@ -132,18 +114,12 @@ def derive_periodic(equation, ics, params, name: str, load: PeriodicLoad, *, unk
                     window=None, checks="all", derived=None, on_failure="raise",
                     definitions=None, criteria=None) -> PeriodicDerivation:
     """derive() when ``params[name]`` is a periodic load: see the module docstring."""
-    from .engine import parameter_values
     tolerances = check_options(checks, tolerances, on_failure, window, definitions)
     criteria = read_criteria(criteria)
-    given, problem, state = _problems(equation, ics, params, name, load, unknown, units,
-                                      derived)
-    own_syms = dataclasses.replace(problem, symbols=tuple(s for s in problem.symbols
-                                                          if s not in state))
-    user = parameter_values(own_syms, values)
-    missing = [s for s in own_syms.symbols if s not in user]
-    if missing:
-        raise ParameterError(f"a periodic load needs a number for every parameter; "
-                             f"{', '.join(missing)} has none (give it in params=)", missing[0])
+    given, problem, rows = generic_problems(equation, ics, params, name, load.one_period, "k",
+                                            unknown, units, derived)
+    state = [x for row in rows for x in row]
+    user = user_values(problem, values, state, "a periodic load")
     base = {**user, **{s: sp.Integer(0) for s in state}}
     stages = stages_for_values(problem, regime, base)
     model = compile_numbers(problem, stages, problem.symbols)
@@ -165,26 +141,13 @@ def derive_periodic(equation, ics, params, name: str, load: PeriodicLoad, *, unk
     verification = Verification(tuple(dataclasses.replace(c, name=f"One period: {c.name}")
                                       for c in period_d.verification.checks) + extra[0],
                                 extra[1])
-    if checks == "all":
-        refuse_failed(verification, problem.text, on_failure)
-    if checks == "engine":
-        results = MappingProxyType({})
-    elif verification.passed:
-        results = _periodic_results(problem, numbers, response, phi, z_ss, z0, period)
-    else:
-        results = withheld(verification)
-    acceptance = (judge(criteria, results) if verification.passed and checks == "all"
-                  else unjudged(criteria, "no results"))
+    results, acceptance = outcome(
+        verification, checks, on_failure, problem.text,
+        lambda: _periodic_results(problem, numbers, response, phi, z_ss, z0, period), criteria)
     steps = _steps(problem, stages, period_d, load, name, state, phi, q, z_ss, forms)
-    fields = {f.name: getattr(period_d, f.name) for f in dataclasses.fields(period_d)
-              if f.name not in ("steps", "verification", "results", "acceptance", "_cache",
-                                "assumptions")}
-    assumptions = tuple(a for a in period_d.assumptions
-                        if not a.startswith("symbolic parameters (")) + (
-        f"the state at the start of a period ({', '.join(state)}) is any real vector",)
-    out = PeriodicDerivation(**fields, steps=steps, verification=verification, results=results,
-                             acceptance=acceptance, assumptions=assumptions, periodic_load=load,
-                             load_name=name, period_map=(phi, q), steady_state=tuple(z_ss))
+    out = assembled(PeriodicDerivation, period_d, state, steps, verification, results,
+                    acceptance, periodic_load=load, load_name=name, period_map=(phi, q),
+                    steady_state=tuple(z_ss))
     out._cache["numpy"] = {n: (lambda t, n=n: response.values(n, t)) for n in problem.names}
     return out
 
