@@ -97,7 +97,13 @@ def spectrum_bundle(spec) -> dict:
         svg = ""
     status = ("the generic oscillator's derivation passed all its checks"
               if spec.derivation.verification.passed else "NOT VERIFIED")
+    from .html import to_html
+    generic = (f"<details><summary>The generic oscillator x'' + 2ζωx' + ω²x = "
+               f"{'−a' if spec.kind == 'support' else 'a'}(t) on one segment of the record, ω "
+               f"symbolic: its derivation and checks</summary>{to_html(spec.derivation)}"
+               "</details>")
     out["text/html"] = (f'<div class="derivpad dp-spectrum">{svg}<p>{_html.escape(status)}</p>'
-                        f"<pre>{_html.escape(text)}</pre><p>{_html.escape(CAUTION)}</p></div>")
+                        f"<pre>{_html.escape(text)}</pre>{generic}"
+                        f"<p>{_html.escape(CAUTION)}</p></div>")
     out[SPECTRUM_MIME_TYPE] = spectrum_to_dict(spec)
     return out
