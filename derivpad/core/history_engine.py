@@ -18,7 +18,7 @@ import dataclasses
 import numpy as np
 import sympy as sp
 
-from ..errors import ForcingError, ParameterError, UnitError
+from ..errors import ForcingError, ParameterError, SolveError, UnitError
 from .checking.acceptance import read_criteria
 from .checking.history_checks import (EnergyBalance, figure_grid, final_value_check,
                                      integration_check, mechanical_matrices, record_samples,
@@ -157,6 +157,11 @@ def record_march(problem, numbers, loads, load, given, record) -> RecordMarch:
     z0 = np.concatenate([np.array([float(v) for v in vals]) for vals in given.initial_values])
     kt, kf = record.knots()
     states = march(system, drive, constant, z0, kt, kf)
+    if not np.all(np.isfinite(states)):
+        bad = int(np.nonzero(~np.all(np.isfinite(states), axis=1))[0][0])
+        raise SolveError(f"the response to the record leaves floating point at t = "
+                         f"{kt[bad]:.6g} s (a growing response, or values too large); check the "
+                         "record's scale and the system's stability")
     C, D, E = output_rows(system, drive, constant, _picks(problem, offsets, load))
     outputs = {name: (C[r], float(D[r]), float(E[r])) for r, name in enumerate(problem.names)}
     return RecordMarch(system, drive, constant, kt, kf, states, outputs, record.final_level)

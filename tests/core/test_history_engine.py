@@ -171,3 +171,9 @@ def test_record_checks_catch_a_wrong_state():
     balance = EnergyBalance(mck, (np.array([1.0]), np.array([0.0])), np.array([0, 2]), bad)
     check, _, energy = integration_check(bad, ("x",), np.linspace(0, 0.06, 50), 1e-7, balance)
     assert not check.passed and not energy.passed
+
+
+def test_a_response_that_leaves_floating_point_is_an_error_not_a_number():
+    rec = forcing.history(np.linspace(0, 1000, 2001), np.ones(2001))
+    with pytest.raises(derivpad.SolveError, match="leaves floating point"):
+        derivpad.derive("x'' - x = F", REST, {"F": rec})

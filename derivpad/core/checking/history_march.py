@@ -136,10 +136,11 @@ def march(system, drive, constant, z0, times, values) -> np.ndarray:
     states = np.empty((len(t), len(z0)))
     states[0] = z0
     if live.size:
-        slopes = (f[live + 1] - f[live]) / h[live]
-        tr = transitions(system, drive, constant, h[live], f[live], slopes)
-        cp, cq = _compose(tr.phi, tr.q)
-        ends = np.einsum("nij,j->ni", cp, z0) + cq
+        with np.errstate(over="ignore", invalid="ignore"):  # the caller judges what overflows
+            slopes = (f[live + 1] - f[live]) / h[live]
+            tr = transitions(system, drive, constant, h[live], f[live], slopes)
+            cp, cq = _compose(tr.phi, tr.q)
+            ends = np.einsum("nij,j->ni", cp, z0) + cq
         # the state after each live segment holds through the zero-length jumps that follow
         after = np.zeros(len(t), dtype=int)
         after[live + 1] = np.arange(1, live.size + 1)

@@ -20,11 +20,14 @@ from ...errors import LoadHistoryError, UnitError
 from ..model.history import LoadHistory
 from .units import read_quantity
 
-__all__ = ["MAX_HISTORY_POINTS", "history", "read_history"]
+__all__ = ["MAX_FILE_BYTES", "MAX_HISTORY_POINTS", "history", "read_history"]
 
 MAX_HISTORY_POINTS = 20_000_000
 """Points a record may have: the march keeps a few numbers per point (about 0.5 GB at this
 size for a two-state system)."""
+
+MAX_FILE_BYTES = 2 * 1024 ** 3
+"""The largest record file read (checked before it is read)."""
 
 _HEADER = re.compile(r"^\s*([^\[\(]*?)\s*(?:[\[\(]\s*([^\]\)]*?)\s*[\]\)])?\s*$")
 
@@ -77,6 +80,14 @@ def read_history(path, *, time=None, value=None, time_unit=None, unit=None,
     the columns by name (default: the first two); ``time_unit=``/``unit=`` give the units
     when the header does not. Errors name the file's line."""
     path = os.fspath(path)
+    try:
+        size = os.path.getsize(path)
+    except OSError:
+        size = 0
+    if size > MAX_FILE_BYTES:
+        raise LoadHistoryError(f"{path} is {size / 2**30:.1f} GiB, more than a record of "
+                               f"{MAX_HISTORY_POINTS:,} points takes; split the record into "
+                               "parts")
     try:
         with open(path, encoding="utf-8-sig") as fh:
             header = fh.readline()
