@@ -61,6 +61,16 @@ HOSTILE = [
      'ics={"y(0)": 0})'),
     ("a tolerance that is no number",
      f'derive("{EQ}u(t)", ics={REST}, tolerances={{"integration": "x"}})'),
+    ("a record of strings", f'derive("y\'\' + y = F", ics={REST}, params={{"F": '
+     'forcing.history(["a", "b"], [1, 2])})'),
+    ("a record as a nested array", f'derive("y\'\' + y = F", ics={REST}, params={{"F": '
+     'forcing.history([[0, 1], [2, 3]], [[1, 2], [3, 4]])})'),
+    ("a record of 30 million points", 'forcing.history(range(30_000_000), range(30_000_000))'),
+    ("a record with an infinite value", 'forcing.history([0, 1], [0, float("inf")])'),
+    ("a record of one point", 'forcing.history([0], [1])'),
+    ("a periodic load of period 0", 'forcing.periodic(forcing.pulse(1, 0, 0.1), 0)'),
+    ("a spectrum of a million periods", 'derivpad.response_spectrum(forcing.history([0, 1], '
+     '[1, 1]), [0.1] * 1_000_000)'),
     ("a hundred parameter names",
      f'derive("y\'\' + " + " + ".join(f"a{{i}}" for i in range(100)) + "*y = 1", ics={REST})'),
 ]
@@ -68,6 +78,7 @@ HOSTILE = [
 _CHILD_HEAD = textwrap.dedent("""
     import json, resource, time
     resource.setrlimit(resource.RLIMIT_AS, (2 << 30, 2 << 30))
+    import derivpad
     from derivpad import DerivpadError, derive, forcing
 """)
 _CHILD_RUN = textwrap.dedent("""
