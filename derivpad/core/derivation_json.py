@@ -41,7 +41,7 @@ def derivation_from_dict(data: dict) -> Derivation:
         raise ParseError(msg)
     problem = _problem(data["problem"], data.get("units"))
     tree = {u: from_tree(t) for u, t in _trees(data, "transforms").items()}
-    return Derivation(
+    derivation = Derivation(
         problem=problem,
         steps=tuple(_step(s) for s in data["steps"]),
         transforms=tree,
@@ -66,6 +66,9 @@ def derivation_from_dict(data: dict) -> Derivation:
                      for name, v in data["values_for_checks"].items()),
         derived={name: from_tree(e["tree"]) for name, e in data["derived"].items()},
         determinant=from_tree(data["determinant"]["tree"]))
+    if isinstance(data.get("load"), dict):  # a record's or a periodic load's summary, kept
+        derivation._cache["load_json"] = dict(data["load"])
+    return derivation
 
 
 def _samples(data):

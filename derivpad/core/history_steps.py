@@ -24,12 +24,18 @@ RECURRENCE = Rule(
 _SHOWN = 3
 
 
+def _number(x) -> sp.Expr:
+    """A shown number: 6 significant digits, an exact 0 for zero (a float zero does not read
+    back from the JSON form as itself)."""
+    x = float(x)
+    return sp.Integer(0) if x == 0.0 else sp.Float(x, 6)
+
+
 def _record_step(record, name: str) -> Step:
     f = sp.Function(name)
     idx = list(range(min(_SHOWN, len(record))))
     idx += [i for i in range(max(len(record) - 2, 0), len(record)) if i not in idx]
-    lines = tuple(Line(f(sp.Float(float(record.times[i]), 6)),
-                       sp.Float(float(record.values[i]), 6)) for i in idx)
+    lines = tuple(Line(f(_number(record.times[i])), _number(record.values[i])) for i in idx)
     return Step("The load record", None, lines,
                 note=f"{name}(t) is the {record.description}; on each segment [t_i, t_(i+1)] it "
                      f"is {name}_i + {name}dot_i·τ with τ = t − t_i.")
@@ -82,8 +88,8 @@ def _knots_step(problem, rm) -> Step:
     for i in idx:
         for u in problem.unknowns:
             w = writer_for(problem, u)
-            t = sp.Float(float(w.to_t(float(rm.knot_times[i]))), 6)
-            value = sp.Float(float(w.to_y(float(rm.node_values(u)[i]))), 6)
+            t = _number(w.to_t(float(rm.knot_times[i])))
+            value = _number(w.to_y(float(rm.node_values(u)[i])))
             lines.append(Line(sp.Function(u)(t), value,
                               label=f"{w.y_unit} at t in {w.t_unit}" if w.y_unit else ""))
     return Step("The response at the knots", RECURRENCE, tuple(lines),

@@ -332,8 +332,9 @@ def _period_transform(load: PeriodicLoad):
                     for g in groups])
 
 
-def _f(x) -> sp.Float:
-    return sp.Float(float(x), 6)
+def _f(x) -> sp.Expr:
+    x = float(x)
+    return sp.Integer(0) if x == 0.0 else sp.Float(x, 6)
 
 
 def _steps(problem, stages, period_d, load, name, state, phi, q, z_ss, forms):

@@ -95,7 +95,8 @@ def _load_entries(d) -> dict:
     SHA-256, so a re-run proves it read the same record) and the figure's samples, which the
     generic closed form alone cannot give again."""
     record, repeating = getattr(d, "record", None), getattr(d, "periodic_load", None)
-    if record is None and repeating is None:
+    kept = d._cache.get("load_json")  # read back from JSON: the summary as it was written
+    if record is None and repeating is None and kept is None:
         return {}
     samples = d.verification.samples
     out = {}
@@ -107,7 +108,9 @@ def _load_entries(d) -> dict:
                           "closed_form": listed(samples.closed_form),
                           "integrated": listed(samples.integrated),
                           "forcing": listed(samples.forcing)}
-    if record is not None:
+    if kept is not None:
+        out["load"] = dict(kept)
+    elif record is not None:
         out["load"] = {"kind": "record", "name": d.load_name, "description": record.description,
                        "points": len(record), "unit": record.unit, "source": record.source,
                        "hold_last": record.hold_last, "sha256": record.sha256}
