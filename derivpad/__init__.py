@@ -18,7 +18,7 @@ from .errors import (DerivpadError, EquationError, ExportError, ForcingError, In
                      LoadHistoryError,
                      ManifestMismatchError, MissingExtraError, NonlinearTermError,
                      PackageRefusedError, ParameterError, ParseError,
-                     RenderSettingError, SolveError, UnitError, UnknownNameError,
+                     RenderSettingError, SignatureError, SolveError, UnitError, UnknownNameError,
                      UnsafeInputError, VariableCoefficientError, VerificationFailedError,
                      WorkerError)
 
@@ -28,7 +28,7 @@ __all__ = sorted([
     "CalcRecord", "CaseResults", "Check", "Derivation", "DerivpadError", "EquationError", "ExportError", "ForcingError",
     "InitialConditionError", "Line", "LoadHistoryError", "ManifestMismatchError", "MissingExtraError", "NonlinearTermError",
     "PackageRefusedError", "ParameterError", "ParseError", "Problem", "RULES", "RenderSettingError", "ResponseSpectrum", "Result", "Rule",
-    "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
+    "SignatureError", "SolveError", "Step", "UnitError", "UnknownNameError", "UnsafeInputError",
     "VariableCoefficientError", "Verification", "VerificationFailedError", "WorkerError", "case_grid", "case_sample", "derive", "derive_state_space", "explore",
     "forcing", "load_cases", "load_ipython_extension", "response_spectrum",
 ])

@@ -38,7 +38,8 @@ def _parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"derivpad {__version__}",
                         help="print the version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    for add in (_demo_command, _solve_command, _cases_command, _package_commands):
+    for add in (_demo_command, _solve_command, _cases_command, _package_commands,
+                _signing_commands):
         add(sub)
     return parser
 
@@ -168,6 +169,54 @@ def _package_commands(sub) -> None:
                        help="re-execute the notebook and compare its results with the package's")
     audit.add_argument("--notebook", help="with --rerun: run this notebook instead of the "
                                           "packaged one (a working copy)")
+    audit.add_argument("--trust", metavar="KEYS",
+                       help="verify the signatures against these public keys (a folder of .pub "
+                            "files, or one); see docs/signing.md")
+    audit.add_argument("--require", default="", metavar="ROLES",
+                       help="roles that must have a valid trusted signature, e.g. "
+                            "preparer,checker")
+
+
+def _signing_commands(sub) -> None:
+    """``derivpad keygen`` and ``derivpad sign``: keys and signed sign-off (docs/signing.md)."""
+    keygen = sub.add_parser("keygen", help="make an Ed25519 key pair for signing calc packages")
+    keygen.add_argument("--name", required=True, help="the key holder's name")
+    keygen.add_argument("--role", action="append", required=True, choices=("preparer",
+                        "checker", "approver"), help="a role the key may sign (repeat)")
+    keygen.add_argument("--out", required=True, metavar="PATH",
+                        help="the private key's path (the public key goes to PATH.pub)")
+    keygen.add_argument("--passphrase-file", metavar="FILE",
+                        help="protect the private key with the passphrase in FILE")
+    sign = sub.add_parser("sign", help="add a signature to a calc package")
+    sign.add_argument("package", help="the package folder or its .zip")
+    sign.add_argument("--key", required=True, metavar="PATH", help="the private key")
+    sign.add_argument("--role", required=True, choices=("preparer", "checker", "approver"),
+                      help="the role this signature is given in (the key must allow it)")
+    sign.add_argument("--comment", default="", help="a remark kept in the signed statement")
+    sign.add_argument("--passphrase-file", metavar="FILE",
+                      help="the passphrase of the private key, read from FILE")
+
+
+def _passphrase(path) -> str | None:
+    if not path:
+        return None
+    from pathlib import Path
+    try:
+        return Path(path).read_text(encoding="utf-8").rstrip("\n")
+    except OSError as exc:
+        raise ParameterError(f"the passphrase file {path} cannot be read ({exc})",
+                             "passphrase_file") from exc
+
+
+def _signing(args) -> str:
+    from .export.signing import generate_keys, sign_package
+    if args.command == "keygen":
+        private, public = generate_keys(args.out, args.name, args.role,
+                                        _passphrase(args.passphrase_file))
+        return f"private key: {private} (keep it; mode 0600)\npublic key: {public} (share it)"
+    path = sign_package(args.package, args.key, args.role, comment=args.comment,
+                        passphrase=_passphrase(args.passphrase_file))
+    return f"signed as {args.role}: {path}"
 
 
 def _problem_options(command, param_help: str) -> None:
@@ -186,7 +235,9 @@ def _problem_options(command, param_help: str) -> None:
 
 def _audit(args) -> tuple[str, int]:
     from .export.audit import audit_package
-    result = audit_package(args.package, rerun=args.rerun, notebook=args.notebook)
+    require = tuple(r.strip() for r in args.require.split(",") if r.strip())
+    result = audit_package(args.package, rerun=args.rerun, notebook=args.notebook,
+                           trust=args.trust, require=require)
     return f"Audit of {args.package}\n\n" + result.table(), 0 if result.holds else 1
 
 
@@ -360,6 +411,9 @@ def _main(argv=None) -> int:
             text, code = _audit(args)
             print(text)
             return code
+        if args.command in ("keygen", "sign"):
+            print(_signing(args))
+            return 0
         if args.command == "cases":
             return _cases(args)
         if args.command == "demo":

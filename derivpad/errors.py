@@ -18,7 +18,8 @@ messages. Messages say what is wrong, where, and how to fix it.
     ├── UnitError (ValueError)         unknown unit text, incompatible units, inhomogeneous terms
     ├── ExportError (OSError)          a file cannot be written as asked (format, place)
     │   ├── PackageRefusedError        a notebook that cannot be packaged (cell error, unverified)
-    │   └── ManifestMismatchError      a package's files do not match its MANIFEST.sha256
+    │   ├── ManifestMismatchError      a package's files do not match its MANIFEST.sha256
+    │   └── SignatureError             a key, a signature or a trust list that cannot be used
     ├── MissingExtraError (ImportError)   an optional dependency (figures: matplotlib) is missing
     ├── RenderSettingError (ValueError)   a renderer setting that does not exist or is out of range
     ├── SolveError (ArithmeticError)   Y(s) or its poles cannot be found in the form asked for
@@ -42,6 +43,7 @@ __all__ = [
     "PackageRefusedError",
     "ParseError",
     "RenderSettingError",
+    "SignatureError",
     "SolveError",
     "UnitError",
     "UnknownNameError",
@@ -203,6 +205,15 @@ class ManifestMismatchError(ExportError):
         self.missing = tuple(missing)
         self.extra = tuple(extra)
         self.altered = tuple(altered)
+        super().__init__(message)
+
+
+class SignatureError(ExportError):
+    """A key, a signature or a trust list that cannot be used as given (a wrong passphrase, a
+    role the key may not sign, a file that is not a derivpad key); ``what`` names the part."""
+
+    def __init__(self, message: str, what: str = ""):
+        self.what = what
         super().__init__(message)
 
 

@@ -31,12 +31,14 @@ class PackageAudit:
     status_rows: tuple = ()
     rerun_rows: tuple = ()
     environment_rows: tuple = ()
+    signature_rows: tuple = ()
     holds: bool = False
     notes: tuple = field(default=())
 
     def table(self) -> str:
         rows = ([("manifest", f, s) for f, s in self.manifest_rows]
                 + [("record", k, v) for k, v in self.status_rows]
+                + [("signature", k, v) for k, v in self.signature_rows]
                 + [("re-run", k, v) for k, v in self.rerun_rows]
                 + [("environment", k, v) for k, v in self.environment_rows])
         w1 = max(len(r[0]) for r in rows)
@@ -165,13 +167,45 @@ def _environment_rows(old: dict, new: dict) -> list[tuple[str, str]]:
     return rows
 
 
+def signature_rows(package, trust=None, require=()) -> tuple[tuple, bool]:
+    """(rows, holds) for the package's signatures: each signature's signer, role, time and
+    outcome against the trusted keys, problems with the signatures' own list, and each
+    required role; without ``trust`` the signatures are listed unchecked."""
+    from ..errors import SignatureError
+    from .signing import ROLES, verify_signatures
+    bad_roles = [r for r in require if r not in ROLES]
+    if bad_roles:
+        raise SignatureError(f"--require names {bad_roles[0]!r}; the roles are "
+                             f"{', '.join(ROLES)}", what="require")
+    findings, problems = verify_signatures(package, trust)
+    rows = []
+    for f in findings:
+        outcome = f.outcome if trust is not None else "not checked (give --trust KEYS)"
+        rows.append((f.file, f"{f.signer}, {f.role}, {f.signed_at}, key {f.fingerprint[:16]}: "
+                             f"{outcome}"))
+    rows += [(p.split(":")[0], p.split(":", 1)[1].strip()) for p in problems]
+    holds = not problems and (trust is None or all(f.valid for f in findings))
+    for role in require:
+        have = [f for f in findings if f.role == role and f.valid and trust is not None]
+        rows.append((f"required: {role}", "signed (valid, trusted)" if have else
+                     "MISSING: no valid signature by a trusted key in this role"))
+        holds &= bool(have)
+    if not rows and trust is not None:
+        rows.append(("signatures", "none"))
+    return tuple(rows), holds
+
+
 def audit_package(package, *, rerun: bool = False, notebook=None,
-                  tolerance: float = RERUN_TOLERANCE) -> PackageAudit:
-    """Check the manifest, show the record's status, and (``rerun``) reproduce the results."""
+                  tolerance: float = RERUN_TOLERANCE, trust=None,
+                  require=()) -> PackageAudit:
+    """Check the manifest, the signatures (against ``trust``; each role in ``require`` must
+    have a valid trusted one), show the record's status, and (``rerun``) reproduce the
+    results. A record whose package fails its manifest never shows its status as holding."""
     from .package import cases_records, environment_info, results_records  # as the package
     package = Path(package)
     manifest = audit_manifest(package)
     rows = tuple(manifest.rows())
+    sig_rows, signed = signature_rows(package, trust, tuple(require))
     with tempfile.TemporaryDirectory() as tmp:
         folder = _unpacked(package, Path(tmp))
         record = json.loads((folder / "record.json").read_text()) \
@@ -189,11 +223,13 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
                   ("title", record.get("title", "?")),
                   ("prepared by", record.get("preparer", "") or "—"),
                   ("checked by", record.get("checker", "") or "—"),
-                  ("verified", "yes" if verified else "NO"))
+                  ("verified", ("yes" if verified else "NO") if manifest.intact else
+                   "CANNOT BE RELIED ON: the package does not match its manifest"))
         if not rerun:
-            return PackageAudit(rows, status, holds=manifest.intact and verified)
+            return PackageAudit(rows, status, signature_rows=sig_rows,
+                                holds=manifest.intact and verified and signed)
         if not manifest.intact:
-            return PackageAudit(rows, status, holds=False, notes=(
+            return PackageAudit(rows, status, signature_rows=sig_rows, holds=False, notes=(
                 "re-run refused: the package does not match its manifest, so its notebook is "
                 "not executed",))
         if notebook is None:
@@ -209,5 +245,6 @@ def audit_package(package, *, rerun: bool = False, notebook=None,
         errors = tuple((f"code cell {f.cell}", f.what) for f in calc.failures)
         rerun_rows = errors + moved or (("results", f"reproduced within {tolerance:g} "
                                                     "(relative)"),)
-        return PackageAudit(rows, status, rerun_rows, env_rows,
-                            holds=manifest.intact and verified and not moved and not errors)
+        return PackageAudit(rows, status, rerun_rows, env_rows, sig_rows,
+                            holds=manifest.intact and verified and signed and not moved
+                            and not errors)

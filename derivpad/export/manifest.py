@@ -18,6 +18,7 @@ __all__ = ["MANIFEST_NAME", "ManifestAudit", "write_manifest", "audit_manifest",
            "package_files"]
 
 MANIFEST_NAME = "MANIFEST.sha256"
+SIGNATURES_DIR = "signatures"
 
 
 @dataclass(frozen=True, slots=True)
@@ -106,6 +107,9 @@ def audit_manifest(package) -> ManifestAudit:
             raise ManifestMismatchError(f"{MANIFEST_NAME} line {number} is not '<sha256>  <path>'")
         listed[name] = digest
     missing = tuple(sorted(n for n in listed if n not in files))
-    extra = tuple(sorted(n for n in files if n not in listed))
+    # signatures/ is the signatures' own area, with its own list (export/signing.py): signing
+    # adds files there without touching any file the manifest covers
+    extra = tuple(sorted(n for n in files if n not in listed
+                         and not n.startswith(SIGNATURES_DIR + "/")))
     altered = tuple(sorted(n for n in listed if n in files and _digest(files[n]) != listed[n]))
     return ManifestAudit(len(listed), missing, extra, altered)
