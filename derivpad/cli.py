@@ -39,7 +39,7 @@ def _parser() -> argparse.ArgumentParser:
                         help="print the version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for add in (_demo_command, _solve_command, _cases_command, _package_commands,
-                _signing_commands):
+                _signing_commands, _compare_command):
         add(sub)
     return parser
 
@@ -175,6 +175,15 @@ def _package_commands(sub) -> None:
     audit.add_argument("--require", default="", metavar="ROLES",
                        help="roles that must have a valid trusted signature, e.g. "
                             "preparer,checker")
+
+
+def _compare_command(sub) -> None:
+    """``derivpad compare OLD NEW``: what changed between two revisions of a calc package."""
+    compare = sub.add_parser("compare", help="list what changed between two package revisions")
+    compare.add_argument("old", help="the earlier package (folder or .zip)")
+    compare.add_argument("new", help="the later package (folder or .zip)")
+    compare.add_argument("--format", choices=("table", "json"), default="table",
+                         help="a table for the revision record (default), or JSON")
 
 
 def _signing_commands(sub) -> None:
@@ -413,6 +422,13 @@ def _main(argv=None) -> int:
             return code
         if args.command in ("keygen", "sign"):
             print(_signing(args))
+            return 0
+        if args.command == "compare":
+            from .export.compare import compare_packages, comparison_table
+            rows = compare_packages(args.old, args.new)
+            print(json.dumps([dict(zip(("part", "item", "change"), r)) for r in rows],
+                             indent=2, ensure_ascii=False) if args.format == "json"
+                  else comparison_table(rows))
             return 0
         if args.command == "cases":
             return _cases(args)
