@@ -8,6 +8,7 @@ so run this after any change that alters what the notebooks show.
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import nbformat as nbf
@@ -242,6 +243,9 @@ NOTEBOOKS = {
 
 
 def main() -> None:
+    # one BLAS thread in every kernel, as the test session runs them (see conftest.py)
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ[var] = "1"
     for name, cells in NOTEBOOKS.items():
         nb = nbf.v4.new_notebook()
         nb.cells = cells
