@@ -39,7 +39,7 @@ def _parser() -> argparse.ArgumentParser:
                         help="print the version and exit")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for add in (_demo_command, _solve_command, _cases_command, _package_commands,
-                _signing_commands, _compare_command):
+                _signing_commands, _compare_command, _report_command):
         add(sub)
     return parser
 
@@ -175,6 +175,20 @@ def _package_commands(sub) -> None:
     audit.add_argument("--require", default="", metavar="ROLES",
                        help="roles that must have a valid trusted signature, e.g. "
                             "preparer,checker")
+
+
+def _report_command(sub) -> None:
+    """``derivpad report PACKAGE``: the report again, its sign-off block filled."""
+    report = sub.add_parser("report", help="render a signed package's report with its "
+                                           "signatures, beside the package")
+    report.add_argument("package", help="the package folder or its .zip")
+    report.add_argument("--trust", metavar="KEYS",
+                        help="verify the signatures against these public keys first")
+    report.add_argument("-o", "--output", default=None,
+                        help="folder to write the report in (default: beside the package)")
+    report.add_argument("--no-pdf", action="store_true", help="skip the PDF")
+    report.add_argument("--page", choices=("A4", "Letter"), default="A4",
+                        help="paper of the printed report (default: A4)")
 
 
 def _compare_command(sub) -> None:
@@ -422,6 +436,12 @@ def _main(argv=None) -> int:
             return code
         if args.command in ("keygen", "sign"):
             print(_signing(args))
+            return 0
+        if args.command == "report":
+            from .export.signed_report import signed_report
+            path, note = signed_report(args.package, args.output, trust=args.trust,
+                                       pdf=not args.no_pdf, page_size=args.page)
+            print(f"report written: {path}" + (f" ({note})" if note else ""))
             return 0
         if args.command == "compare":
             from .export.compare import compare_packages, comparison_table

@@ -21,7 +21,8 @@ from ..render.mimebundle import DERIVATION_MIME_TYPE
 from ..render.record import RECORD_MIME_TYPE
 from ..render.spectrum import SPECTRUM_MIME_TYPE
 
-__all__ = ["ExecutedCalc", "CellFailure", "execute_notebook", "PackageRefusedError"]
+__all__ = ["ExecutedCalc", "CellFailure", "execute_notebook", "read_calc",
+           "PackageRefusedError"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -76,12 +77,20 @@ def execute_notebook(path, progress=None, timeout: int = 600) -> ExecutedCalc:
             for out in cell.outputs:
                 if out.output_type == "error":
                     failures.append(CellFailure(n, f"{out.ename}: {out.evalue}"))
+    return read_calc(nb, failures)
+
+
+def read_calc(nb, failures=()) -> ExecutedCalc:
+    """The calc a notebook's stored outputs show (record, derivations, load cases, spectra),
+    without running it: what the package holds, and what a re-rendered report shows."""
+    failures = list(failures)
+    code_cells = [c for c in nb.cells if c.cell_type == "code"]
     record, record_cell, derivations, html, cells = None, 0, [], [], []
     cases, cases_html, spectra, spectra_html = [], [], [], []
     for n, cell in enumerate(code_cells, 1):
         for out in cell.outputs:
-            data = out.get("data", {}) if out.output_type in ("display_data", "execute_result") \
-                else {}
+            data = out.get("data", {}) if out.get("output_type") in ("display_data",
+                                                                  "execute_result") else {}
             if RECORD_MIME_TYPE in data and record is None:
                 record, record_cell = dict(data[RECORD_MIME_TYPE]), n
             if CASES_MIME_TYPE in data:

@@ -139,7 +139,7 @@ def _num(x) -> str:
 
 def report_html(record: dict, derivations, fragments, *, verified: bool, created: str,
                 page_size: str = "A4", cases=(), cases_fragments=(), cases_figures=(),
-                spectra_fragments=()) -> str:
+                spectra_fragments=(), signatures=()) -> str:
     """The report page: the first sheet (title block, purpose, inputs, key results against the
     acceptance criteria, status), contents, the rest of the record, the derivations with every
     step open, each load-case run with its figure (``cases_figures``: inline SVG), then
@@ -151,10 +151,15 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
              f'<th>Revision</th><td>{_e(record["revision"])}</td></tr>'
              f'<tr><th>Project</th><td colspan="3">{_e(record.get("project", ""))}</td></tr>'
              f'<tr><th>Prepared by</th><td>{_e(record.get("preparer", ""))}</td>'
-             f'<th>Signature / date</th><td class="dp-sign">&nbsp;</td></tr>'
+             f'<th>Signature / date</th><td class="dp-sign">{_signed(signatures, "preparer")}'
+             "</td></tr>"
              f'<tr><th>Checked by</th><td>{_e(record.get("checker", ""))}</td>'
-             f'<th>Signature / date</th><td class="dp-sign">&nbsp;</td></tr>'
-             f'<tr><th>Status</th><td colspan="3" class="{"dp-status-ok" if verified else "dp-status-bad"}">'
+             f'<th>Signature / date</th><td class="dp-sign">{_signed(signatures, "checker")}'
+             "</td></tr>"
+             + (f'<tr><th>Approved by</th><td></td><th>Signature / date</th>'
+                f'<td class="dp-sign">{_signed(signatures, "approver")}</td></tr>'
+                if any(g["role"] == "approver" for g in signatures) else "")
+             + f'<tr><th>Status</th><td colspan="3" class="{"dp-status-ok" if verified else "dp-status-bad"}">'
              f"{_e(status)}</td></tr>"
              f'<tr><th>Packaged</th><td colspan="3">{_e(created)}</td></tr></table></div>')
     calc = _record_object(record)
@@ -211,6 +216,15 @@ def report_html(record: dict, derivations, fragments, *, verified: bool, created
                            f"{_OPEN_ALL}" + "\n".join(body),
                            f"{record['calc_number']} rev {record['revision']}: {record['title']}")
     return page
+
+
+def _signed(signatures, role: str) -> str:
+    """The signature cell of a role: each signer, date, key fingerprint and outcome."""
+    rows = [g for g in signatures if g["role"] == role]
+    if not rows:
+        return "&nbsp;"
+    return "<br>".join(f'{_e(g["signer"])}, {_e(g["signed_at"][:10])}, key '
+                       f'{_e(g["fingerprint"][:16])}: {_e(g["outcome"])}' for g in rows)
 
 
 def _record_object(record: dict):

@@ -136,3 +136,24 @@ def test_truncated_key_and_wrong_passphrase(tmp_path):
     path.write_bytes(path.read_bytes()[:40])
     with pytest.raises(SignatureError, match="damaged or truncated"):
         sign_package(pkg, path, "approver", passphrase="correct horse")
+
+
+def test_report_of_a_signed_package_fills_the_sign_off_and_touches_nothing(tmp_path, keys):
+    # a real package (the relay example), signed by the preparer and the checker; the report
+    # is rendered beside it with both signatures, and the package still audits as it was
+    from derivpad.cli import main
+    from derivpad.export.package import make_package
+    root = Path(__file__).resolve().parents[2]
+    pkg = make_package(root / "example_notebooks" / "relay_coil_current.ipynb", tmp_path / "out",
+                       pdf=False, progress=None).folder
+    sign_package(pkg, keys["ann"], "preparer")
+    sign_package(pkg, keys["carl"], "checker")
+    before = {p: p.read_bytes() for p in pkg.rglob("*") if p.is_file()}
+    assert main(["report", str(pkg), "--trust", str(keys["trust"]), "--no-pdf"]) == 0
+    html = (pkg.parent / f"{pkg.name}-signed-report.html").read_text()
+    for who, role in (("Ann Preparer", "preparer"), ("Carl Checker", "checker")):
+        fp = json.loads(Path(str(keys[who.split()[0].lower()]) + ".pub").read_text())
+        assert f"{who}, " in html and fp["fingerprint"][:16] in html
+    assert html.count(": valid") == 2
+    assert {p: p.read_bytes() for p in pkg.rglob("*") if p.is_file()} == before
+    assert audit_package(pkg, trust=keys["trust"], require=("preparer", "checker")).holds
