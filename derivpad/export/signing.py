@@ -155,22 +155,41 @@ def _record_of(files: dict) -> dict:
 
 
 def _statement(files, role, signer: Signer, comment, when) -> dict:
+    """The statement a signature signs: every file of the manifest as a subject (the manifest
+    itself first), and a predicate with the calc's identity, the sign-off, the inputs, the
+    environment, each derivation's verification and each criterion's outcome."""
     record = _record_of(files)
-    results = files.get("results.json", b"")
-    verified = None
-    try:
-        verified = all(d.get("verified", False) for d in json.loads(results.decode("utf-8")))
-    except (ValueError, AttributeError, TypeError):
-        verified = None
-    return {"_type": STATEMENT_TYPE,
-            "subject": [{"name": MANIFEST_NAME,
-                         "digest": {"sha256": hashlib.sha256(files[MANIFEST_NAME]).hexdigest()}}],
-            "predicateType": PREDICATE_TYPE,
-            "predicate": {"calc_number": record.get("calc_number"),
+
+    def loaded(name, default):
+        try:
+            return json.loads(files[name].decode("utf-8"))
+        except (KeyError, ValueError):
+            return default
+    results = loaded("results.json", [])
+    environment = loaded("environment.json", {})
+    subjects = [{"name": MANIFEST_NAME,
+                 "digest": {"sha256": hashlib.sha256(files[MANIFEST_NAME]).hexdigest()}}]
+    for line in files[MANIFEST_NAME].decode("utf-8").splitlines():
+        digest, _, name = line.partition("  ")
+        subjects.append({"name": name, "digest": {"sha256": digest}})
+    verification = [{"id": r.get("id"), "equation": r.get("equation"),
+                     "passed": bool(r.get("verification", {}).get("passed"))} for r in results]
+    return {"_type": STATEMENT_TYPE, "subject": subjects, "predicateType": PREDICATE_TYPE,
+            "predicate": {"format_version": 1,
+                          "calc_number": record.get("calc_number"),
                           "revision": record.get("revision"), "title": record.get("title"),
                           "role": role, "signer": signer.name,
                           "key_fingerprint": signer.fingerprint, "signed_at": when,
-                          "comment": comment or "", "record_verified": verified}}
+                          "comment": comment or "",
+                          "record_verified": bool(verification) and all(
+                              v["passed"] for v in verification),
+                          "inputs": loaded("inputs.json", {}).get("record", []),
+                          "environment": {k: environment.get(k) for k in
+                                          ("python", "platform", "packages")},
+                          "verification": verification,
+                          "acceptance": [{"id": r.get("id"), "criterion": a.get("text"),
+                                          "outcome": a.get("outcome")}
+                                         for r in results for a in r.get("acceptance", [])]}}
 
 
 def sign_package(package, key, role: str, *, comment: str = "", passphrase=None,

@@ -155,5 +155,12 @@ def test_report_of_a_signed_package_fills_the_sign_off_and_touches_nothing(tmp_p
         fp = json.loads(Path(str(keys[who.split()[0].lower()]) + ".pub").read_text())
         assert f"{who}, " in html and fp["fingerprint"][:16] in html
     assert html.count(": valid") == 2
+    (first,) = [p for p in (pkg / "signatures").glob("001-*.json")]
+    statement = json.loads(first.read_text())["statement"]
+    names = [sub["name"] for sub in statement["subject"]]
+    assert names[0] == "MANIFEST.sha256" and "report.html" in names and "results.json" in names
+    pred = statement["predicate"]
+    assert pred["calc_number"] == "DEMO-002" and pred["role"] == "preparer"
+    assert pred["verification"] and all(v["passed"] for v in pred["verification"])
     assert {p: p.read_bytes() for p in pkg.rglob("*") if p.is_file()} == before
     assert audit_package(pkg, trust=keys["trust"], require=("preparer", "checker")).holds
