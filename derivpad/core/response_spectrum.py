@@ -57,6 +57,11 @@ class ResponseSpectrum:
         return ("m", "m/s", "m/s²") if self.record.unit == "m/s²" else ("", "", "")
 
     @property
+    def frequencies(self) -> np.ndarray:
+        """The natural frequencies 1/T (Hz)."""
+        return 1.0 / self.periods
+
+    @property
     def points(self) -> int:
         """The record's number of points."""
         return len(self.record)
@@ -70,7 +75,7 @@ class ResponseSpectrum:
         from ..errors import import_extra
         (pd,) = import_extra(("pandas",), "the spectrum table")
         return pd.DataFrame({"period [s]": self.periods,
-                             "frequency [Hz]": 1.0 / self.periods,
+                             "frequency [Hz]": self.frequencies,
                              "SD": self.displacement, "PSV": self.pseudo_velocity,
                              "PSA": self.pseudo_acceleration, "load factor": self.load_factor,
                              "time of peak [s]": self.peak_times})

@@ -13,7 +13,8 @@ __all__ = ["SPECTRUM_MIME_TYPE", "SpectrumData", "spectrum_bundle", "spectrum_fi
 SPECTRUM_MIME_TYPE = "application/vnd.derivpad.spectrum+json"
 """Our own type for a response spectrum in a notebook's outputs (read by the packager)."""
 
-_COLUMNS = (("periods", "period_s"), ("displacement", "SD"), ("pseudo_velocity", "PSV"),
+_COLUMNS = (("periods", "period_s"), ("frequencies", "frequency_hz"), ("displacement", "SD"),
+            ("pseudo_velocity", "PSV"),
             ("pseudo_acceleration", "PSA"), ("load_factor", "load_factor"),
             ("peak_times", "time_of_peak_s"))
 
@@ -80,7 +81,7 @@ def spectrum_text(spec, width: int = 80) -> str:
                                   zip(_ROWS, units)] + ["load factor", "t_peak [s]"]
     lines = [head, "  ".join(f"{c:>12}" for c in cols)]
     for i, t in enumerate(spec.periods):
-        row = [t, 1 / t, spec.displacement[i], spec.pseudo_velocity[i],
+        row = [t, spec.frequencies[i], spec.displacement[i], spec.pseudo_velocity[i],
                spec.pseudo_acceleration[i], spec.load_factor[i], spec.peak_times[i]]
         lines.append("  ".join(f"{x:12.6g}" for x in row))
     return "\n".join(lines)
