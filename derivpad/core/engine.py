@@ -100,25 +100,30 @@ def derive(equation, ics=None, params=None, *, unknown: str | None = None, units
     >>> d.solution
     sin(3*t)/3
     """
-    from .history_engine import derive_history, record_in  # a load record takes its own route
-    found = record_in(params)
-    if found is not None:
-        return derive_history(equation, ics, params, *found, unknown=unknown, units=units,
-                              values=values, regime=regime, tolerances=tolerances,
-                              window=window, checks=checks, derived=derived,
-                              on_failure=on_failure, definitions=definitions, criteria=criteria)
-    from .periodic_engine import derive_periodic, periodic_in
-    repeating = periodic_in(params)
-    if repeating is not None:
-        return derive_periodic(equation, ics, params, *repeating, unknown=unknown, units=units,
-                               values=values, regime=regime, tolerances=tolerances,
-                               window=window, checks=checks, derived=derived,
-                               on_failure=on_failure, definitions=definitions,
-                               criteria=criteria)
+    routed = _by_load(equation, ics, params, dict(
+        unknown=unknown, units=units, values=values, regime=regime, tolerances=tolerances,
+        window=window, checks=checks, derived=derived, on_failure=on_failure,
+        definitions=definitions, criteria=criteria))
+    if routed is not None:
+        return routed
     problem = make_problem(equation, ics, params, unknown, units, derived)
     return derive_problem(problem, regime=regime, tolerances=tolerances, values=values,
                           window=window, checks=checks, on_failure=on_failure,
                           definitions=definitions, criteria=criteria)
+
+
+def _by_load(equation, ics, params, options: dict):
+    """A load record or a periodic load takes its own route (one generic piece derived once);
+    None for every other load."""
+    from .history_engine import derive_history, record_in
+    from .periodic_engine import derive_periodic, periodic_in
+    found = record_in(params)
+    if found is not None:
+        return derive_history(equation, ics, params, *found, **options)
+    repeating = periodic_in(params)
+    if repeating is not None:
+        return derive_periodic(equation, ics, params, *repeating, **options)
+    return None
 
 
 def derive_state_space(A, B=None, u=None, x0=None, outputs=None, D=None, *, names=None,
