@@ -44,7 +44,8 @@ PERIODIC = Rule(
     "f(t + T) = f(t), T > 0; F₁(s) = ∫₀ᵀ f(t) e^{−st} dt, the transform of one period; f of "
     "exponential order, Re s > 0",
     "E. Kreyszig, Advanced Engineering Mathematics, ch. 6 (periodic functions), from memory")
-_MAX_PERIODS = 100_000
+_MAX_PERIODS = 5_000
+"""Periods the whole response's peak search takes before it gives up (and says so)."""
 
 
 def periodic_in(params):

@@ -170,15 +170,20 @@ def response_spectrum(record: LoadHistory, periods, damping: float = 0.05, *,
         numbers = model.at(values)
         rm = record_march(problem, numbers, loads, load, given, record)
         ext = quantity_extremes(model, rm, "x", state, load, values, numbers.system_poles)
-        sd[i] = ext.whole.size if ext is not None else math.nan
-        when[i] = ext.whole.time if ext is not None else math.nan
+        found = ext is not None and ext.whole is not None
+        sd[i] = ext.whole.size if found else math.nan
+        when[i] = ext.whole.time if found else math.nan
     omega = 2 * math.pi / p
     peak_load = float(np.max(np.abs(record.values)))
     psa = omega ** 2 * sd
     factor = psa / peak_load if peak_load > 0 else np.full(p.size, math.nan)
     derivation = _generic_derivation(problem, stages, model, state, load, p)
+    missing = p[~np.isfinite(sd)]
+    notes = (f"no value (NaN) at {missing.size} period(s) from T = {missing.min():.4g} s: the "
+             "free vibration after the record has too many oscillations to search",) \
+        if missing.size else ()
     return ResponseSpectrum(p, zeta, kind, sd, omega * sd, psa, factor, when, record,
-                            derivation)
+                            derivation, notes)
 
 
 def _generic_derivation(problem, stages, model, state, load, periods):

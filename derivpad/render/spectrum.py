@@ -84,6 +84,7 @@ def spectrum_text(spec, width: int = 80) -> str:
         row = [t, spec.frequencies[i], spec.displacement[i], spec.pseudo_velocity[i],
                spec.pseudo_acceleration[i], spec.load_factor[i], spec.peak_times[i]]
         lines.append("  ".join(f"{x:12.6g}" for x in row))
+    lines += [f"Note: {n}" for n in getattr(spec, "notes", ())]
     return "\n".join(lines)
 
 

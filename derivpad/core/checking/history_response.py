@@ -29,11 +29,12 @@ _SHORT = 2 * math.pi / 40
 
 @dataclass(frozen=True, slots=True)
 class RecordExtremes:
-    """One quantity's figures: sup |y| over the whole response (``whole``), while the record
-    acts (``during``: 0 ≤ t ≤ t_end) and after it (``after``), and lim y as t → ∞ (None with
-    ``final_note`` saying why); times are absolute."""
+    """One quantity's figures: sup |y| over the whole response (``whole``; None where the time
+    after the record could not be searched), while the record acts (``during``: 0 ≤ t ≤ t_end)
+    and after it (``after``), and lim y as t → ∞ (None with ``final_note`` saying why); times
+    are absolute."""
 
-    whole: Extreme
+    whole: Extreme | None
     during: Extreme
     after: Extreme | None
     grows: object
@@ -113,7 +114,9 @@ def record_extremes(table, segment_columns, knots, node_values, slopes_at,
     final, why = final_value(tail, system_poles)
     if grows is not None:
         whole = Extreme(math.inf, math.inf, False, "unbounded")
-    elif after is not None and after.size > during.size:
+    elif after is None:  # the time after the record could not be searched: no peak
+        whole = None
+    elif after.size > during.size:
         whole = after
     else:
         whole = during

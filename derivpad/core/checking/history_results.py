@@ -128,7 +128,7 @@ def record_results(problem, numbers, model, rm, state, load, value_map):
         if gain is None or peak_load == 0.0:
             w.absent("dynamic_load_factor", "dynamic load factor", "",
                      why or "the record's load is zero throughout")
-        elif ext.grows is None:
+        elif ext.grows is None and ext.whole is not None:
             static = abs(gain) * peak_load
             how = "max|f|·|static gain|: the record's largest load held statically"
             w.add("static_response_peak_load", "static response to the peak load",
@@ -146,7 +146,12 @@ def record_results(problem, numbers, model, rm, state, load, value_map):
 
 
 def _peaks(w, ext, end: float) -> None:
-    if ext.grows is not None:
+    if ext.whole is None and ext.grows is None:
+        why = ("not found: the free vibration after the record has too many oscillations to "
+               "search")
+        w.absent("peak", "peak response", w.y_unit, why)
+        w.absent("time_of_peak", "time of peak", w.t_unit, why)
+    elif ext.grows is not None:
         w.add("peak", "peak response", math.inf, w.y_unit, "sup |y(t)| over t ≥ 0", _MODES,
               reason="unbounded: " + ext.grows.reason)
         w.add("time_of_peak", "time of peak", math.inf, w.t_unit, "", _MODES,
