@@ -40,9 +40,12 @@ def inputs_html(r: CalcRecord) -> str:
 
 def revisions_html(r: CalcRecord) -> str:
     """The record's revision history as a table."""
-    return ("<table><tr><th>Rev</th><th>Date</th><th>Description</th></tr>" + "".join(
-        f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td></tr>"
-        for v in r.revision_history) + "</table>")
+    by = any(v.by for v in r.revision_history)  # a "By" column where any entry names one
+    return ("<table><tr><th>Rev</th><th>Date</th><th>Description</th>"
+            + ("<th>By</th>" if by else "") + "</tr>" + "".join(
+                f"<tr><td>{_e(v.revision)}</td><td>{_e(v.date)}</td><td>{_e(v.description)}</td>"
+                + (f"<td>{_e(v.by)}</td>" if by else "") + "</tr>"
+                for v in r.revision_history) + "</table>")
 
 
 def record_html(r: CalcRecord) -> str:

@@ -164,3 +164,16 @@ def test_report_of_a_signed_package_fills_the_sign_off_and_touches_nothing(tmp_p
     assert pred["verification"] and all(v["passed"] for v in pred["verification"])
     assert {p: p.read_bytes() for p in pkg.rglob("*") if p.is_file()} == before
     assert audit_package(pkg, trust=keys["trust"], require=("preparer", "checker")).holds
+
+
+def test_a_trusted_key_whose_roles_do_not_include_the_signed_one(tmp_path, keys):
+    # the team's trust list lets Carl's key sign as approver only: his checker signature is
+    # named as a role the key may not hold
+    pkg = _package(tmp_path)
+    sign_package(pkg, keys["carl"], "checker")
+    pub = json.loads((keys["trust"] / "carl.pub").read_text())
+    pub["roles"] = ["approver"]
+    (keys["trust"] / "carl.pub").write_text(json.dumps(pub))
+    table = audit_package(pkg, trust=keys["trust"], require=("checker",)).table()
+    assert "ROLE checker NOT ALLOWED FOR THIS KEY (approver)" in table
+    assert not audit_package(pkg, trust=keys["trust"]).holds

@@ -38,9 +38,11 @@ class Revision:
     revision: str
     date: str
     description: str
+    by: str = ""            # who made the revision, where given
 
     def to_dict(self) -> dict:
-        return {"revision": self.revision, "date": self.date, "description": self.description}
+        out = {"revision": self.revision, "date": self.date, "description": self.description}
+        return {**out, "by": self.by} if self.by else out
 
 
 def _text(value, what: str, required: bool = False) -> str:
@@ -88,9 +90,25 @@ def _inputs(items) -> tuple[RecordInput, ...]:
 
 
 def _revisions(items) -> tuple[Revision, ...]:
-    return tuple(item if isinstance(item, Revision) else Revision(*(str(v) for v in item))
-                 for item in _triples(items, Revision, "revision-history entry",
-                                      "revision, date, description"))
+    """(revision, date, description) or (revision, date, description, by) entries."""
+    out = []
+    for i, item in enumerate(items or ()):
+        if isinstance(item, Revision):
+            out.append(item)
+            continue
+        if isinstance(item, dict):
+            item = (item.get("revision"), item.get("date"), item.get("description"),
+                    item.get("by", ""))
+        try:
+            parts = tuple(str(v) for v in item)
+        except TypeError as exc:
+            raise ParameterError(f"revision-history entry #{i} is {item!r}; give (revision, "
+                                 "date, description[, by])", "revision-history entry") from exc
+        if len(parts) not in (3, 4):
+            raise ParameterError(f"revision-history entry #{i} is {item!r}; give (revision, "
+                                 "date, description[, by])", "revision-history entry")
+        out.append(Revision(*parts))
+    return tuple(out)
 
 
 @dataclass(frozen=True, slots=True)

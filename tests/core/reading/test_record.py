@@ -67,3 +67,16 @@ def test_the_records_criteria_are_read_and_kept_as_written():
         CalcRecord(title="t", calc_number="C-1", revision="0", criteria=["peak < 3 mm"])
     with pytest.raises(UnitError):
         CalcRecord(title="t", calc_number="C-1", revision="0", criteria=["peak <= 3 furlongz"])
+
+
+def test_revision_history_may_name_who_made_each_revision():
+    from derivpad import CalcRecord
+    from derivpad.render.record import revisions_html
+    r = CalcRecord(title="t", calc_number="C-1", revision="1",
+                   revision_history=[("0", "2026-11-01", "first issue"),
+                                     ("1", "2026-12-02", "k raised", "C. Checker")])
+    assert r.revision_history[1].by == "C. Checker" and r.revision_history[0].by == ""
+    assert [e.get("by") for e in r.to_dict()["revision_history"]] == [None, "C. Checker"]
+    assert "<th>By</th>" in revisions_html(r) and "<td>C. Checker</td>" in revisions_html(r)
+    with pytest.raises(ParameterError, match="revision, date, description"):
+        CalcRecord(title="t", calc_number="C-1", revision="1", revision_history=[("0", "x")])
