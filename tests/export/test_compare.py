@@ -35,6 +35,30 @@ def _moved(old, new) -> set:
     return {k for k in set(a) | set(b) if a.get(k, {}).get("value") != b.get(k, {}).get("value")}
 
 
+def _relay_revision(tmp_path, revision: str, inductance: str):
+    """The relay example notebook as a revision of its own, with the coil's inductance set."""
+    from pathlib import Path
+    source = Path(__file__).resolve().parents[2] / "example_notebooks" / "relay_coil_current.ipynb"
+    nb = nbformat.read(source, as_version=4)
+    for cell in nb.cells:
+        cell.source = (cell.source.replace("revision='0'", f"revision={revision!r}")
+                       .replace("0.8 H", inductance))
+    path = tmp_path / f"relay{revision}.ipynb"
+    nbformat.write(nb, path)
+    return make_package(path, tmp_path / "out", pdf=False, progress=None).folder
+
+
+def test_two_revisions_of_an_example_list_exactly_the_moved_values(tmp_path):
+    # the relay example, Rev 0 with L = 0.8 H and Rev 1 with L = 0.9 H: the results listed as
+    # moved are exactly those whose values differ in the two packages' own results.json
+    old, new = _relay_revision(tmp_path, "0", "0.8 H"), _relay_revision(tmp_path, "1", "0.9 H")
+    rows = compare_packages(old, new)
+    listed = {item.split(" ", 1)[1] for part, item, _ in rows if part == "result"
+              and item.startswith("derivation-1 ") and not item.endswith(" solution")}
+    assert listed == _moved(old, new) and "time_constants" in listed
+    assert ("input", "L", "0.8 H → 0.9 H") in rows
+
+
 def test_a_changed_parameter_lists_exactly_the_moved_values(tmp_path, capsys):
     old, new = _calc(tmp_path, "0", "800 N/m"), _calc(tmp_path, "1", "900 N/m")
     rows = compare_packages(old, new)
