@@ -53,13 +53,14 @@ def _digest(data: bytes) -> str:
     return hashlib.sha256(data).hexdigest()
 
 
-def package_files(folder: Path) -> dict[str, bytes]:
-    """Every file below ``folder`` (POSIX relative path → bytes), the manifest excepted."""
+def package_files(folder: Path, signatures: bool = False) -> dict[str, bytes]:
+    """Every file below ``folder`` (POSIX relative path → bytes) but the manifest, and but the
+    signatures (which have their own list) unless ``signatures``."""
     out = {}
     for path in sorted(folder.rglob("*")):
         if path.is_file():
             rel = path.relative_to(folder).as_posix()
-            if rel != MANIFEST_NAME:
+            if rel != MANIFEST_NAME and (signatures or not rel.startswith(SIGNATURES_DIR + "/")):
                 out[rel] = path.read_bytes()
     return out
 
@@ -77,7 +78,7 @@ def _read_package(package) -> dict[str, bytes]:
     """All files of a package folder or zip, manifest included, by POSIX relative path."""
     package = Path(package)
     if package.is_dir():
-        files = package_files(package)
+        files = package_files(package, signatures=True)
         manifest = package / MANIFEST_NAME
         if manifest.is_file():
             files[MANIFEST_NAME] = manifest.read_bytes()

@@ -287,7 +287,19 @@ def _trusted(trust) -> dict[str, Signer]:
     return {s.fingerprint: s for s in map(read_public_key, paths)}
 
 
-def _check_one(name, data: bytes, manifest_digest: str, trusted: dict) -> SignatureFinding:
+def _changed_subjects(statement: dict, files: dict) -> list[str]:
+    """The signed files (the statement's subjects after the manifest) that are missing now or
+    whose SHA-256 differs from the one signed."""
+    out = []
+    for sub in (statement.get("subject") or [])[1:]:
+        name, digest = sub.get("name"), (sub.get("digest") or {}).get("sha256")
+        if name not in files or hashlib.sha256(files[name]).hexdigest() != digest:
+            out.append(str(name))
+    return out
+
+
+def _check_one(name, data: bytes, manifest_digest: str, trusted: dict,
+               files: dict) -> SignatureFinding:
     ed, _ = _crypto()
     try:
         signed = json.loads(data.decode("utf-8"))
@@ -312,6 +324,9 @@ def _check_one(name, data: bytes, manifest_digest: str, trusted: dict) -> Signat
         return found(f"SIGNER NAME {who!r} IS NOT THE KEY'S ({signer.name!r})")
     if role not in signer.roles:
         return found(f"ROLE {role} NOT ALLOWED FOR THIS KEY ({', '.join(signer.roles)})")
+    changed = _changed_subjects(st, files)
+    if changed:
+        return found(f"A SIGNED FILE CHANGED OR WENT MISSING: {', '.join(changed[:3])}")
     subject = st.get("subject") or [{}]
     if subject[0].get("digest", {}).get("sha256") != manifest_digest:
         return found("SIGNED AN OLDER OR OTHER MANIFEST")
@@ -341,6 +356,6 @@ def verify_signatures(package, trust=None) -> tuple[list[SignatureFinding], list
             problems.append(f"{n}: NOT LISTED in {SIGNED_LIST} (a signature was added aside)")
         elif hashlib.sha256(files[n]).hexdigest() != listed[n]:
             problems.append(f"{n}: ALTERED or SWAPPED (checksum differs from the list)")
-    findings = [_check_one(n, files[n], digest, trusted) for n in names]
+    findings = [_check_one(n, files[n], digest, trusted, files) for n in names]
     return findings, problems
 
