@@ -3,7 +3,8 @@
 Run:  python benchmarks/bench_history.py [--points N] [--repeat R]
 
 A single-degree-of-freedom system (m = 2 kg, c = 4 N·s/m, k = 8000 N/m) under a seeded random
-record on a uniform grid (1 ms). Timed, each the median of R runs:
+record on a uniform grid (1 ms). Timed, each the median of R runs after a warm-up
+(benchmarks/timing.py):
 - the response at every point of the record by the exact recurrence (derivpad's march), and
   the reference, scipy.signal.lsim with interp=True on the same grid (the same first-order-hold
   exactness); their ratio, and their largest difference;
@@ -20,13 +21,12 @@ points under 5 s, the spectrum under 2 s) are printed beside them.
 from __future__ import annotations
 
 import argparse
-import statistics
 import sys
-import time
 import tracemalloc
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import numpy as np  # noqa: E402
 from scipy import signal  # noqa: E402
@@ -34,6 +34,7 @@ from scipy import signal  # noqa: E402
 import derivpad  # noqa: E402
 from derivpad import forcing  # noqa: E402
 from derivpad.core.checking.history_march import march  # noqa: E402
+from timing import median_time  # noqa: E402
 
 M, C, K = 2.0, 4.0, 8000.0
 A = np.array([[0.0, 1.0], [-K / M, -C / M]])
@@ -44,16 +45,6 @@ def record(n: int):
     rng = np.random.default_rng(7)
     t = np.arange(n) * 1e-3
     return t, 500 * np.sin(2 * np.pi * 1.3 * t) + 50 * rng.normal(size=n)
-
-
-def best(fn, repeat: int) -> float:
-    fn()
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - start)
-    return statistics.median(times)
 
 
 def ours(t, f):
@@ -67,7 +58,7 @@ def reference(t, f):
 
 def derive_time(t, f, repeat: int) -> float:
     rec = forcing.history(t, f, unit="N")
-    return best(lambda: derivpad.derive(
+    return median_time(lambda: derivpad.derive(
         "m*x'' + c*x' + k*x = F", {"x(0)": 0, "x'(0)": 0},
         {"m": "2 kg", "c": "4 N*s/m", "k": "8000 N/m", "F": rec}), repeat)
 
@@ -89,14 +80,15 @@ def main() -> None:
     n = args.points
     t, f = record(n)
     diff = np.max(np.abs(ours(t, f) - reference(t, f))) / np.max(np.abs(reference(t, f)))
-    mine, ref = best(lambda: ours(t, f), args.repeat), best(lambda: reference(t, f),
-                                                            args.repeat)
+    mine = median_time(lambda: ours(t, f), args.repeat)
+    ref = median_time(lambda: reference(t, f), args.repeat)
     print(f"{n:,} points: march {mine:.3f} s, scipy lsim {ref:.3f} s, ratio march/lsim "
           f"{mine / ref:.2f} (target: under 0.5 s and at most 3); largest difference "
           f"{diff:.2e} of the peak")
     print(f"{n:,} points: derive() with every check {derive_time(t, f, args.repeat):.2f} s")
     t1, f1 = record(10 * n)
-    print(f"{10 * n:,} points: march {best(lambda: ours(t1, f1), args.repeat):.2f} s, derive() "
+    big = median_time(lambda: ours(t1, f1), args.repeat)
+    print(f"{10 * n:,} points: march {big:.2f} s, derive() "
           f"with every check {derive_time(t1, f1, 1):.2f} s (target: under 5 s)")
     small, big = march_memory(n), march_memory(10 * n)
     print(f"march memory (tracemalloc peak): {small / 2**20:.1f} MiB at {n:,} points, "
@@ -106,7 +98,7 @@ def main() -> None:
     ag = rng.normal(size=ts.size) * np.exp(-((ts - 15) / 8) ** 2) * 3
     rec = forcing.history(ts, ag, unit="m/s**2")
     periods = np.geomspace(0.05, 5.0, 200)
-    spec = best(lambda: derivpad.response_spectrum(rec, periods, 0.05), args.repeat)
+    spec = median_time(lambda: derivpad.response_spectrum(rec, periods, 0.05), args.repeat)
     print(f"response spectrum, 200 periods of a 10,000-point record: {spec:.2f} s "
           "(target: under 2 s)")
 

@@ -215,8 +215,7 @@ def derive_history(equation, ics, params, name: str, record: LoadHistory, *, unk
     steps = record_steps(problem, stages, segment, record, rm, name, state, load)
     out = assembled(HistoryDerivation, segment, generic_names, steps, verification, results,
                     acceptance, record=record, march=rm, load_name=name)
-    out._cache["numpy"] = {q: (lambda times, q=q: record_values(rm, times)[q])
-                           for q in problem.names}
+    out._cache["record_values"] = lambda times: record_values(rm, times)
     return out
 
 

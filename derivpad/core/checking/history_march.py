@@ -18,6 +18,7 @@ scan), so the whole record is a few dozen array operations, not one Python step 
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.linalg import expm
@@ -29,13 +30,12 @@ _TAYLOR = 14        # terms of the Taylor series in the gap: (0.05)^14/14! < 1e-
 _SEQUENTIAL = 32    # below this many maps the scan composes them one by one
 
 
+@dataclass(frozen=True, eq=False)
 class Transitions:
-    """Each segment's affine map z ↦ Φ z + q (segments × d × d and segments × d), with the
-    blocks of its exponential kept for the coefficients' display (``blocks`` by distinct
-    length)."""
+    """Each segment's affine map z ↦ Φ z + q (segments × d × d and segments × d)."""
 
-    def __init__(self, phi: np.ndarray, q: np.ndarray, lengths: np.ndarray, blocks: dict):
-        self.phi, self.q, self.lengths, self.blocks = phi, q, lengths, blocks
+    phi: np.ndarray
+    q: np.ndarray
 
 
 def _augmented(system: np.ndarray) -> np.ndarray:
@@ -96,7 +96,7 @@ def transitions(system, drive, constant, lengths, start_values, slopes) -> Trans
         q += x[:, None] * ((k0 @ g)[idx] * a[:, None] + (k0 @ c)[idx]
                            + (w[:, :, 2 * d:] @ g)[idx] * b[:, None])
         term = term @ m / (k + 1)
-    return Transitions(phi, q, lengths, {float(h): tops[i] for i, h in enumerate(reps[:8])})
+    return Transitions(phi, q)
 
 
 def _compose(phi: np.ndarray, q: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -135,6 +135,14 @@ class HistoryDerivation(Derivation):
     march: RecordMarch | None = None
     load_name: str = ""
 
+    def values_at(self, times) -> dict:
+        """{name: array} of every unknown and derived quantity at ``times``: the record's
+        response, every quantity from one evaluation of the state (the engine leaves the
+        evaluator in the cache); the generic segment's closed form where it is absent (a
+        derivation read back from JSON has no record)."""
+        evaluate = self._cache.get("record_values")
+        return evaluate(times) if evaluate is not None else Derivation.values_at(self, times)
+
     def __repr__(self) -> str:
         status = "verification passed" if self.verification.passed else "NOT VERIFIED"
         return (f"<Derivation of {self.problem.text!r} under a load record of "
