@@ -21,7 +21,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import ParameterError
-from .checking.history_results import quantity_extremes
+from .checking.history_results import many_peaks
 from .engine import compile_numbers, stages_for_values
 from .model import display_hook
 from .model.history import LoadHistory
@@ -31,6 +31,8 @@ __all__ = ["ResponseSpectrum", "response_spectrum"]
 _KINDS = {"support": "-a", "force": "a"}
 
 MAX_PERIODS = 2000
+_GROUP_POINTS = 4_000_000
+"""Knots of all the oscillators marched and searched together (their states held at once)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -162,17 +164,19 @@ def response_spectrum(record: LoadHistory, periods, damping: float = 0.05, *,
              load[0]: sp.Integer(0), load[1]: sp.Integer(0)}
     stages = stages_for_values(problem, "underdamped" if zeta < 1 else "overdamped", probe)
     model = compile_numbers(problem, stages, problem.symbols)
-    sd = np.empty(p.size)
-    when = np.empty(p.size)
     loads = equation_loads(problem, probe, load)
-    for i, period in enumerate(p):
-        values = {**probe, "w": 2 * math.pi / period}
-        numbers = model.at(values)
-        rm = record_march(problem, numbers, loads, load, given, record)
-        ext = quantity_extremes(model, rm, "x", state, load, values, numbers.system_poles)
-        found = ext is not None and ext.whole is not None
-        sd[i] = ext.whole.size if found else math.nan
-        when[i] = ext.whole.time if found else math.nan
+    peaks = []
+    group = max(1, _GROUP_POINTS // len(record))  # oscillators searched together, memory kept
+    for first in range(0, p.size, group):
+        cases = []
+        for period in p[first:first + group]:
+            values = {**probe, "w": 2 * math.pi / period}
+            numbers = model.at(values)
+            cases.append((record_march(problem, numbers, loads, load, given, record), values,
+                          numbers.system_poles))
+        peaks += many_peaks(model, cases, "x", state, load)
+    sd = np.array([e.size if e is not None else math.nan for e in peaks])
+    when = np.array([e.time if e is not None else math.nan for e in peaks])
     omega = 2 * math.pi / p
     peak_load = float(np.max(np.abs(record.values)))
     psa = omega ** 2 * sd

@@ -21,7 +21,8 @@ import numpy as np
 from .batch_response import batch_supremum
 from .response import Extreme, SearchLimit, final_value, growth, supremum
 
-__all__ = ["RecordExtremes", "record_extremes"]
+__all__ = ["RecordExtremes", "best_of", "candidates", "record_extremes", "segment_extremes",
+           "tail_extremes", "whole_of"]
 
 _NEAR = 0.05
 _SHORT = 2 * math.pi / 40
@@ -42,7 +43,7 @@ class RecordExtremes:
     final_note: str
 
 
-def _segment_extremes(table, columns: list, lengths: np.ndarray):
+def segment_extremes(table, columns: list, lengths: np.ndarray):
     """sup |y| on [0, h] of each candidate segment (values, local times)."""
     batch = table.batch(columns)
     got = batch_supremum(batch, 0, 0.0, lengths)
@@ -74,18 +75,14 @@ def _reach(table, columns: list, lengths: np.ndarray, ends: np.ndarray) -> np.nd
     return np.where(np.isfinite(bound), bound, np.inf)
 
 
-def record_extremes(table, segment_columns, knots, node_values, slopes_at,
-                    lengths_ok, rate, tail_columns, system_poles) -> RecordExtremes:
-    """The figures of one quantity from its values at the knots (``node_values``), y' at each
-    live segment's two ends (``slopes_at``: (start, end) arrays), the candidate segments'
-    generic-form numbers (``segment_columns(idx)`` → columns in the order of ``symbols``) and
-    the numbers after the record (``tail_columns``). ``lengths_ok``: (live segment index into
-    knots, length) of the segments of positive length; ``rate``: the system's fastest |λ|."""
+def candidates(table, segment_columns, knots, node_values, slopes_at, lengths_ok, rate):
+    """(the live segments that can hold the peak, the best knot (value, time)): segments
+    whose ends come near the best knot with y' changing sign between them, and long ones
+    whose modes' bound can reach it (see the module docstring)."""
     starts, lengths = lengths_ok
     y = np.asarray(node_values, dtype=float)
     size = np.abs(y)
     k = int(np.argmax(size))
-    best_v, best_t = float(y[k]), float(knots[k])
     ends = np.maximum(size[starts], size[starts + 1])
     d0, d1 = slopes_at
     turning = (np.sign(d0) * np.sign(d1) < 0) | (d0 == 0) | (d1 == 0)
@@ -94,30 +91,63 @@ def record_extremes(table, segment_columns, knots, node_values, slopes_at,
     if long.size:  # a long segment is searched only where its modes could reach the best
         reach = _reach(table, segment_columns(long), lengths[long], ends[long])
         near[long[reach >= size[k]]] = True
-    candidates = np.nonzero(near)[0]
-    if candidates.size:
-        values, times = _segment_extremes(table, segment_columns(candidates),
-                                          lengths[candidates])
+    return np.nonzero(near)[0], (float(y[k]), float(knots[k]))
+
+
+def best_of(node_best, starts_at, values, times) -> Extreme:
+    """The larger of the best knot and the best candidate segment (times absolute)."""
+    best_v, best_t = node_best
+    if len(values):
         j = int(np.argmax(np.abs(values)))
         if abs(values[j]) > abs(best_v):
-            best_v, best_t = float(values[j]), float(knots[starts[candidates[j]]] + times[j])
-    during = Extreme(best_v, best_t)
+            best_v, best_t = float(values[j]), float(starts_at[j] + times[j])
+    return Extreme(best_v, best_t)
+
+
+def tail_extremes(table, tail_columns: list, ends) -> list:
+    """sup |y| after the record for each case (``tail_columns``: one array per symbol), over
+    arrays where that route can stand behind a case, else one case at a time; None where the
+    search cannot be made. Times absolute (``ends``: each record's end)."""
+    got = batch_supremum(table.batch(tail_columns), 0, 0.0, math.inf)
+    out = []
+    for i in range(len(ends)):
+        if got.redo[i]:
+            try:
+                ext = supremum(table.at(tuple(float(c[i]) for c in tail_columns)), 0.0)
+            except SearchLimit:
+                out.append(None)
+                continue
+        else:
+            ext = Extreme(float(got.value[i]), float(got.time[i]), bool(got.attained[i]))
+        out.append(Extreme(ext.value, float(ends[i]) + ext.time, ext.attained, ext.note))
+    return out
+
+
+def record_extremes(table, segment_columns, knots, node_values, slopes_at,
+                    lengths_ok, rate, tail_columns, system_poles) -> RecordExtremes:
+    """The figures of one quantity from its values at the knots (``node_values``), y' at each
+    live segment's two ends (``slopes_at``: (start, end) arrays), the candidate segments'
+    generic-form numbers (``segment_columns(idx)`` → columns in the order of ``symbols``) and
+    the numbers after the record (``tail_columns``). ``lengths_ok``: (live segment index into
+    knots, length) of the segments of positive length; ``rate``: the system's fastest |λ|."""
+    starts, lengths = lengths_ok
+    found, node_best = candidates(table, segment_columns, knots, node_values, slopes_at,
+                                  lengths_ok, rate)
+    values, times = (segment_extremes(table, segment_columns(found), lengths[found])
+                     if found.size else ((), ()))
+    during = best_of(node_best, knots[starts[found]], values, times)
     tail = table.at(tuple(tail_columns))
-    grows = growth(tail, system_poles)
-    end = float(knots[-1])
-    try:
-        after = supremum(tail, 0.0)
-    except SearchLimit:
-        after = None
-    if after is not None:
-        after = Extreme(after.value, end + after.time, after.attained, after.note)
+    (after,) = tail_extremes(table, [np.array([x]) for x in tail_columns], [knots[-1]])
     final, why = final_value(tail, system_poles)
+    grows = growth(tail, system_poles)
+    return RecordExtremes(whole_of(during, after, grows), during, after, grows, final, why)
+
+
+def whole_of(during: Extreme, after, grows) -> Extreme | None:
+    """sup |y| over all t ≥ 0 from the two parts; None where the time after the record could
+    not be searched (no number is better than a wrong one)."""
     if grows is not None:
-        whole = Extreme(math.inf, math.inf, False, "unbounded")
-    elif after is None:  # the time after the record could not be searched: no peak
-        whole = None
-    elif after.size > during.size:
-        whole = after
-    else:
-        whole = during
-    return RecordExtremes(whole, during, after, grows, final, why)
+        return Extreme(math.inf, math.inf, False, "unbounded")
+    if after is None:
+        return None
+    return after if after.size > during.size else during

@@ -15,11 +15,14 @@ from types import MappingProxyType
 
 import numpy as np
 
-from .history_response import record_extremes
+from .history_response import (best_of, candidates, record_extremes, segment_extremes,
+                               tail_extremes, whole_of)
+from .response import growth
 from .history_march import fastest_rate
 from .results import _BIGGS, _MODES, _REFINE, _SHOCK, system_results, writer_for
 
-__all__ = ["quantity_extremes", "record_results", "segment_columns", "tail_modes"]
+__all__ = ["many_peaks", "quantity_extremes", "record_results", "segment_columns",
+           "tail_modes"]
 
 _WHOLE = ("sup |y(t)| over t ≥ 0: every segment of the record that can hold it searched in the "
           "generic segment's closed form (" + _REFINE + "), and all t after the record")
@@ -93,6 +96,43 @@ def quantity_extremes(model, rm, name, state, load, value_map, system_poles):
                            fastest_rate(rm.system),
                            _tail_columns(symbols, value_map, rm, state, load),
                            tuple(system_poles))
+
+
+def many_peaks(model, cases, name, state, load) -> list:
+    """sup |y| over the whole response for many cases of one generic form — ``cases``: (the
+    march, the values, the system's poles) each, e.g. the oscillators of a response spectrum
+    — with every case's candidate segments searched in one pass over arrays, and every
+    case's time after the record in another. None where a case's peak cannot be found."""
+    table = model.mode_tables()[0].get(name)
+    if table is None:
+        return [None] * len(cases)
+    symbols = model.symbols
+    found, cols, lengths, offsets, nodes = [], [], [], [0], []
+    for rm, values, _ in cases:
+        starts, seg_lengths, slopes = _live(rm)
+
+        def columns(idx, rm=rm, values=values, starts=starts, slopes=slopes):
+            return segment_columns(symbols, values, rm, state, load, starts[idx], slopes[idx])
+        idx, node_best = candidates(table, columns, rm.knot_times, rm.node_values(name),
+                                    _slopes_at(rm, name, starts, slopes),
+                                    (starts, seg_lengths), fastest_rate(rm.system))
+        found.append(rm.knot_times[starts[idx]])
+        cols.append(columns(idx))
+        lengths.append(seg_lengths[idx])
+        offsets.append(offsets[-1] + len(idx))
+        nodes.append(node_best)
+    joined = [np.concatenate([c[i] for c in cols]) for i in range(len(symbols))]
+    values, times = (segment_extremes(table, joined, np.concatenate(lengths))
+                     if offsets[-1] else (np.zeros(0), np.zeros(0)))
+    tails = [_tail_columns(symbols, v, rm, state, load) for rm, v, _ in cases]
+    after = tail_extremes(table, [np.array(c) for c in zip(*tails)],
+                          [rm.knot_times[-1] for rm, _, _ in cases])
+    out = []
+    for i, (rm, values_i, poles) in enumerate(cases):
+        part = slice(offsets[i], offsets[i + 1])
+        during = best_of(nodes[i], found[i], values[part], times[part])
+        out.append(whole_of(during, after[i], growth(table.at(tuple(tails[i])), poles)))
+    return out
 
 
 def _static_gain(rm, name) -> tuple[float | None, str]:
